@@ -1,0 +1,398 @@
+//! Twins of whole items: a free function, an `impl` block, an inline module.
+//!
+//! Before / After, with the names the twins get:
+//!
+//! | annotated item | twin |
+//! |---|---|
+//! | `fn heat(u: &[f64], out: &mut [f64], r: f64)` | `fn heat_twin<T>(u: &[T], out: &mut [T], r: T)` |
+//! | `impl Rod { fn step(&mut self, u: &mut [f64]) }` | `impl Rod { fn step_twin<T>(&mut self, u: &mut [T]) }` |
+//! | `mod solver { struct Grid { u: Vec<f64> } fn step(g: &mut Grid) }` | `mod solver_twin { struct Grid<T> { u: Vec<T> } fn step<T>(g: &mut Grid<T>) }` |
+//!
+//! Every twin carries `T: Real + BaseOps<f64>, f64: MixedOps<T>, for<'twin> &'twin T: RefOps<T>`. Items whose
+//! signature does not mention the float type are copied unchanged: they have nothing to twin, and a type
+//! parameter they do not use could not be inferred at their call sites.
+
+use crate::context::Ctx;
+use crate::pipeline;
+use crate::reject::Rejecter;
+use proc_macro2::{Span, TokenStream, TokenTree};
+use quote::{format_ident, ToTokens};
+use std::collections::BTreeSet;
+use syn::visit::Visit;
+use syn::visit_mut::VisitMut;
+use syn::{Attribute, Generics, ImplItem, Item, ItemFn, ItemImpl, ItemMod, Stmt};
+
+/// Whether the tokens mention the float type or a type that became generic.
+pub fn mentions_float(ctx: &Ctx, tokens: &impl ToTokens) -> bool {
+    fn scan(ctx: &Ctx, stream: TokenStream) -> bool {
+        stream.into_iter().any(|tree| match tree {
+            TokenTree::Ident(ident) => {
+                let name = ident.to_string();
+                ctx.float_names.contains(&name) || ctx.generic_types.contains(&name)
+            }
+            TokenTree::Group(group) => scan(ctx, group.stream()),
+            _ => false,
+        })
+    }
+    scan(ctx, tokens.to_token_stream())
+}
+
+fn mentions_ident(tree: &TokenTree, name: &str) -> bool {
+    match tree {
+        TokenTree::Ident(ident) => ident == name,
+        TokenTree::Group(group) => group.stream().into_iter().any(|t| mentions_ident(&t, name)),
+        _ => false,
+    }
+}
+
+/// Picks a name for the type parameter that no generic parameter of the item already uses.
+pub fn choose_param(ctx: &mut Ctx, item: &impl ToTokens) {
+    struct Params(BTreeSet<String>);
+    impl<'ast> Visit<'ast> for Params {
+        fn visit_type_param(&mut self, param: &'ast syn::TypeParam) {
+            self.0.insert(param.ident.to_string());
+        }
+    }
+    let mut params = Params(BTreeSet::new());
+    if let Ok(file) = syn::parse2::<syn::File>(item.to_token_stream()) {
+        params.visit_file(&file);
+    }
+    let mut name = "T".to_string();
+    let mut n = 0;
+    while params.0.contains(&name) || ctx.float_names.contains(&name) || ctx.generic_types.contains(&name) {
+        n += 1;
+        name = format!("TwinReal{n}");
+    }
+    ctx.param = syn::Ident::new(&name, Span::call_site());
+}
+
+/// Adds the twin's type parameter (after the lifetimes) and the `where` predicates to a generics list.
+fn add_generics(ctx: &Ctx, generics: &mut Generics) {
+    let param = &ctx.param;
+    let lifetimes = generics.params.iter().take_while(|p| matches!(p, syn::GenericParam::Lifetime(_))).count();
+    if let Ok(new) = syn::parse2::<syn::GenericParam>(quote::quote!(#param)) {
+        generics.params.insert(lifetimes, new);
+    }
+    let predicates = ctx.where_predicates();
+    if let Ok(clause) = syn::parse2::<syn::WhereClause>(quote::quote!(where #predicates)) {
+        generics.make_where_clause().predicates.extend(clause.predicates);
+    }
+}
+
+/// Attributes of the original that the twin must not repeat: symbol names (a second item would clash), test
+/// markers (the twin is not a test), and the audit attribute itself.
+fn keep_attribute(attr: &Attribute) -> bool {
+    let path = attr.path();
+    let last = path.segments.last().map(|s| s.ident.to_string()).unwrap_or_default();
+    let unsafe_name = matches!(&attr.meta, syn::Meta::List(list) if list.path.is_ident("unsafe"));
+    !(matches!(last.as_str(), "no_mangle" | "export_name" | "test" | "bench" | "audit") || unsafe_name)
+}
+
+/// The attributes every generated item gets: the original's, and lints the rewrite itself can trigger.
+fn twin_attributes(original: &[Attribute]) -> Vec<Attribute> {
+    let mut attrs: Vec<Attribute> = original.iter().filter(|a| keep_attribute(a)).cloned().collect();
+    // Hoisted constants keep their upper-case names as `let` bindings.
+    attrs.push(syn::parse_quote!(#[allow(non_snake_case)]));
+    attrs
+}
+
+/// Gives nested function items of a rewritten body their own type parameter: an item cannot use the outer one.
+struct NestedFns<'a> {
+    ctx: &'a Ctx,
+}
+
+impl VisitMut for NestedFns<'_> {
+    fn visit_stmt_mut(&mut self, stmt: &mut Stmt) {
+        if let Stmt::Item(Item::Fn(f)) = stmt {
+            let param = self.ctx.param.to_string();
+            let mentions_param = f.sig.to_token_stream().into_iter().any(|t| mentions_ident(&t, &param));
+            if mentions_param {
+                add_generics(self.ctx, &mut f.sig.generics);
+            }
+        }
+        syn::visit_mut::visit_stmt_mut(self, stmt);
+    }
+}
+
+/// The twin of a function, with its own type parameter, under `name`.
+pub fn twin_fn(ctx: &Ctx, f: &ItemFn, name: syn::Ident) -> ItemFn {
+    let mut twin = f.clone();
+    twin.attrs = twin_attributes(&f.attrs);
+    twin.sig.ident = name;
+    // The predicates name the base float, so they go in after the rewrite, which would turn it into `T`.
+    pipeline::rewrite(ctx, &mut twin.sig);
+    pipeline::rewrite(ctx, &mut *twin.block);
+    add_generics(ctx, &mut twin.sig.generics);
+    NestedFns { ctx }.visit_block_mut(&mut twin.block);
+    twin
+}
+
+/// The twin of a method inside an `impl` block whose self type stays as it is.
+fn twin_method(ctx: &Ctx, f: &syn::ImplItemFn, name: syn::Ident) -> syn::ImplItemFn {
+    let mut twin = f.clone();
+    twin.attrs = twin_attributes(&f.attrs);
+    twin.sig.ident = name;
+    pipeline::rewrite(ctx, &mut twin.sig);
+    pipeline::rewrite(ctx, &mut twin.block);
+    add_generics(ctx, &mut twin.sig.generics);
+    NestedFns { ctx }.visit_block_mut(&mut twin.block);
+    twin
+}
+
+/// The suffix that names the twin of a free function, a method and a module.
+pub const TWIN_SUFFIX: &str = "twin";
+
+/// The twin name of an item.
+pub fn twin_name(ident: &syn::Ident) -> syn::Ident {
+    format_ident!("{}_{}", ident, TWIN_SUFFIX, span = ident.span())
+}
+
+/// Rejects what cannot be twinned, then builds the twins of one annotated item.
+pub fn twin_item(ctx: &mut Ctx, item: &Item) -> syn::Result<Vec<Item>> {
+    choose_param(ctx, item);
+    if let Item::Mod(m) = item {
+        collect_module_facts(ctx, m);
+    }
+    let mut rejecter = Rejecter::new(ctx);
+    rejecter.visit_item(item);
+    if let Item::Impl(imp) = item {
+        if let Some((_, path, _)) = &imp.trait_ {
+            rejecter.errors.push(syn::Error::new_spanned(
+                path,
+                "twinstep cannot twin a trait impl on its own: the trait fixes the method signatures\n\
+                 hint: annotate the inline module that holds the type and the impl, so the type becomes generic too",
+            ));
+        }
+    }
+    if let Some(error) = rejecter.into_error() {
+        return Err(error);
+    }
+    match item {
+        Item::Fn(f) => {
+            if !mentions_float(ctx, &f.sig) {
+                return Err(syn::Error::new_spanned(
+                    &f.sig,
+                    format!(
+                        "twinstep found no `{}` in this signature, so the twin would have nothing to take or return\n\
+                         hint: annotate the function that takes the fields, or name a precision alias with \
+                         `#[twinstep::audit(alias = Name)]`",
+                        ctx.base.name()
+                    ),
+                ));
+            }
+            ctx.renames.insert(f.sig.ident.to_string(), twin_name(&f.sig.ident).to_string());
+            Ok(vec![Item::Fn(twin_fn(ctx, f, twin_name(&f.sig.ident)))])
+        }
+        Item::Impl(imp) => Ok(vec![Item::Impl(twin_impl_block(ctx, imp)?)]),
+        Item::Mod(m) => Ok(vec![Item::Mod(twin_module(ctx, m, twin_name(&m.ident))?)]),
+        other => Err(syn::Error::new_spanned(
+            other,
+            "`#[twinstep::audit]` goes on a function, an `impl` block or an inline module (`mod name { … }`)",
+        )),
+    }
+}
+
+/// The twins of the methods of an `impl` block, as a second `impl` block of the same type.
+fn twin_impl_block(ctx: &mut Ctx, imp: &ItemImpl) -> syn::Result<ItemImpl> {
+    let methods: Vec<&syn::ImplItemFn> = imp
+        .items
+        .iter()
+        .filter_map(|i| match i {
+            ImplItem::Fn(f) if mentions_float(ctx, &f.sig) => Some(f),
+            _ => None,
+        })
+        .collect();
+    if methods.is_empty() {
+        return Err(syn::Error::new_spanned(
+            &imp.self_ty,
+            format!(
+                "twinstep found no method of this `impl` block with `{}` in its signature\n\
+                 hint: annotate the block whose methods take or return the fields",
+                ctx.base.name()
+            ),
+        ));
+    }
+    for f in &methods {
+        ctx.renames.insert(f.sig.ident.to_string(), twin_name(&f.sig.ident).to_string());
+    }
+    let mut twin = imp.clone();
+    twin.attrs = imp.attrs.iter().filter(|a| keep_attribute(a)).cloned().collect();
+    twin.items = methods.iter().map(|f| ImplItem::Fn(twin_method(ctx, f, twin_name(&f.sig.ident)))).collect();
+    Ok(twin)
+}
+
+/// Reads what the module declares that changes how its items are twinned: precision aliases, imported
+/// constants, float constants, and which structs and enums become generic.
+fn collect_module_facts(ctx: &mut Ctx, m: &ItemMod) {
+    let Some((_, items)) = &m.content else { return };
+    for item in items {
+        match item {
+            Item::Type(alias) if ctx.is_float_type(&alias.ty) && alias.generics.params.is_empty() => {
+                ctx.float_names.insert(alias.ident.to_string());
+            }
+            Item::Use(u) => collect_const_imports(ctx, &u.tree, &mut Vec::new()),
+            _ => {}
+        }
+    }
+    for item in items {
+        let (ident, ty, expr) = match item {
+            Item::Const(c) => (&c.ident, &c.ty, &c.expr),
+            Item::Static(s) if matches!(s.mutability, syn::StaticMutability::None) => (&s.ident, &s.ty, &s.expr),
+            _ => continue,
+        };
+        if ctx.is_float_type(ty) {
+            ctx.module_consts.insert(ident.to_string(), literal_initializer(ctx, expr));
+        }
+    }
+    // A type is generic when it holds the float type or another generic type; repeat until nothing changes.
+    loop {
+        let before = ctx.generic_types.len();
+        for item in items {
+            let (ident, fields) = match item {
+                Item::Struct(s) => (&s.ident, s.fields.to_token_stream()),
+                Item::Enum(e) => (&e.ident, e.variants.to_token_stream()),
+                _ => continue,
+            };
+            if mentions_float(ctx, &fields) {
+                ctx.generic_types.insert(ident.to_string());
+            }
+        }
+        if ctx.generic_types.len() == before {
+            break;
+        }
+    }
+}
+
+/// The text of a constant's initializer when it is a float literal of the kernel's type (possibly negated).
+fn literal_initializer(ctx: &Ctx, expr: &syn::Expr) -> Option<String> {
+    match expr {
+        syn::Expr::Lit(syn::ExprLit { lit: syn::Lit::Float(f), .. }) => crate::literals::literal_text(ctx, f),
+        syn::Expr::Unary(syn::ExprUnary { op: syn::UnOp::Neg(_), expr, .. }) => {
+            literal_initializer(ctx, expr).map(|t| format!("-{t}"))
+        }
+        syn::Expr::Paren(p) => literal_initializer(ctx, &p.expr),
+        _ => None,
+    }
+}
+
+/// Records `use std::f64::consts::{PI, E as EULER}` and `use std::f64::consts as c`.
+fn collect_const_imports(ctx: &mut Ctx, tree: &syn::UseTree, prefix: &mut Vec<String>) {
+    let under_consts = prefix.len() >= 2 && prefix[prefix.len() - 1] == "consts" && ctx.float_names.contains(&prefix[prefix.len() - 2]);
+    match tree {
+        syn::UseTree::Path(p) => {
+            prefix.push(p.ident.to_string());
+            collect_const_imports(ctx, &p.tree, prefix);
+            prefix.pop();
+        }
+        syn::UseTree::Group(g) => {
+            for t in &g.items {
+                collect_const_imports(ctx, t, prefix);
+            }
+        }
+        syn::UseTree::Name(n) if under_consts => {
+            ctx.const_imports.insert(n.ident.to_string(), n.ident.to_string());
+        }
+        syn::UseTree::Rename(r) if under_consts => {
+            ctx.const_imports.insert(r.rename.to_string(), r.ident.to_string());
+        }
+        syn::UseTree::Name(n) if n.ident == "consts" && prefix.last().is_some_and(|l| ctx.float_names.contains(l)) => {
+            ctx.const_modules.insert("consts".to_string());
+        }
+        syn::UseTree::Rename(r) if r.ident == "consts" && prefix.last().is_some_and(|l| ctx.float_names.contains(l)) => {
+            ctx.const_modules.insert(r.rename.to_string());
+        }
+        _ => {}
+    }
+}
+
+/// The twin of an inline module: a sibling module whose structs are generic and whose functions are twins.
+fn twin_module(ctx: &Ctx, m: &ItemMod, name: syn::Ident) -> syn::Result<ItemMod> {
+    let Some((brace, items)) = &m.content else {
+        return Err(syn::Error::new_spanned(
+            m,
+            "twinstep can only twin an inline module (`mod name { … }`): the attribute cannot see a module's file\n\
+             hint: put the kernel in an inline module, or annotate the functions in the file",
+        ));
+    };
+    let mut twins = Vec::with_capacity(items.len());
+    for item in items {
+        twins.push(twin_module_item(ctx, item)?);
+    }
+    let mut twin = m.clone();
+    twin.attrs = m.attrs.iter().filter(|a| keep_attribute(a)).cloned().collect();
+    twin.ident = name;
+    twin.content = Some((*brace, twins));
+    Ok(twin)
+}
+
+/// One item of an annotated module, twinned if it has anything to twin, else as it is.
+fn twin_module_item(ctx: &Ctx, item: &Item) -> syn::Result<Item> {
+    Ok(match item {
+        Item::Struct(s) if ctx.generic_types.contains(&s.ident.to_string()) => {
+            let mut twin = s.clone();
+            add_type_param(ctx, &mut twin.generics);
+            for field in twin.fields.iter_mut() {
+                pipeline::rewrite(ctx, field);
+            }
+            Item::Struct(twin)
+        }
+        Item::Enum(e) if ctx.generic_types.contains(&e.ident.to_string()) => {
+            let mut twin = e.clone();
+            add_type_param(ctx, &mut twin.generics);
+            for variant in twin.variants.iter_mut() {
+                pipeline::rewrite(ctx, variant);
+            }
+            Item::Enum(twin)
+        }
+        Item::Fn(f) if mentions_float(ctx, &f.sig) => Item::Fn(twin_fn(ctx, f, f.sig.ident.clone())),
+        Item::Impl(imp) if mentions_float(ctx, &imp.self_ty) => {
+            let mut twin = imp.clone();
+            pipeline::rewrite(ctx, &mut *twin.self_ty);
+            if let Some((_, path, _)) = &mut twin.trait_ {
+                let mut ty: syn::Type = syn::Type::Path(syn::TypePath { qself: None, path: path.clone() });
+                pipeline::rewrite(ctx, &mut ty);
+                if let syn::Type::Path(p) = ty {
+                    *path = p.path;
+                }
+            }
+            for inner in twin.items.iter_mut() {
+                if let ImplItem::Fn(f) = inner {
+                    f.attrs.push(syn::parse_quote!(#[allow(non_snake_case)]));
+                }
+                pipeline::rewrite(ctx, inner);
+                if let ImplItem::Fn(f) = inner {
+                    NestedFns { ctx }.visit_block_mut(&mut f.block);
+                }
+            }
+            add_generics(ctx, &mut twin.generics);
+            Item::Impl(twin)
+        }
+        Item::Impl(imp) if imp.trait_.is_none() => {
+            // A type without floats whose methods take some: each such method gets its own parameter.
+            let mut twin = imp.clone();
+            for inner in twin.items.iter_mut() {
+                if let ImplItem::Fn(f) = inner {
+                    if mentions_float(ctx, &f.sig) {
+                        *f = twin_method(ctx, f, f.sig.ident.clone());
+                    }
+                }
+            }
+            Item::Impl(twin)
+        }
+        Item::Mod(inner) if inner.content.is_some() => {
+            let mut child = ctx.clone();
+            collect_module_facts(&mut child, inner);
+            Item::Mod(twin_module(&child, inner, inner.ident.clone())?)
+        }
+        other => other.clone(),
+    })
+}
+
+/// Adds the bare type parameter (no bounds) to a struct's or enum's generics, after its lifetimes.
+fn add_type_param(ctx: &Ctx, generics: &mut Generics) {
+    let param = &ctx.param;
+    let lifetimes = generics.params.iter().take_while(|p| matches!(p, syn::GenericParam::Lifetime(_))).count();
+    if let Ok(new) = syn::parse2::<syn::GenericParam>(quote::quote!(#param)) {
+        generics.params.insert(lifetimes, new);
+    }
+}

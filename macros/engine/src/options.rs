@@ -1,0 +1,69 @@
+//! The attribute's arguments: `#[twinstep::audit]`, `#[twinstep::audit(float = f32)]`,
+//! `#[twinstep::audit(alias = Real)]`, or both, comma-separated. A bare `f32` or `f64` is short for `float = …`.
+
+use crate::context::BaseFloat;
+use syn::parse::{Parse, ParseStream};
+use syn::{Ident, Token};
+
+mod kw {
+    syn::custom_keyword!(float);
+    syn::custom_keyword!(alias);
+    syn::custom_keyword!(f32);
+    syn::custom_keyword!(f64);
+}
+
+/// What the attribute asked for.
+#[derive(Clone, Debug)]
+pub struct Options {
+    /// The float type the kernel computes in.
+    pub base: BaseFloat,
+    /// Names of precision aliases (`type Real = f64;`) that mean the float type.
+    pub aliases: Vec<String>,
+}
+
+impl Default for Options {
+    fn default() -> Options {
+        Options { base: BaseFloat::F64, aliases: Vec::new() }
+    }
+}
+
+fn parse_float(input: ParseStream) -> syn::Result<BaseFloat> {
+    let lookahead = input.lookahead1();
+    if lookahead.peek(kw::f64) {
+        input.parse::<kw::f64>()?;
+        Ok(BaseFloat::F64)
+    } else if lookahead.peek(kw::f32) {
+        input.parse::<kw::f32>()?;
+        Ok(BaseFloat::F32)
+    } else {
+        Err(lookahead.error())
+    }
+}
+
+impl Parse for Options {
+    fn parse(input: ParseStream) -> syn::Result<Options> {
+        let mut options = Options::default();
+        while !input.is_empty() {
+            let lookahead = input.lookahead1();
+            if lookahead.peek(kw::float) {
+                input.parse::<kw::float>()?;
+                input.parse::<Token![=]>()?;
+                options.base = parse_float(input)?;
+            } else if lookahead.peek(kw::alias) {
+                input.parse::<kw::alias>()?;
+                input.parse::<Token![=]>()?;
+                let name: Ident = input.parse()?;
+                options.aliases.push(name.to_string());
+            } else if lookahead.peek(kw::f64) || lookahead.peek(kw::f32) {
+                options.base = parse_float(input)?;
+            } else {
+                return Err(lookahead.error());
+            }
+            if input.is_empty() {
+                break;
+            }
+            input.parse::<Token![,]>()?;
+        }
+        Ok(options)
+    }
+}

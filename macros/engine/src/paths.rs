@@ -1,0 +1,123 @@
+//! Pass: paths through the float type, mathematical constants, and float constants of the module.
+//!
+//! Before: `f64::max(a, b)`, `f64::EPSILON`, `std::f64::consts::PI`, `f64::from(n)`, `DT` (a module `const`)
+//! After:  `<T as ::twinstep::Real>::max(a, b)`, `<T as ::twinstep::Real>::epsilon()`,
+//!         `<T as ::twinstep::Real>::constant(::twinstep::Constant::PI)`, `::twinstep::twin::to_real::<T, _>(n)`,
+//!         `<T as ::twinstep::Real>::lit(DT, "0.01")`
+//!
+//! Constants are held by a lens as the real numbers they name; a module constant whose initializer is a literal
+//! keeps that literal's text, any other is taken as an exact input.
+
+use crate::context::{replace_expr, BaseFloat, Ctx};
+use quote::quote_spanned;
+use syn::spanned::Spanned;
+use syn::visit_mut::{self, VisitMut};
+use syn::{Expr, Path};
+
+/// The associated constants of the float types and the [`Real`] function that gives each.
+const FLOAT_CONSTS: [(&str, &str); 7] = [
+    ("EPSILON", "epsilon"),
+    ("MAX", "max_value"),
+    ("MIN", "min_value"),
+    ("MIN_POSITIVE", "min_positive"),
+    ("INFINITY", "infinity"),
+    ("NEG_INFINITY", "neg_infinity"),
+    ("NAN", "nan"),
+];
+
+/// The associated functions of the float types that the `Real` trait provides under the same name.
+pub const REAL_METHODS: [&str; 45] = [
+    "sqrt", "cbrt", "abs", "recip", "powi", "powf", "exp", "exp2", "exp_m1", "ln", "ln_1p", "log", "log2",
+    "log10", "sin", "cos", "tan", "sin_cos", "asin", "acos", "atan", "atan2", "sinh", "cosh", "tanh", "hypot",
+    "mul_add", "max", "min", "clamp", "signum", "copysign", "floor", "ceil", "round", "trunc", "fract",
+    "to_degrees", "to_radians", "is_nan", "is_finite", "is_infinite", "is_sign_negative", "is_sign_positive",
+    "total_cmp",
+];
+
+/// The constants of `std::f64::consts`.
+pub const MATH_CONSTS: [&str; 19] = [
+    "PI", "TAU", "E", "SQRT_2", "LN_2", "LN_10", "LOG2_E", "LOG10_E", "LOG2_10", "LOG10_2", "FRAC_PI_2",
+    "FRAC_PI_3", "FRAC_PI_4", "FRAC_PI_6", "FRAC_PI_8", "FRAC_1_PI", "FRAC_2_PI", "FRAC_2_SQRT_PI",
+    "FRAC_1_SQRT_2",
+];
+
+/// Rewrites paths that go through the float type or name a float constant.
+pub struct PathRewriter<'a> {
+    pub ctx: &'a Ctx,
+}
+
+impl PathRewriter<'_> {
+    /// The name of the `std::f64::consts` constant a path names, if it names one.
+    fn math_const(&self, path: &Path) -> Option<String> {
+        let names: Vec<String> = path.segments.iter().map(|s| s.ident.to_string()).collect();
+        let last = names.last()?;
+        if !MATH_CONSTS.contains(&last.as_str()) {
+            return None;
+        }
+        let n = names.len();
+        let through_float = n >= 3 && names[n - 2] == "consts" && self.ctx.float_names.contains(&names[n - 3]);
+        let through_alias = n == 2 && self.ctx.const_modules.contains(&names[0]);
+        let imported = n == 1 && path.leading_colon.is_none() && self.ctx.const_imports.contains_key(last);
+        if through_float || through_alias {
+            Some(last.clone())
+        } else if imported {
+            self.ctx.const_imports.get(last).cloned()
+        } else {
+            None
+        }
+    }
+}
+
+impl VisitMut for PathRewriter<'_> {
+    fn visit_expr_mut(&mut self, expr: &mut Expr) {
+        let Expr::Path(p) = expr else {
+            visit_mut::visit_expr_mut(self, expr);
+            return;
+        };
+        if p.qself.is_some() || p.path.segments.iter().any(|s| !s.arguments.is_none()) {
+            visit_mut::visit_expr_mut(self, expr);
+            return;
+        }
+        let span = p.path.span();
+        let real = self.ctx.real(span);
+        if let Some(name) = self.math_const(&p.path) {
+            let name = syn::Ident::new(&name, span);
+            replace_expr(expr, quote_spanned!(span=> #real::constant(::twinstep::Constant::#name)));
+            return;
+        }
+        let segments: Vec<&syn::Ident> = p.path.segments.iter().map(|s| &s.ident).collect();
+        match segments.as_slice() {
+            [float, name] if p.path.leading_colon.is_none() && self.ctx.is_float_ident(float) => {
+                let name_str = name.to_string();
+                if let Some((_, function)) = FLOAT_CONSTS.iter().find(|(c, _)| name_str == *c) {
+                    let function = syn::Ident::new(function, name.span());
+                    replace_expr(expr, quote_spanned!(span=> #real::#function()));
+                } else if REAL_METHODS.contains(&name_str.as_str()) {
+                    let name = (*name).clone();
+                    replace_expr(expr, quote_spanned!(span=> #real::#name));
+                } else if name_str == "from" {
+                    let t = self.ctx.param_at(span);
+                    replace_expr(expr, quote_spanned!(span=> ::twinstep::twin::to_real::<#t, _>));
+                } else if name_str.starts_with(|c: char| c.is_lowercase()) {
+                    // Another trait's function (`f64::partial_cmp`): the parameter's bounds provide it.
+                    let t = self.ctx.param_at(span);
+                    let name = (*name).clone();
+                    replace_expr(expr, quote_spanned!(span=> #t::#name));
+                }
+            }
+            [name] if p.path.leading_colon.is_none() => {
+                if let Some(text) = self.ctx.module_consts.get(&name.to_string()) {
+                    let name = (*name).clone();
+                    let tokens = match (text, self.ctx.base) {
+                        (Some(text), BaseFloat::F64) => quote_spanned!(span=> #real::lit(#name, #text)),
+                        (Some(text), BaseFloat::F32) => quote_spanned!(span=> #real::lit_f32(#name, #text)),
+                        (None, BaseFloat::F64) => quote_spanned!(span=> #real::from_f64(#name)),
+                        (None, BaseFloat::F32) => quote_spanned!(span=> #real::from_f32(#name)),
+                    };
+                    replace_expr(expr, tokens);
+                }
+            }
+            _ => {}
+        }
+    }
+}

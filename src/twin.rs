@@ -1,0 +1,132 @@
+//! Conversion helpers that the rewrite emits in place of `as` casts.
+//!
+//! The rewrite cannot see types, so a cast `x as usize` in a kernel may convert an integer or a float. Both go
+//! through [`IndexCast`]: integers convert exactly as `as` would, and a [`Real`] converts its primal (Rust's
+//! saturating `as`) while a lens records an index instability when its reference rounds to another integer. A cast
+//! into the float type, `n as f64`, goes through [`IntoReal`]: integers round as `as` would in the primal format
+//! and are exact in the reference.
+
+use crate::Real;
+
+/// A value a kernel converts into its float type with `as f64` (or `as f32`).
+pub trait IntoReal {
+    /// The conversion into a twin scalar.
+    fn into_real<T: Real>(self) -> T;
+}
+
+macro_rules! into_real_signed {
+    ($($int:ty)*) => {$(
+        impl IntoReal for $int {
+            #[inline(always)]
+            fn into_real<T: Real>(self) -> T {
+                T::from_i128(self as i128)
+            }
+        }
+    )*};
+}
+macro_rules! into_real_unsigned {
+    ($($int:ty)*) => {$(
+        impl IntoReal for $int {
+            #[inline(always)]
+            fn into_real<T: Real>(self) -> T {
+                T::from_u128(self as u128)
+            }
+        }
+    )*};
+}
+into_real_signed!(i8 i16 i32 i64 i128 isize);
+into_real_unsigned!(u8 u16 u32 u64 u128 usize);
+
+impl IntoReal for bool {
+    #[inline(always)]
+    fn into_real<T: Real>(self) -> T {
+        T::from_u128(self as u128)
+    }
+}
+
+/// `x as f64` where `x` is already of the twin's scalar type: the identity (the original cast was a no-op).
+#[inline(always)]
+pub fn same<T: Real>(x: T) -> T {
+    x
+}
+
+/// `n as f64` in a twin.
+#[inline(always)]
+pub fn to_real<T: Real, S: IntoReal>(s: S) -> T {
+    s.into_real()
+}
+
+/// A value a kernel converts to an integer type with `as`.
+///
+/// The conversions return a 128-bit value and whether the source was a float: `as` truncates integers to the
+/// target width but saturates floats at the target's range, so the final narrowing step differs.
+pub trait IndexCast {
+    /// The value as a signed 128-bit integer, and whether it came from a float.
+    #[track_caller]
+    fn index_i128(self) -> (i128, bool);
+    /// The value as an unsigned 128-bit integer, and whether it came from a float.
+    #[track_caller]
+    fn index_u128(self) -> (u128, bool);
+}
+
+macro_rules! index_cast_int {
+    ($($int:ty)*) => {$(
+        impl IndexCast for $int {
+            #[inline(always)]
+            fn index_i128(self) -> (i128, bool) {
+                (self as i128, false)
+            }
+            #[inline(always)]
+            fn index_u128(self) -> (u128, bool) {
+                (self as u128, false)
+            }
+        }
+    )*};
+}
+index_cast_int!(i8 i16 i32 i64 i128 isize u8 u16 u32 u64 u128 usize bool char);
+
+impl<T: Real> IndexCast for T {
+    #[inline(always)]
+    #[track_caller]
+    fn index_i128(self) -> (i128, bool) {
+        (self.to_i128(), true)
+    }
+    #[inline(always)]
+    #[track_caller]
+    fn index_u128(self) -> (u128, bool) {
+        (self.to_u128(), true)
+    }
+}
+
+macro_rules! index_targets {
+    ($($name:ident: $int:ty, $via:ident, $wide:ty;)*) => {$(
+        /// `x as` the integer type of the same name, in a twin.
+        ///
+        /// An integer converts exactly as `as` does (sign-extend or zero-extend to 128 bits, then truncate); a
+        /// float converts its primal with the saturation of `as` (NaN gives 0).
+        #[inline(always)]
+        #[track_caller]
+        pub fn $name<S: IndexCast>(s: S) -> $int {
+            let (wide, from_float) = s.$via();
+            if from_float {
+                wide.clamp(<$int>::MIN as $wide, <$int>::MAX as $wide) as $int
+            } else {
+                wide as $int
+            }
+        }
+    )*};
+}
+index_targets! {
+    to_usize: usize, index_u128, u128;
+    to_u8: u8, index_u128, u128;
+    to_u16: u16, index_u128, u128;
+    to_u32: u32, index_u128, u128;
+    to_u64: u64, index_u128, u128;
+    to_u128: u128, index_u128, u128;
+    to_isize: isize, index_i128, i128;
+    to_i8: i8, index_i128, i128;
+    to_i16: i16, index_i128, i128;
+    to_i32: i32, index_i128, i128;
+    to_i64: i64, index_i128, i128;
+    to_i128: i128, index_i128, i128;
+}
