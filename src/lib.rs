@@ -8,6 +8,8 @@
 //!
 //! twinstep judges rounding error only, not discretization or modelling error.
 
+pub mod events;
+pub mod lens;
 pub mod real;
 pub mod twin;
 

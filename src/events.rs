@@ -1,0 +1,81 @@
+//! Events a lens reports while a twin runs: a comparison or an integer conversion its reference cannot decide,
+//! a NaN or an infinity. Lenses call [`record`] from `#[track_caller]` operator impls, so the site is the user's
+//! own file, line and column; the audit driver drains the events of each step with [`drain`].
+//!
+//! The collector is thread-local: each lens of an audit runs on its own thread, and a twin never shares scalars
+//! across threads within one step in a way that would need ordering between them (rayon workers inside a kernel
+//! record into their own collectors, which [`drain`] does not see; see DEVELOPERS.md).
+
+use std::cell::RefCell;
+use std::collections::BTreeMap;
+use std::panic::Location;
+
+/// What happened.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord, Hash)]
+pub enum EventKind {
+    /// A comparison followed the primal while the reference could not decide it.
+    BranchInstability,
+    /// A float→integer conversion followed the primal while the reference allows another integer.
+    IndexInstability,
+    /// An operation produced NaN.
+    Nan,
+    /// An operation produced an infinity from finite operands.
+    Infinity,
+    /// A division by a reference that contains zero.
+    DivisionByZeroEnclosure,
+}
+
+impl EventKind {
+    /// The name used in traces and reports.
+    #[must_use]
+    pub fn name(self) -> &'static str {
+        match self {
+            EventKind::BranchInstability => "branch_instability",
+            EventKind::IndexInstability => "index_instability",
+            EventKind::Nan => "nan",
+            EventKind::Infinity => "infinity",
+            EventKind::DivisionByZeroEnclosure => "division_by_zero_enclosure",
+        }
+    }
+}
+
+/// A source location in the user's kernel.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord, Hash)]
+pub struct Site {
+    pub file: &'static str,
+    pub line: u32,
+    pub column: u32,
+}
+
+impl Site {
+    /// The site of a caller location.
+    #[must_use]
+    pub fn from_location(location: &'static Location<'static>) -> Site {
+        Site { file: location.file(), line: location.line(), column: location.column() }
+    }
+}
+
+impl std::fmt::Display for Site {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        write!(f, "{}:{}:{}", self.file, self.line, self.column)
+    }
+}
+
+thread_local! {
+    static EVENTS: RefCell<BTreeMap<(EventKind, Site), u64>> = const { RefCell::new(BTreeMap::new()) };
+}
+
+/// Records one event at the caller's caller (the user's operator or method call).
+#[track_caller]
+#[inline(never)]
+#[cold]
+pub fn record(kind: EventKind) {
+    let site = Site::from_location(Location::caller());
+    EVENTS.with(|events| *events.borrow_mut().entry((kind, site)).or_insert(0) += 1);
+}
+
+/// Takes the events recorded on this thread since the last drain: kind, site and how many times.
+#[must_use]
+pub fn drain() -> Vec<(EventKind, Site, u64)> {
+    EVENTS.with(|events| std::mem::take(&mut *events.borrow_mut()).into_iter().map(|((k, s), n)| (k, s, n)).collect())
+}
