@@ -36,8 +36,18 @@ fn parse_float(input: ParseStream) -> syn::Result<BaseFloat> {
         input.parse::<kw::f32>()?;
         Ok(BaseFloat::F32)
     } else {
-        Err(lookahead.error())
+        Err(with_hint(
+            "unsupported float type",
+            lookahead.error(),
+            "twinstep twins kernels written in `f64` or `f32`; lower precisions are audited by running such a \
+             kernel's twin with an emulating lens",
+        ))
     }
+}
+
+/// The parser's own "expected …" message after what is wrong, with what to write instead on a `hint:` line.
+fn with_hint(what: &str, error: syn::Error, hint: &str) -> syn::Error {
+    syn::Error::new(error.span(), format!("{what}: {error}\nhint: {hint}"))
 }
 
 impl Parse for Options {
@@ -57,7 +67,11 @@ impl Parse for Options {
             } else if lookahead.peek(kw::f64) || lookahead.peek(kw::f32) {
                 options.base = parse_float(input)?;
             } else {
-                return Err(lookahead.error());
+                return Err(with_hint(
+                    "unknown `#[twinstep::audit]` argument",
+                    lookahead.error(),
+                    "write `#[twinstep::audit]`, `#[twinstep::audit(float = f32)]` or `#[twinstep::audit(alias = Real)]`",
+                ));
             }
             if input.is_empty() {
                 break;

@@ -1,15 +1,36 @@
 //! Finds the constructs a twin cannot reproduce soundly, on the user's own tokens, all of them in one walk.
 //!
-//! Each rejection is a spanned error with a hint of what to do instead. The caller emits the original item
-//! unchanged beside the errors, so that one rejected construct does not cascade into errors elsewhere.
+//! A twin replaces the float type by a type parameter whose values may be lenses (a primal paired with a
+//! reference). Anything that treats a float as bits or memory (pointer casts, `transmute`, `to_bits`), computes
+//! outside Rust's arithmetic (inline assembly, SIMD intrinsics), matches a float against a constant, or would need
+//! an impl the orphan rules forbid once the float is generic, has no sound twin. Each such construct becomes one
+//! spanned error, `twinstep cannot twin <construct>: <why>` with a `hint:` line saying what to do instead, and
+//! the walk goes on, so the user sees every problem of the item in one build. The caller emits the original item
+//! unchanged beside the errors, so that a rejected construct does not cascade into errors elsewhere.
+//!
+//! The walk also looks into macro invocations whose input parses as expressions (`println!("{}", x.to_bits())`),
+//! because the token pass rewrites those too and a rejected construct there would otherwise surface as a
+//! confusing type error in the twin.
 
 use crate::context::Ctx;
+use proc_macro2::{TokenStream, TokenTree};
+use quote::ToTokens;
 use syn::visit::{self, Visit};
-use syn::{ExprCast, ExprMethodCall, Macro, Pat, Path, Type};
+use syn::{Expr, ExprCast, ExprMethodCall, ExprPath, Item, Macro, Pat, Path, Type};
 
-/// Methods that read or write a float's storage.
-const BIT_METHODS: [&str; 8] =
-    ["to_bits", "from_bits", "to_le_bytes", "to_be_bytes", "to_ne_bytes", "from_le_bytes", "from_be_bytes", "from_ne_bytes"];
+/// Methods that read a float's storage. Only floats have `to_bits`, so any receiver is rejected; the byte
+/// conversions also exist on integers, so their method form is rejected only on a visibly float receiver.
+const BITS_METHODS: [&str; 2] = ["to_bits", "from_bits"];
+
+/// The byte conversions of the primitive floats (and integers).
+const BYTES_METHODS: [&str; 6] =
+    ["to_le_bytes", "to_be_bytes", "to_ne_bytes", "from_le_bytes", "from_be_bytes", "from_ne_bytes"];
+
+/// Functions that reinterpret memory as another type.
+const TRANSMUTES: [&str; 2] = ["transmute", "transmute_copy"];
+
+/// Crates whose whole purpose is reinterpreting plain data as bytes or other types.
+const REINTERPRETING_CRATES: [&str; 2] = ["bytemuck", "zerocopy"];
 
 /// Macros that emit machine code.
 const ASM_MACROS: [&str; 3] = ["asm", "global_asm", "naked_asm"];
@@ -18,15 +39,19 @@ const ASM_MACROS: [&str; 3] = ["asm", "global_asm", "naked_asm"];
 pub struct Rejecter<'a> {
     pub ctx: &'a Ctx,
     pub errors: Vec<syn::Error>,
+    /// How many items deep the walk is: 0 before the annotated item itself is entered.
+    item_depth: usize,
 }
 
 impl<'a> Rejecter<'a> {
     /// A rejecter with no errors yet.
     pub fn new(ctx: &'a Ctx) -> Rejecter<'a> {
-        Rejecter { ctx, errors: Vec::new() }
+        Rejecter { ctx, errors: Vec::new(), item_depth: 0 }
     }
 
-    fn reject(&mut self, tokens: impl quote::ToTokens, message: &str) {
+    /// Records one rejection, spanned on the user's tokens, in the one shape every message has.
+    fn reject(&mut self, tokens: impl ToTokens, construct: &str, why: &str, hint: &str) {
+        let message = format!("twinstep cannot twin {construct}: {why}\nhint: {hint}");
         self.errors.push(syn::Error::new_spanned(tokens, message));
     }
 
@@ -38,29 +63,166 @@ impl<'a> Rejecter<'a> {
         })
     }
 
-    /// Whether the path goes through SIMD intrinsics or the portable SIMD module.
+    /// Whether the path goes through the SIMD modules of the standard library or names a SIMD intrinsic or
+    /// vector type.
     fn is_simd_path(path: &Path) -> bool {
         let names: Vec<String> = path.segments.iter().map(|s| s.ident.to_string()).collect();
-        let arch = names.windows(2).any(|w| (w[0] == "std" || w[0] == "core") && (w[1] == "arch" || w[1] == "simd"));
-        let intrinsic = names.iter().any(|n| n.starts_with("_mm") || n.starts_with("__m") || n.starts_with("float64x") || n.starts_with("float32x"));
-        arch || intrinsic
+        let std_module =
+            names.windows(2).any(|w| matches!((w[0].as_str(), w[1].as_str()), ("std" | "core", "arch" | "simd")));
+        std_module || names.iter().any(|name| is_simd_name(name))
+    }
+
+    /// Whether an expression is visibly of the float type without knowing types: a float literal of the kernel's
+    /// type or a cast into it.
+    fn is_visibly_float(&self, expr: &Expr) -> bool {
+        match expr {
+            Expr::Lit(lit) => {
+                matches!(&lit.lit, syn::Lit::Float(f) if f.suffix().is_empty() || f.suffix() == self.ctx.base.name())
+            }
+            Expr::Cast(cast) => self.ctx.is_float_type(&cast.ty),
+            Expr::Paren(paren) => self.is_visibly_float(&paren.expr),
+            _ => false,
+        }
+    }
+
+    /// Rejects `f64::to_bits`, `f64::from_bits` and the byte conversions named through the float type.
+    fn check_float_storage_path(&mut self, tokens: impl ToTokens, float_named: bool, function: &str) {
+        if float_named && (BITS_METHODS.contains(&function) || BYTES_METHODS.contains(&function)) {
+            self.reject_storage_access(tokens, function);
+        }
+    }
+
+    fn reject_storage_access(&mut self, tokens: impl ToTokens, function: &str) {
+        self.reject(
+            tokens,
+            &format!("`{function}`"),
+            "it works on the float's bits, and a twin's value may be a lens, which has no such bits",
+            "move the bit manipulation out of the annotated kernel, or compare values with `==` / `<`",
+        );
+    }
+
+    /// Walks the input of a macro invocation when it is a list of expressions separated by `,` or `;`.
+    ///
+    /// Why chunks and not one parse: `vec![x; n]`, `assert!(a < b, "…")` and `println!("{}", x)` all split into
+    /// plain expressions at their top-level separators; chunks that are not expressions (`azip!` bindings, format
+    /// options) are skipped, since nothing rejected can hide in them that the twin would accept silently.
+    fn visit_macro_input(&mut self, tokens: &TokenStream) {
+        let mut chunk = TokenStream::new();
+        let trees: Vec<TokenTree> = tokens.clone().into_iter().collect();
+        for (index, tree) in trees.iter().enumerate() {
+            let separator = matches!(tree, TokenTree::Punct(p) if p.as_char() == ',' || p.as_char() == ';');
+            if !separator {
+                chunk.extend([tree.clone()]);
+            }
+            if separator || index + 1 == trees.len() {
+                if let Ok(expr) = syn::parse2::<Expr>(std::mem::take(&mut chunk)) {
+                    self.visit_expr(&expr);
+                }
+            }
+        }
+    }
+
+    /// The annotated item itself must be something the engine twins.
+    fn check_annotated_item(&mut self, item: &Item) {
+        let what = match item {
+            Item::Fn(_) | Item::Impl(_) | Item::Mod(_) => return,
+            Item::Struct(_) => "a struct",
+            Item::Enum(_) => "an enum",
+            Item::Union(_) => "a union",
+            Item::Trait(_) => "a trait",
+            Item::Const(_) => "a constant",
+            Item::Static(_) => "a static",
+            Item::Type(_) => "a type alias",
+            Item::Use(_) => "a `use` declaration",
+            Item::Macro(_) => "a macro invocation or definition",
+            _ => "this item",
+        };
+        self.reject(
+            item,
+            &format!("{what} on its own"),
+            "`#[twinstep::audit]` goes on a function, an `impl` block or an inline module (`mod name { … }`)",
+            "annotate the kernel function, or an inline module that holds this item together with the functions \
+             that use it",
+        );
+    }
+}
+
+/// Whether a name is a SIMD intrinsic or vector type: `_mm_add_pd`, `_mm256_add_pd`, `__m256d`, `float64x2_t`
+/// (Arm NEON), `f64x4` (portable SIMD and SIMD crates).
+///
+/// The prefixes are those of Intel's intrinsics guide and Arm's NEON reference (common practice, no source);
+/// requiring digits after `__m` and `f64x` keeps ordinary names such as `__max` or `f64xs` out.
+fn is_simd_name(name: &str) -> bool {
+    let digits_after =
+        |prefix: &str| name.strip_prefix(prefix).is_some_and(|rest| rest.starts_with(|c: char| c.is_ascii_digit()));
+    let only_digits_after = |prefix: &str| {
+        name.strip_prefix(prefix).is_some_and(|rest| !rest.is_empty() && rest.chars().all(|c| c.is_ascii_digit()))
+    };
+    let intel_intrinsic = name.starts_with("_mm_") || digits_after("_mm");
+    let intel_vector = digits_after("__m");
+    let neon_vector = name.starts_with("float64x") || name.starts_with("float32x");
+    let portable_vector = only_digits_after("f64x") || only_digits_after("f32x");
+    intel_intrinsic || intel_vector || neon_vector || portable_vector
+}
+
+/// Whether a pattern's own tokens hold a float literal (`0.5`, `-1.0`, `0.0..=1.0`).
+fn has_float_literal(tokens: TokenStream) -> bool {
+    tokens.into_iter().any(|tree| match tree {
+        TokenTree::Literal(literal) => {
+            matches!(syn::parse2::<syn::Lit>(literal.into_token_stream()), Ok(syn::Lit::Float(_)))
+        }
+        TokenTree::Group(group) => has_float_literal(group.stream()),
+        _ => false,
+    })
+}
+
+/// `&f64`, `&mut f64` and `(f64)` are the float type for the orphan rules too.
+fn strip_references(ty: &Type) -> &Type {
+    match ty {
+        Type::Reference(reference) => strip_references(&reference.elem),
+        Type::Paren(paren) => strip_references(&paren.elem),
+        other => other,
     }
 }
 
 impl<'ast> Visit<'ast> for Rejecter<'_> {
+    fn visit_item(&mut self, item: &'ast Item) {
+        if self.item_depth == 0 {
+            self.check_annotated_item(item);
+        }
+        self.item_depth += 1;
+        visit::visit_item(self, item);
+        self.item_depth -= 1;
+    }
+
     fn visit_expr_cast(&mut self, cast: &'ast ExprCast) {
-        if matches!(&*cast.ty, Type::Ptr(_)) {
+        if matches!(strip_references(&cast.ty), Type::Ptr(_)) {
             self.reject(
                 cast,
-                "twinstep cannot twin a pointer cast: it reinterprets memory, and a twin's values are lenses, not floats\n\
-                 hint: keep pointer code outside the annotated kernel, or index the slice instead",
+                "a pointer cast",
+                "it reinterprets memory, and a twin's values are lenses, not floats in memory",
+                "keep pointer code outside the annotated kernel, or index the slice instead",
             );
+            // `&x as *const f64 as *const u64` is one construct: report the chain once, walk what it casts.
+            let mut operand = &*cast.expr;
+            while let Expr::Cast(inner) = operand {
+                if !matches!(strip_references(&inner.ty), Type::Ptr(_)) {
+                    break;
+                }
+                operand = &inner.expr;
+            }
+            self.visit_expr(operand);
+            return;
         } else if self.ctx.is_other_float_type(&cast.ty) {
+            let other = self.ctx.base.other().name();
             self.reject(
                 cast,
-                "twinstep cannot twin a cast to the other float type: the twin would drop the lens here\n\
-                 hint: annotate the kernel for the precision it computes in (`#[twinstep::audit(float = f32)]`), \
-                 or move the conversion outside the kernel",
+                &format!("a cast to `{other}`"),
+                &format!("the kernel computes in `{}`, and the twin would drop the lens here", self.ctx.base.name()),
+                &format!(
+                    "annotate the kernel for the precision it computes in (`#[twinstep::audit(float = {other})]`), \
+                     or move the conversion outside the kernel"
+                ),
             );
         }
         visit::visit_expr_cast(self, cast);
@@ -68,40 +230,43 @@ impl<'ast> Visit<'ast> for Rejecter<'_> {
 
     fn visit_expr_method_call(&mut self, call: &'ast ExprMethodCall) {
         let name = call.method.to_string();
-        if BIT_METHODS.contains(&name.as_str()) {
-            self.reject(
-                &call.method,
-                &format!(
-                    "twinstep cannot twin `{name}`: it reads the float's storage, which a lens does not have\n\
-                     hint: move the bit manipulation out of the annotated kernel, or compare values with `==` / `<`"
-                ),
-            );
+        let bytes_of_float = BYTES_METHODS.contains(&name.as_str()) && self.is_visibly_float(&call.receiver);
+        if BITS_METHODS.contains(&name.as_str()) || bytes_of_float {
+            self.reject_storage_access(&call.method, &name);
         }
         visit::visit_expr_method_call(self, call);
     }
 
+    fn visit_expr_path(&mut self, expr: &'ast ExprPath) {
+        // `<f64>::from_bits(b)`: the float type sits in the qualified-self position, the function is the path.
+        if let (Some(qself), Some(last)) = (&expr.qself, expr.path.segments.last()) {
+            if expr.path.segments.len() == 1 && self.ctx.is_float_type(&qself.ty) {
+                self.check_float_storage_path(expr, true, &last.ident.to_string());
+            }
+        }
+        visit::visit_expr_path(self, expr);
+    }
+
     fn visit_path(&mut self, path: &'ast Path) {
-        let last = path.segments.last().map(|s| s.ident.to_string()).unwrap_or_default();
-        if last == "transmute" || last == "transmute_copy" {
+        let names: Vec<String> = path.segments.iter().map(|s| s.ident.to_string()).collect();
+        let last = names.last().map(String::as_str).unwrap_or_default();
+        let float_named = names.len() == 2 && path.segments.first().is_some_and(|s| self.ctx.is_float_ident(&s.ident));
+        if TRANSMUTES.contains(&last) || names.iter().any(|n| REINTERPRETING_CRATES.contains(&n.as_str())) {
             self.reject(
                 path,
-                "twinstep cannot twin `transmute`: it reinterprets a float's bits, which a lens does not have\n\
-                 hint: move the reinterpretation out of the annotated kernel",
-            );
-        } else if BIT_METHODS.contains(&last.as_str()) && path.segments.len() == 2 && self.ctx.is_float_ident(&path.segments[0].ident) {
-            self.reject(
-                path,
-                &format!(
-                    "twinstep cannot twin `{last}`: it reads the float's storage, which a lens does not have\n\
-                     hint: move the bit manipulation out of the annotated kernel"
-                ),
+                &format!("`{last}`"),
+                "it reinterprets a float's bits, and a twin's value may be a lens, which has no such bits",
+                "move the reinterpretation out of the annotated kernel",
             );
         } else if Self::is_simd_path(path) {
             self.reject(
                 path,
-                "twinstep cannot twin SIMD intrinsics: they compute on hardware lanes of raw floats\n\
-                 hint: annotate the scalar version of the kernel (the compiler vectorizes the twin with `T = f64`)",
+                &format!("the SIMD intrinsic or vector type `{last}`"),
+                "it computes on hardware lanes of raw floats, which a lens cannot enter",
+                "annotate the scalar version of the kernel (the compiler vectorizes the twin with `T = f64`)",
             );
+        } else {
+            self.check_float_storage_path(path, float_named, last);
         }
         visit::visit_path(self, path);
     }
@@ -109,23 +274,41 @@ impl<'ast> Visit<'ast> for Rejecter<'_> {
     fn visit_macro(&mut self, mac: &'ast Macro) {
         let last = mac.path.segments.last().map(|s| s.ident.to_string()).unwrap_or_default();
         if ASM_MACROS.contains(&last.as_str()) {
+            // Not walked further: `core::arch::asm!` would also count as a SIMD path, one construct twice.
             self.reject(
                 mac,
-                "twinstep cannot twin inline assembly: it computes on raw machine registers\n\
-                 hint: annotate a scalar Rust version of the kernel",
+                &format!("inline assembly (`{last}!`)"),
+                "it computes on raw machine registers, which a lens cannot enter",
+                "annotate a scalar Rust version of the kernel",
             );
+            return;
         }
         visit::visit_macro(self, mac);
+        self.visit_macro_input(&mac.tokens);
     }
 
     fn visit_pat(&mut self, pat: &'ast Pat) {
-        if let Pat::Lit(lit) = pat {
-            if matches!(lit.lit, syn::Lit::Float(_)) {
+        let literal_like = matches!(pat, Pat::Lit(_) | Pat::Range(_) | Pat::Verbatim(_));
+        if literal_like && has_float_literal(pat.to_token_stream()) {
+            self.reject(
+                pat,
+                "a float literal pattern",
+                "a lens value is not a constant to match on",
+                "compare with `==` or `<` in a guard or an `if` instead",
+            );
+            return;
+        }
+        if let Pat::Path(path) = pat {
+            let float_named = path.path.segments.len() == 2
+                && path.path.segments.first().is_some_and(|s| self.ctx.is_float_ident(&s.ident));
+            if float_named {
                 self.reject(
                     pat,
-                    "twinstep cannot twin a float literal pattern: a lens value is not a constant to match on\n\
-                     hint: compare with `==` in a guard or an `if` instead",
+                    "a float constant pattern",
+                    "a lens value is not a constant to match on",
+                    "compare with `==` in a guard or an `if` instead (`x if x == f64::INFINITY`)",
                 );
+                return;
             }
         }
         visit::visit_pat(self, pat);
@@ -133,21 +316,17 @@ impl<'ast> Visit<'ast> for Rejecter<'_> {
 
     fn visit_item_impl(&mut self, item: &'ast syn::ItemImpl) {
         if let Some((_, trait_path, _)) = &item.trait_ {
-            if self.ctx.is_float_type(&item.self_ty) {
+            if self.ctx.is_float_type(strip_references(&item.self_ty)) {
+                let header = format!("impl {} for {}", trait_path.to_token_stream(), item.self_ty.to_token_stream());
                 self.reject(
                     &item.self_ty,
-                    &format!(
-                        "twinstep cannot twin `impl {} for {}`: generically this would be an impl of a foreign trait \
-                         for the type parameter, which the orphan rules forbid\n\
-                         hint: write the operation with the float on the right (`v * s` instead of `s * v`), \
-                         or as a method or function",
-                        quote::ToTokens::to_token_stream(trait_path),
-                        quote::ToTokens::to_token_stream(&item.self_ty)
-                    ),
+                    &format!("`{}`", header.replace(" < ", "<").replace(" >", ">")),
+                    "its twin would implement a foreign trait for the type parameter, which the orphan rules forbid",
+                    "write the operation with the float on the right (`v * s` instead of `s * v`), or as a method \
+                     or function",
                 );
             }
         }
         visit::visit_item_impl(self, item);
     }
-
 }
