@@ -37,8 +37,15 @@ pub fn literal_tokens(ctx: &Ctx, text: &str, span: Span) -> proc_macro2::TokenSt
     };
     let ctor = syn::Ident::new(ctor, span);
     // Printing the digits with the base suffix gives the compiler the literal it would have parsed itself.
-    // `2f64` has no point or exponent; `2.0f64` is the same number and unambiguously a float literal.
-    let point = if text.contains(['.', 'e', 'E']) { "" } else { ".0" };
+    // `2f64` has no point or exponent; `2.0f64` is the same number and unambiguously a float literal. `1.` is a
+    // literal only without a suffix: `1.f64` would lex as a field access, `1.0f64` is the same number.
+    let point = if text.ends_with('.') {
+        "0"
+    } else if text.contains(['.', 'e', 'E']) {
+        ""
+    } else {
+        ".0"
+    };
     let value = LitFloat::new(&format!("{text}{point}{suffix}"), span);
     let text = syn::LitStr::new(text, span);
     quote_spanned!(span=> #real::#ctor(#value, #text))
