@@ -6,8 +6,8 @@
 //! The rewrite cannot see types, so every cast into the float type or an integer type goes through a helper that
 //! accepts integers and twin scalars alike; integer-to-integer casts convert exactly as `as` does.
 
-use crate::context::Ctx;
 use crate::context::replace_expr;
+use crate::context::Ctx;
 use quote::quote_spanned;
 use syn::spanned::Spanned;
 use syn::visit_mut::{self, VisitMut};
@@ -40,7 +40,11 @@ impl VisitMut for CastRewriter<'_> {
         visit_mut::visit_expr_mut(self, expr);
         let Expr::Cast(cast) = expr else { return };
         let span = cast.as_token.span();
-        let operand = &cast.expr;
+        // `(n - 1) as f64` becomes a call, whose argument needs no parentheses (they would trip `unused_parens`).
+        let operand = match &*cast.expr {
+            Expr::Paren(inner) => &inner.expr,
+            other => other,
+        };
         if self.ctx.is_float_type(&cast.ty) {
             let t = self.ctx.param_at(span);
             let tokens = quote_spanned!(span=> ::twinstep::twin::to_real::<#t, _>(#operand));

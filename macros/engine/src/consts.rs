@@ -27,7 +27,9 @@ impl VisitMut for ConstHoister<'_> {
                     let (name, ty, value) = (&c.ident, &c.ty, &c.expr);
                     syn::parse2::<Stmt>(quote::quote!(#[allow(non_snake_case)] let #name: #ty = #value;)).ok()
                 }
-                Stmt::Item(Item::Static(s)) if self.ctx.is_float_type(&s.ty) && matches!(s.mutability, syn::StaticMutability::None) => {
+                Stmt::Item(Item::Static(s))
+                    if self.ctx.is_float_type(&s.ty) && matches!(s.mutability, syn::StaticMutability::None) =>
+                {
                     let (name, ty, value) = (&s.ident, &s.ty, &s.expr);
                     syn::parse2::<Stmt>(quote::quote!(#[allow(non_snake_case)] let #name: #ty = #value;)).ok()
                 }

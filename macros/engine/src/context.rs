@@ -83,9 +83,7 @@ impl Ctx {
         }
         match segments.as_slice() {
             [only] if path.leading_colon.is_none() => self.is_float_ident(&only.ident),
-            [.., prim, last] => {
-                prim.ident == "primitive" && last.ident == self.base.name()
-            }
+            [.., prim, last] => prim.ident == "primitive" && last.ident == self.base.name(),
             _ => false,
         }
     }
@@ -121,12 +119,18 @@ impl Ctx {
     }
 
     /// The `where` predicates every twin carries.
+    ///
+    /// `f64: MixedOps<f64>` holds trivially, and is there for type inference: with `f64: MixedOps<T>` alone in
+    /// the `where` clause, rustc picks that bound for every `f64 * ?` it meets (a `where` clause beats an impl when
+    /// the right operand's type is not known yet), so `self.dx * self.dx` of two plain values would be required
+    /// to be `f64 * T`. With both bounds in scope the choice is ambiguous until the right operand is checked, as
+    /// it is for `T * ?` (`T: Mul<T>` and `T: Mul<f64>`).
     pub fn where_predicates(&self) -> TokenStream {
         let t = &self.param;
         let base = Ident::new(self.base.name(), Span::call_site());
         quote::quote! {
             #t: ::twinstep::Real + ::twinstep::BaseOps<#base>,
-            #base: ::twinstep::MixedOps<#t>,
+            #base: ::twinstep::MixedOps<#t> + ::twinstep::MixedOps<#base>,
             for<'twin> &'twin #t: ::twinstep::RefOps<#t>
         }
     }

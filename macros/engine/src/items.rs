@@ -6,11 +6,14 @@
 //! |---|---|
 //! | `fn heat(u: &[f64], out: &mut [f64], r: f64)` | `fn heat_twin<T>(u: &[T], out: &mut [T], r: T)` |
 //! | `impl Rod { fn step(&mut self, u: &mut [f64]) }` | `impl Rod { fn step_twin<T>(&mut self, u: &mut [T]) }` |
+//! | `impl Rod { fn r(&self) -> f64 }` (no float parameter) | none: the twins call `self.r()`, a plain `f64` |
 //! | `mod solver { struct Grid { u: Vec<f64> } fn step(g: &mut Grid) }` | `mod solver_twin { struct Grid<T> { u: Vec<T> } fn step<T>(g: &mut Grid<T>) }` |
 //!
-//! Every twin carries `T: Real + BaseOps<f64>, f64: MixedOps<T>, for<'twin> &'twin T: RefOps<T>`. Items whose
-//! signature does not mention the float type are copied unchanged: they have nothing to twin, and a type
-//! parameter they do not use could not be inferred at their call sites.
+//! Every twin carries `T: Real + BaseOps<f64>, f64: MixedOps<T> + MixedOps<f64>, for<'twin> &'twin T: RefOps<T>`
+//! (see [`Ctx::where_predicates`] for the trivial-looking `f64: MixedOps<f64>`). Items whose signature does not
+//! mention the float type are copied unchanged: they have nothing to twin, and a type parameter they do not use
+//! could not be inferred at their call sites. For the same reason a method of a struct that stays as it is gets a
+//! twin only when a parameter mentions the float.
 
 use crate::context::Ctx;
 use crate::pipeline;
@@ -35,6 +38,16 @@ pub fn mentions_float(ctx: &Ctx, tokens: &impl ToTokens) -> bool {
         })
     }
     scan(ctx, tokens.to_token_stream())
+}
+
+/// Whether a method's parameters mention the float type: only then can its twin's type parameter be inferred from
+/// the arguments, and only then does the method compute on values the caller's lens tracks.
+///
+/// A method of a struct that stays as it is and whose float shows up in the return type alone (`fn
+/// diffusion_number(&self) -> f64`, reading the struct's own fields) computes on plain values: it is left alone
+/// and the twins call the original, whose `f64` result mixes with `T`.
+pub fn inputs_mention_float(ctx: &Ctx, sig: &syn::Signature) -> bool {
+    sig.inputs.iter().any(|input| mentions_float(ctx, input))
 }
 
 fn mentions_ident(tree: &TokenTree, name: &str) -> bool {
@@ -198,7 +211,7 @@ fn twin_impl_block(ctx: &mut Ctx, imp: &ItemImpl) -> syn::Result<ItemImpl> {
         .items
         .iter()
         .filter_map(|i| match i {
-            ImplItem::Fn(f) if mentions_float(ctx, &f.sig) => Some(f),
+            ImplItem::Fn(f) if inputs_mention_float(ctx, &f.sig) => Some(f),
             _ => None,
         })
         .collect();
@@ -206,8 +219,8 @@ fn twin_impl_block(ctx: &mut Ctx, imp: &ItemImpl) -> syn::Result<ItemImpl> {
         return Err(syn::Error::new_spanned(
             &imp.self_ty,
             format!(
-                "twinstep found no method of this `impl` block with `{}` in its signature\n\
-                 hint: annotate the block whose methods take or return the fields",
+                "twinstep found no method of this `impl` block with `{}` in its parameters\n\
+                 hint: annotate the block whose methods take the fields",
                 ctx.base.name()
             ),
         ));
@@ -277,7 +290,9 @@ fn literal_initializer(ctx: &Ctx, expr: &syn::Expr) -> Option<String> {
 
 /// Records `use std::f64::consts::{PI, E as EULER}` and `use std::f64::consts as c`.
 fn collect_const_imports(ctx: &mut Ctx, tree: &syn::UseTree, prefix: &mut Vec<String>) {
-    let under_consts = prefix.len() >= 2 && prefix[prefix.len() - 1] == "consts" && ctx.float_names.contains(&prefix[prefix.len() - 2]);
+    let under_consts = prefix.len() >= 2
+        && prefix[prefix.len() - 1] == "consts"
+        && ctx.float_names.contains(&prefix[prefix.len() - 2]);
     match tree {
         syn::UseTree::Path(p) => {
             prefix.push(p.ident.to_string());
@@ -298,7 +313,9 @@ fn collect_const_imports(ctx: &mut Ctx, tree: &syn::UseTree, prefix: &mut Vec<St
         syn::UseTree::Name(n) if n.ident == "consts" && prefix.last().is_some_and(|l| ctx.float_names.contains(l)) => {
             ctx.const_modules.insert("consts".to_string());
         }
-        syn::UseTree::Rename(r) if r.ident == "consts" && prefix.last().is_some_and(|l| ctx.float_names.contains(l)) => {
+        syn::UseTree::Rename(r)
+            if r.ident == "consts" && prefix.last().is_some_and(|l| ctx.float_names.contains(l)) =>
+        {
             ctx.const_modules.insert(r.rename.to_string());
         }
         _ => {}
@@ -372,7 +389,7 @@ fn twin_module_item(ctx: &Ctx, item: &Item) -> syn::Result<Item> {
             let mut twin = imp.clone();
             for inner in twin.items.iter_mut() {
                 if let ImplItem::Fn(f) = inner {
-                    if mentions_float(ctx, &f.sig) {
+                    if inputs_mention_float(ctx, &f.sig) {
                         *f = twin_method(ctx, f, f.sig.ident.clone());
                     }
                 }

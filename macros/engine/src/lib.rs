@@ -149,10 +149,18 @@ pub fn expand_source(source: &str, only: Option<&str>) -> Result<String, Vec<Sou
     if let Some(name) = only {
         found.retain(|(_, item)| item_name(item).as_deref() == Some(name));
         if found.is_empty() && errors.is_empty() {
-            errors.push(SourceError { line: 1, column: 1, message: format!("no annotated item named `{name}` in this file") });
+            errors.push(SourceError {
+                line: 1,
+                column: 1,
+                message: format!("no annotated item named `{name}` in this file"),
+            });
         }
     } else if found.is_empty() && errors.is_empty() {
-        errors.push(SourceError { line: 1, column: 1, message: "no item in this file carries `#[twinstep::audit]`".into() });
+        errors.push(SourceError {
+            line: 1,
+            column: 1,
+            message: "no item in this file carries `#[twinstep::audit]`".into(),
+        });
     }
     let mut twins = Vec::new();
     for (options, item) in &found {

@@ -60,7 +60,10 @@ pub fn add_param(arguments: &mut PathArguments, ctx: &Ctx) {
             });
         }
         PathArguments::AngleBracketed(angle) => {
-            let already = angle.args.iter().any(|a| matches!(a, GenericArgument::Type(Type::Path(p)) if p.path.is_ident(&ctx.param)));
+            let already = angle
+                .args
+                .iter()
+                .any(|a| matches!(a, GenericArgument::Type(Type::Path(p)) if p.path.is_ident(&ctx.param)));
             if !already {
                 let lifetimes = angle.args.iter().take_while(|a| matches!(a, GenericArgument::Lifetime(_))).count();
                 angle.args.insert(lifetimes, GenericArgument::Type(param));
