@@ -8,10 +8,13 @@
 //!
 //! twinstep judges rounding error only, not discretization or modelling error.
 
+pub mod audit;
 pub mod events;
 pub mod lens;
 pub mod real;
+pub mod trace;
 pub mod twin;
+pub mod verdict;
 
 pub use real::{BaseOps, Constant, MixedOps, Real, RefOps};
 pub use twinstep_macros::audit;

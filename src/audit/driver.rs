@@ -1,0 +1,294 @@
+//! The audit driver: runs a [`Scenario`] with several lenses at once, each on its own thread, each beside the
+//! plain f64 original, and hands every step's measurements to the [`Recorder`].
+//!
+//! Why chunks: the lenses run at different speeds, and the recorder needs every lens's measurements of a step
+//! together (a guaranteed bound is judged against the best estimate of the same step). So the threads run a
+//! chunk of steps, the main thread records it, and the next chunk starts; the chunk length adapts so that a
+//! chunk takes about a tenth of a second, which keeps the trace on disk close behind the run.
+
+use std::panic::{catch_unwind, AssertUnwindSafe};
+use std::path::PathBuf;
+use std::sync::mpsc::{channel, Receiver, Sender};
+use std::time::{Duration, Instant};
+
+use super::measure::{first_mismatch, measure, LensStep};
+use super::recorder::{LensInfo, Plan};
+use super::{Error, FieldSpec, Levels, RecordPolicy, Recorder, Tolerance};
+use crate::lens::Lens;
+use crate::trace::Trace;
+use crate::{BaseOps, MixedOps, Real, RefOps};
+
+/// How the time levels of a step relate.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Scheme {
+    /// The step updates `current` in place.
+    InPlace,
+    /// The step reads `current` and writes `next`; the two are swapped after it.
+    TwoLevel,
+    /// The step reads `previous` and `current` and writes `next` (leapfrog); the three rotate after it.
+    ThreeLevel,
+}
+
+impl Scheme {
+    fn levels(self) -> usize {
+        match self {
+            Scheme::InPlace => 1,
+            Scheme::TwoLevel => 2,
+            Scheme::ThreeLevel => 3,
+        }
+    }
+}
+
+/// A time loop to audit: its fields, its initial data and its step, generic over the scalar.
+///
+/// `init` and `step` are called with every lens and with `f64`; the `where` clause is the one every twin the
+/// macro emits carries, so the bodies can call `kernel_twin::<T>(…)` directly. `init_original` and
+/// `step_original` default to the same code with `T = f64`; override them to call the untouched original kernel,
+/// and the audit checks at every step that each lens's primal equals it bit for bit.
+pub trait Scenario: Sync {
+    /// The fields, in the order the levels hold them.
+    fn fields(&self) -> Vec<FieldSpec>;
+
+    /// How the time levels relate; two-level by default.
+    fn scheme(&self) -> Scheme {
+        Scheme::TwoLevel
+    }
+
+    /// How many scratch levels a multi-stage (Runge–Kutta) step needs; none by default.
+    fn stages(&self) -> usize {
+        0
+    }
+
+    /// Writes the initial data into `levels.current` (and `levels.previous` for a three-level scheme).
+    fn init<T>(&self, levels: &mut Levels<T>) -> Result<(), Error>
+    where
+        T: Real + BaseOps<f64>,
+        f64: MixedOps<T>,
+        for<'a> &'a T: RefOps<T>;
+
+    /// Advances the fields by one step (`levels.step` → `levels.step + 1`).
+    fn step<T>(&self, levels: &mut Levels<T>)
+    where
+        T: Real + BaseOps<f64>,
+        f64: MixedOps<T>,
+        for<'a> &'a T: RefOps<T>;
+
+    /// The initial data of the plain f64 original.
+    fn init_original(&self, levels: &mut Levels<f64>) -> Result<(), Error> {
+        self.init(levels)
+    }
+
+    /// One step of the plain f64 original.
+    fn step_original(&self, levels: &mut Levels<f64>) {
+        self.step(levels)
+    }
+}
+
+/// What a lens thread sends back for a chunk.
+type ChunkResult = Result<Vec<LensStep>, Error>;
+/// A lens's thread body, instantiated for the lens type when it is added.
+type LensRun<S> = fn(&S, &Plan, Receiver<u64>, Sender<ChunkResult>);
+
+struct LensEntry<S> {
+    info: LensInfo,
+    run: LensRun<S>,
+}
+
+/// An audit of a scenario: which lenses, what tolerance, how many steps, where the trace goes.
+///
+/// ```ignore
+/// let trace = Audit::new(&rod, Tolerance::mixed(1e-12, 1e-9)?, 500)
+///     .kernel("heat_step")
+///     .trace("target/twinstep/heat.jsonl")
+///     .lens::<Bound>()
+///     .lens::<Shadow>()
+///     .run()?;
+/// ```
+pub struct Audit<'s, S: Scenario> {
+    scenario: &'s S,
+    plan: Plan,
+    lenses: Vec<LensEntry<S>>,
+}
+
+impl<'s, S: Scenario> Audit<'s, S> {
+    /// An audit of `steps` steps of `scenario` against `tolerance`; the trace goes to the system's temporary
+    /// directory unless [`Audit::trace`] says otherwise.
+    pub fn new(scenario: &'s S, tolerance: Tolerance, steps: u64) -> Audit<'s, S> {
+        let trace = std::env::temp_dir().join(format!("twinstep-{}.jsonl", std::process::id()));
+        Audit { scenario, plan: Plan::new("kernel", scenario.fields(), tolerance, steps, trace), lenses: Vec::new() }
+    }
+
+    /// The kernel's name, for the trace and the report.
+    #[must_use]
+    pub fn kernel(mut self, name: &str) -> Self {
+        self.plan.kernel = name.to_string();
+        self
+    }
+
+    /// A line describing the run (grid, parameters).
+    #[must_use]
+    pub fn describe(mut self, text: &str) -> Self {
+        self.plan.scenario = text.to_string();
+        self
+    }
+
+    /// The number of steps the user plans to run, when it is more than the audited steps: the verdict
+    /// extrapolates the fitted growth to it.
+    #[must_use]
+    pub fn horizon(mut self, steps: u64) -> Self {
+        self.plan.horizon = steps;
+        self
+    }
+
+    /// Where the trace goes.
+    #[must_use]
+    pub fn trace(mut self, path: impl Into<PathBuf>) -> Self {
+        self.plan.trace = path.into();
+        self
+    }
+
+    /// Records every step and every event occurrence (the trace grows with the run).
+    #[must_use]
+    pub fn every_step(mut self) -> Self {
+        self.plan.policy = RecordPolicy::Every;
+        self
+    }
+
+    /// Adds a lens; each lens runs on its own thread.
+    #[must_use]
+    pub fn lens<L>(mut self) -> Self
+    where
+        L: Lens + BaseOps<f64>,
+        f64: MixedOps<L>,
+        for<'a> &'a L: RefOps<L>,
+    {
+        self.lenses.push(LensEntry { info: LensInfo::of::<L>(), run: run_lens::<S, L> });
+        self
+    }
+
+    /// Runs the audit. On success the trace on disk is complete and the same trace is returned; on an error the
+    /// file (if it was created) has no summary, so every reader sees an incomplete run.
+    pub fn run(self) -> Result<Trace, Error> {
+        if self.lenses.is_empty() {
+            return Err(Error::NoLenses);
+        }
+        for (i, entry) in self.lenses.iter().enumerate() {
+            if self.lenses[..i].iter().any(|other| other.info.name == entry.info.name) {
+                return Err(Error::DuplicateLens { lens: entry.info.name.to_string() });
+            }
+        }
+        let mut recorder = Recorder::for_lenses(&self.plan, self.lenses.iter().map(|l| l.info.clone()).collect())?;
+        let (scenario, plan) = (self.scenario, &self.plan);
+        std::thread::scope(|scope| {
+            let mut channels = Vec::new();
+            for entry in &self.lenses {
+                let (command_tx, command_rx) = channel::<u64>();
+                let (result_tx, result_rx) = channel::<ChunkResult>();
+                let run = entry.run;
+                scope.spawn(move || run(scenario, plan, command_rx, result_tx));
+                channels.push((command_tx, result_rx));
+            }
+            let (mut done, mut chunk) = (None::<u64>, 1u64);
+            while done != Some(plan.steps) {
+                // The first chunk is the initial data alone (step 0).
+                let to = done.map_or(0, |d| (d + chunk).min(plan.steps));
+                let started = Instant::now();
+                let mut per_lens = Vec::with_capacity(channels.len());
+                for (command, _) in &channels {
+                    // A send fails only if the thread has ended, which it does after reporting an error below.
+                    let _ = command.send(to);
+                }
+                for (entry, (_, results)) in self.lenses.iter().zip(&channels) {
+                    let lost = || Error::ScenarioPanicked {
+                        lens: entry.info.name.to_string(),
+                        step: to,
+                        message: "the lens thread ended without reporting".into(),
+                    };
+                    per_lens.push(results.recv().map_err(|_| lost())??.into_iter());
+                }
+                for _ in 0..per_lens.first().map_or(0, ExactSizeIterator::len) {
+                    recorder.ingest(per_lens.iter_mut().filter_map(Iterator::next).collect())?;
+                }
+                done = Some(to);
+                // Aim at about 0.1 s per chunk, so the trace on disk stays close behind the run.
+                chunk = if started.elapsed() < Duration::from_millis(100) { (chunk * 2).min(4096) } else { chunk / 2 };
+                chunk = chunk.max(1);
+            }
+            drop(channels);
+            recorder.finish()
+        })
+    }
+}
+
+/// A lens's thread: keeps the lens's levels and the f64 original's, and runs the steps each command asks for.
+fn run_lens<S, L>(scenario: &S, plan: &Plan, commands: Receiver<u64>, results: Sender<ChunkResult>)
+where
+    S: Scenario,
+    L: Lens + BaseOps<f64>,
+    f64: MixedOps<L>,
+    for<'a> &'a L: RefOps<L>,
+{
+    let (levels, stages) = (scenario.scheme().levels(), scenario.stages());
+    let mut twin = Levels::<L>::new(&plan.fields, levels, stages);
+    let mut original = Levels::<f64>::new(&plan.fields, levels, stages);
+    let mut next = None::<u64>;
+    for to in commands {
+        let mut at = next.unwrap_or(0);
+        let outcome = catch_unwind(AssertUnwindSafe(|| -> ChunkResult {
+            let mut out = Vec::new();
+            if next.is_none() {
+                let _ = crate::events::drain(); // nothing from before the audit belongs to it
+                scenario.init(&mut twin)?;
+                let events = crate::events::drain();
+                scenario.init_original(&mut original)?;
+                let _ = crate::events::drain();
+                out.push(observe(0, &twin, &original, &plan.tolerance, events));
+                next = Some(0);
+            }
+            while let Some(n) = next.filter(|&n| n < to) {
+                at = n;
+                (twin.step, original.step) = (n, n);
+                scenario.step(&mut twin);
+                let events = crate::events::drain();
+                scenario.step_original(&mut original);
+                let _ = crate::events::drain();
+                twin.rotate();
+                original.rotate();
+                out.push(observe(n + 1, &twin, &original, &plan.tolerance, events));
+                next = Some(n + 1);
+            }
+            Ok(out)
+        }));
+        let outcome = outcome.unwrap_or_else(|payload| {
+            let message = payload
+                .downcast_ref::<&str>()
+                .map(|s| s.to_string())
+                .or_else(|| payload.downcast_ref::<String>().cloned())
+                .unwrap_or_else(|| "a panic without a message".into());
+            Err(Error::ScenarioPanicked { lens: L::NAME.to_string(), step: at, message })
+        });
+        let failed = outcome.is_err();
+        if results.send(outcome).is_err() || failed {
+            return;
+        }
+    }
+}
+
+/// Measures every field of the current level and compares its primal with the original.
+fn observe<L: Lens>(
+    step: u64,
+    twin: &Levels<L>,
+    original: &Levels<f64>,
+    tolerance: &Tolerance,
+    events: Vec<(crate::events::EventKind, crate::events::Site, u64)>,
+) -> LensStep {
+    let fields = twin.current.iter().map(|f| measure(f, tolerance)).collect();
+    let mismatches = twin
+        .current
+        .iter()
+        .zip(&original.current)
+        .enumerate()
+        .filter_map(|(i, (t, o))| first_mismatch(i, t, o))
+        .collect();
+    LensStep { step, fields, events, mismatches }
+}

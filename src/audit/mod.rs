@@ -1,0 +1,118 @@
+//! The audit: runs a time loop with one or more lenses beside the plain f64 original, measures every field after
+//! every step, and streams what it finds to a trace (`docs/audit.md` shows the harness, `docs/trace.md` the
+//! file).
+//!
+//! Two ways in. A [`Scenario`] describes the fields and gives the initial data and the step, generic over the
+//! scalar; [`Audit`] runs it with every lens on its own thread (`std::thread::scope`) and the f64 original
+//! alongside each. A [`Recorder`] is for a loop the user keeps as it is: call [`Recorder::record_step`] after each
+//! step.
+
+mod driver;
+mod field;
+mod measure;
+mod recorder;
+mod tolerance;
+
+use std::path::PathBuf;
+
+pub use crate::trace::{FieldSpec, RecordPolicy};
+pub use driver::{Audit, Scenario, Scheme};
+pub use field::{Field, Levels};
+pub use recorder::{Plan, Recorder};
+pub use tolerance::{ulp, Tolerance};
+
+/// Why an audit could not run, or stopped.
+#[derive(Debug)]
+pub enum Error {
+    /// A tolerance parameter is zero, negative, infinite or NaN.
+    BadTolerance { parameter: &'static str, value: f64 },
+    /// The audit has no fields.
+    NoFields,
+    /// The audit has no lenses.
+    NoLenses,
+    /// The audit would run zero steps.
+    ZeroSteps,
+    /// The planned horizon is shorter than the steps audited.
+    HorizonTooShort { steps: u64, horizon: u64 },
+    /// Two fields share a name.
+    DuplicateField { name: String },
+    /// A field's shape has a zero extent or too many cells.
+    BadShape { field: String, shape: Vec<usize> },
+    /// Data given for a field does not match its shape.
+    LengthMismatch { field: String, expected: usize, got: usize },
+    /// The fields passed to a recorder are not the ones it was created with.
+    FieldCountMismatch { expected: usize, got: usize },
+    /// A recorder was given a step that does not come after the previous one.
+    StepOrder { previous: u64, got: u64 },
+    /// The same lens was added twice.
+    DuplicateLens { lens: String },
+    /// A recorder was given values of a lens it was not created for.
+    UnknownLens { lens: String },
+    /// The trace file could not be created.
+    TraceCreate { path: PathBuf, source: std::io::Error },
+    /// Writing to the trace file failed.
+    TraceWrite { path: PathBuf, source: std::io::Error },
+    /// The user's initial data or step panicked in a lens's run.
+    ScenarioPanicked { lens: String, step: u64, message: String },
+}
+
+impl std::fmt::Display for Error {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self {
+            Error::BadTolerance { parameter, value } => {
+                write!(f, "tolerance parameter {parameter} = {value} must be finite and greater than zero")
+            }
+            Error::NoFields => write!(f, "the audit has no fields"),
+            Error::NoLenses => write!(f, "the audit has no lenses: add one with .lens::<L>()"),
+            Error::ZeroSteps => write!(f, "the audit would run zero steps"),
+            Error::HorizonTooShort { steps, horizon } => {
+                write!(f, "the planned horizon ({horizon} steps) is shorter than the {steps} steps audited")
+            }
+            Error::DuplicateField { name } => write!(f, "two fields are named {name:?}"),
+            Error::BadShape { field, shape } => {
+                write!(f, "field {field:?} has shape {shape:?}: every extent must be at least 1 and the cells must fit")
+            }
+            Error::LengthMismatch { field, expected, got } => {
+                write!(f, "field {field:?} has {expected} cells by its shape but {got} values were given")
+            }
+            Error::FieldCountMismatch { expected, got } => {
+                write!(f, "the recorder was created with {expected} fields but {got} were given")
+            }
+            Error::StepOrder { previous, got } => {
+                write!(f, "step {got} recorded after step {previous}: steps must increase")
+            }
+            Error::DuplicateLens { lens } => write!(f, "lens {lens} was added twice"),
+            Error::UnknownLens { lens } => write!(f, "the recorder was not created for lens {lens:?}"),
+            Error::TraceCreate { path, source } => write!(f, "cannot create trace {}: {source}", path.display()),
+            Error::TraceWrite { path, source } => write!(f, "cannot write trace {}: {source}", path.display()),
+            Error::ScenarioPanicked { lens, step, message } => {
+                write!(f, "the scenario panicked in lens {lens} at step {step}: {message}")
+            }
+        }
+    }
+}
+
+impl std::error::Error for Error {
+    fn source(&self) -> Option<&(dyn std::error::Error + 'static)> {
+        match self {
+            Error::TraceCreate { source, .. } | Error::TraceWrite { source, .. } => Some(source),
+            _ => None,
+        }
+    }
+}
+
+/// Checks a list of field specs: at least one, unique names, shapes with cells.
+pub(crate) fn validate_fields(fields: &[FieldSpec]) -> Result<(), Error> {
+    if fields.is_empty() {
+        return Err(Error::NoFields);
+    }
+    for (i, spec) in fields.iter().enumerate() {
+        if spec.shape.is_empty() || spec.shape.contains(&0) || spec.cells().is_none() {
+            return Err(Error::BadShape { field: spec.name.clone(), shape: spec.shape.clone() });
+        }
+        if fields[..i].iter().any(|other| other.name == spec.name) {
+            return Err(Error::DuplicateField { name: spec.name.clone() });
+        }
+    }
+    Ok(())
+}

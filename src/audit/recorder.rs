@@ -1,0 +1,469 @@
+//! The recorder: turns per-step measurements into trace records, events and, at the end, the summary with the
+//! verdict. The driver feeds it every lens's measurements of every step; a user who keeps their own loop feeds it
+//! through [`Recorder::record_step`].
+//!
+//! Why a policy: a 10⁶-step run must not write 10⁶ records. Under [`RecordPolicy::Auto`] a step gets a record
+//! when it is on a log-spaced grid (about 20 per decade), when it carries an event, for the two steps before and
+//! after an event, and at the end; repeated events at one site are written at their 1st, 2nd, 4th, 8th …
+//! occurrence and counted in full in the summary's `event_totals`. Under [`RecordPolicy::Every`] nothing is
+//! thinned.
+
+use std::collections::{BTreeMap, VecDeque};
+use std::path::PathBuf;
+use std::time::{Instant, SystemTime, UNIX_EPOCH};
+
+use super::field::multi_index;
+use super::measure::{self, FieldMeasure, LensStep};
+use super::{validate_fields, Error, FieldSpec, RecordPolicy, Tolerance};
+use crate::lens::Lens;
+use crate::trace::{
+    Build, EventName, EventRecord, EventTotal, FieldStep, Header, Machine, Record, ResultRecord, SiteRecord,
+    StepRecord, Summary, Trace, TraceWriter, FORMAT, VERSION,
+};
+use crate::verdict::{self, Evidence};
+
+/// Steps recorded before and after an event under the `auto` policy.
+const EVENT_CONTEXT: usize = 2;
+/// Log-spaced recording: the next recorded step is at least `step · 10^(1/20)` (20 per decade).
+const LOG_RATIO: f64 = 1.122_018_454_301_963_3; // 10^(1/20), from the decimal expansion of 10^0.05
+
+/// What an audit is about: the part of the setup the recorder and the driver share.
+#[derive(Clone, Debug)]
+pub struct Plan {
+    /// The kernel's name, for the header.
+    pub kernel: String,
+    /// A line describing the run (grid, parameters).
+    pub scenario: String,
+    pub fields: Vec<FieldSpec>,
+    pub tolerance: Tolerance,
+    /// Steps audited.
+    pub steps: u64,
+    /// Steps the user plans to run (the verdict extrapolates to it); at least `steps`.
+    pub horizon: u64,
+    pub policy: RecordPolicy,
+    /// Where the trace goes.
+    pub trace: PathBuf,
+}
+
+impl Plan {
+    /// A plan with the horizon equal to the audited steps and the `auto` policy.
+    #[must_use]
+    pub fn new(kernel: &str, fields: Vec<FieldSpec>, tolerance: Tolerance, steps: u64, trace: PathBuf) -> Plan {
+        Plan {
+            kernel: kernel.to_string(),
+            scenario: String::new(),
+            fields,
+            tolerance,
+            steps,
+            horizon: steps,
+            policy: RecordPolicy::Auto,
+            trace,
+        }
+    }
+
+    /// Checks everything that can be checked before a file is created.
+    pub(crate) fn validate(&self) -> Result<(), Error> {
+        self.tolerance.validated()?;
+        validate_fields(&self.fields)?;
+        if self.steps == 0 {
+            return Err(Error::ZeroSteps);
+        }
+        if self.horizon < self.steps {
+            return Err(Error::HorizonTooShort { steps: self.steps, horizon: self.horizon });
+        }
+        Ok(())
+    }
+}
+
+/// A lens as the recorder knows it.
+#[derive(Clone, Debug)]
+pub(crate) struct LensInfo {
+    pub name: &'static str,
+    pub guaranteed: bool,
+}
+
+impl LensInfo {
+    pub(crate) fn of<L: Lens>() -> LensInfo {
+        LensInfo { name: L::NAME, guaranteed: L::GUARANTEED }
+    }
+}
+
+/// What the recorder remembers about one lens and field.
+#[derive(Clone, Debug, Default)]
+struct Track {
+    first_crossing: Option<u64>,
+    bound_lost: bool,
+    nan: bool,
+    infinite: bool,
+    mismatch: bool,
+    /// `(step, max_err)` at log-spaced steps, for the growth fit.
+    history: Vec<(u64, f64)>,
+    last: Option<(u64, FieldMeasure)>,
+}
+
+/// Where an event happened, for counting repeats.
+type EventKey = (usize, EventName, Option<usize>, Option<SiteRecord>);
+
+/// Streams an audit's trace and decides its verdict.
+#[derive(Debug)]
+pub struct Recorder {
+    plan: Plan,
+    lenses: Vec<LensInfo>,
+    writer: TraceWriter,
+    trace: Trace,
+    tracks: Vec<Vec<Track>>,
+    totals: BTreeMap<EventKey, EventTotal>,
+    /// Step records not written yet, kept as context for an event that may follow.
+    pending: VecDeque<Vec<StepRecord>>,
+    after_event: usize,
+    next_log_step: u64,
+    last_step: Option<u64>,
+    last_written_step: Option<u64>,
+    started: Instant,
+}
+
+impl Recorder {
+    /// A recorder for a loop the user keeps: one lens `L`, the fields and tolerance of `plan`. Writes the header.
+    ///
+    /// After each step (and, if wanted, for the initial data as step 0) call [`Recorder::record_step`], then
+    /// [`Recorder::finish`]. A recorder dropped without `finish` leaves a trace without summary: an incomplete run.
+    pub fn create<L: Lens>(plan: &Plan) -> Result<Recorder, Error> {
+        Recorder::for_lenses(plan, vec![LensInfo::of::<L>()])
+    }
+
+    pub(crate) fn for_lenses(plan: &Plan, lenses: Vec<LensInfo>) -> Result<Recorder, Error> {
+        plan.validate()?;
+        if lenses.is_empty() {
+            return Err(Error::NoLenses);
+        }
+        let header = Header {
+            format: FORMAT.to_string(),
+            version: VERSION,
+            kernel: plan.kernel.clone(),
+            scenario: plan.scenario.clone(),
+            lenses: lenses.iter().map(|l| l.name.to_string()).collect(),
+            fields: plan.fields.clone(),
+            tolerance: plan.tolerance,
+            steps_planned: plan.horizon,
+            steps_audited: (plan.steps != plan.horizon).then_some(plan.steps),
+            record_policy: plan.policy,
+            machine: Machine::current(),
+            build: Build::current(),
+            started_unix_s: SystemTime::now().duration_since(UNIX_EPOCH).map_or(0, |d| d.as_secs()),
+        };
+        let mut writer = TraceWriter::create(&plan.trace)?;
+        writer.write(&Record::Header(header.clone()))?;
+        let tracks = lenses.iter().map(|_| vec![Track::default(); plan.fields.len()]).collect();
+        Ok(Recorder {
+            plan: plan.clone(),
+            lenses,
+            writer,
+            trace: Trace { header, steps: Vec::new(), events: Vec::new(), summary: None, truncated_tail: false },
+            tracks,
+            totals: BTreeMap::new(),
+            pending: VecDeque::new(),
+            after_event: 0,
+            next_log_step: 0,
+            last_step: None,
+            last_written_step: None,
+            started: Instant::now(),
+        })
+    }
+
+    /// Records the state of every field after `step` (fields in the plan's order), with the events the lens
+    /// recorded on this thread since the last call.
+    pub fn record_step<L: Lens>(&mut self, step: u64, fields: &[&[L]]) -> Result<(), Error> {
+        if self.lenses.len() != 1 || self.lenses[0].name != L::NAME {
+            return Err(Error::UnknownLens { lens: L::NAME.to_string() });
+        }
+        if fields.len() != self.plan.fields.len() {
+            return Err(Error::FieldCountMismatch { expected: self.plan.fields.len(), got: fields.len() });
+        }
+        for (spec, values) in self.plan.fields.iter().zip(fields) {
+            let expected = spec.cells().unwrap_or(0);
+            if values.len() != expected {
+                return Err(Error::LengthMismatch { field: spec.name.clone(), expected, got: values.len() });
+            }
+        }
+        let measured = fields.iter().map(|f| measure::measure(f, &self.plan.tolerance)).collect();
+        let events = crate::events::drain();
+        self.ingest(LensStep { step, fields: measured, events, mismatches: Vec::new() }.into_all())
+    }
+
+    /// Takes the measurements of every lens (in the recorder's lens order) for one step.
+    pub(crate) fn ingest(&mut self, steps: Vec<LensStep>) -> Result<(), Error> {
+        let step = steps.first().map_or(0, |s| s.step);
+        if let Some(previous) = self.last_step.filter(|&p| step <= p) {
+            return Err(Error::StepOrder { previous, got: step });
+        }
+        self.last_step = Some(step);
+        let on_log_grid = step >= self.next_log_step;
+        if on_log_grid {
+            self.next_log_step = (step + 1).max((step as f64 * LOG_RATIO).ceil() as u64);
+        }
+        let mut events = Vec::new();
+        for (lens, lens_step) in steps.iter().enumerate() {
+            self.track_fields(lens, lens_step, on_log_grid, &mut events);
+            for &(kind, site, count) in &lens_step.events {
+                let detail = format!("{count} time(s) at this step");
+                events.push(self.event(lens, kind.into(), None, Some(site.into()), count, detail));
+            }
+        }
+        self.check_bounds(&steps, &mut events);
+        let records: Vec<StepRecord> = steps.iter().enumerate().map(|(lens, s)| self.step_record(lens, s)).collect();
+        let events: Vec<EventRecord> = events.into_iter().flatten().collect();
+        let every = self.plan.policy == RecordPolicy::Every;
+        if !events.is_empty() {
+            while let Some(context) = self.pending.pop_front() {
+                self.write_steps(context)?;
+            }
+            self.after_event = EVENT_CONTEXT;
+            self.write_steps(records)?;
+        } else if every || on_log_grid || self.after_event > 0 {
+            self.after_event = self.after_event.saturating_sub(1);
+            self.write_steps(records)?;
+        } else {
+            if self.pending.len() == EVENT_CONTEXT {
+                self.pending.pop_front();
+            }
+            self.pending.push_back(records);
+        }
+        for event in events {
+            self.writer.write(&Record::Event(event.clone()))?;
+            self.trace.events.push(event);
+        }
+        Ok(())
+    }
+
+    /// Updates the tracks of one lens's fields and collects the transitions that are events.
+    fn track_fields(&mut self, lens: usize, s: &LensStep, on_log_grid: bool, events: &mut Vec<Option<EventRecord>>) {
+        for (index, m) in s.fields.iter().enumerate() {
+            let name = &self.plan.fields[index].name;
+            let track = &mut self.tracks[lens][index];
+            let mut found = Vec::new();
+            if m.nan && !track.nan {
+                found.push((EventName::Nan, format!("field {name} holds NaN from this step on")));
+            }
+            if m.infinite && !track.infinite {
+                found.push((EventName::Infinity, format!("field {name} holds an infinity from this step on")));
+            }
+            (track.nan, track.infinite) = (m.nan, m.infinite);
+            if m.tol_ratio > 1.0 && track.first_crossing.is_none() {
+                track.first_crossing = Some(s.step);
+                let cell = multi_index(m.worst_flat, &self.plan.fields[index].shape);
+                found.push((
+                    EventName::ToleranceCrossed,
+                    format!(
+                        "the largest error estimate {:.3e} (cell {cell:?}) is {:.3} times what the tolerance allows",
+                        m.max_err, m.tol_ratio
+                    ),
+                ));
+            }
+            if on_log_grid {
+                track.history.push((s.step, m.max_err));
+            }
+            track.last = Some((s.step, m.clone()));
+            for (kind, detail) in found {
+                events.push(self.event(lens, kind, Some(index), None, 1, detail));
+            }
+        }
+        for mismatch in &s.mismatches {
+            let track = &mut self.tracks[lens][mismatch.field];
+            if !std::mem::replace(&mut track.mismatch, true) {
+                let cell = multi_index(mismatch.flat, &self.plan.fields[mismatch.field].shape);
+                let detail = format!(
+                    "cell {cell:?}: the lens's primal {:e} differs from the plain f64 original {:e}; the twin does not \
+reproduce the original kernel, so its error figures describe another computation",
+                    mismatch.lens_primal, mismatch.original
+                );
+                events.push(self.event(lens, EventName::PrimalMismatch, Some(mismatch.field), None, 1, detail));
+            }
+        }
+    }
+
+    /// Reports, once per lens and field, the step where a guaranteed bound stops being useful while the best
+    /// estimate says the error is still within tolerance (the dependency effect of interval-style bounds).
+    fn check_bounds(&mut self, steps: &[LensStep], events: &mut Vec<Option<EventRecord>>) {
+        let guaranteed: Vec<bool> = self.lenses.iter().map(|l| l.guaranteed).collect();
+        for (lens, s) in steps.iter().enumerate().filter(|(l, _)| guaranteed[*l]) {
+            for (index, m) in s.fields.iter().enumerate() {
+                let (Some(bound), Some(bound_ratio)) = (m.bound, m.bound_tol_ratio) else { continue };
+                let useless = bound_ratio > 1.0 || (bound > 0.0 && bound >= m.max_abs);
+                if !useless || self.tracks[lens][index].bound_lost {
+                    continue;
+                }
+                // The estimate: the largest among lenses without a guarantee, else this lens's own.
+                let estimates: Vec<(usize, &FieldMeasure)> = steps
+                    .iter()
+                    .enumerate()
+                    .filter(|(l, _)| !guaranteed[*l])
+                    .map(|(l, other)| (l, &other.fields[index]))
+                    .collect();
+                let (estimate_lens, estimate) =
+                    estimates.iter().copied().max_by(|a, b| a.1.max_err.total_cmp(&b.1.max_err)).unwrap_or((lens, m));
+                if estimate.tol_ratio > 1.0 {
+                    continue;
+                }
+                self.tracks[lens][index].bound_lost = true;
+                let why = if bound_ratio > 1.0 {
+                    format!("it is {bound_ratio:.3} times the tolerance")
+                } else {
+                    format!("it exceeds the largest |u| = {:.3e}", m.max_abs)
+                };
+                let detail = format!(
+                    "bound lost: the guaranteed bound {bound:.3e} of lens {} is no longer useful ({why}), while the \
+estimate of lens {} is {:.3e}, within tolerance; the bound grows by the dependency effect of enclosure arithmetic, not \
+because the rounding error does",
+                    self.lenses[lens].name, self.lenses[estimate_lens].name, estimate.max_err
+                );
+                let mut event = self.event(lens, EventName::BoundLost, Some(index), None, 1, detail);
+                if let Some(e) = event.as_mut() {
+                    e.bound = Some(bound);
+                    e.estimate = Some(estimate.max_err);
+                }
+                events.push(event);
+            }
+        }
+    }
+
+    /// Counts an event and returns the record to write, if the policy writes this occurrence.
+    fn event(
+        &mut self,
+        lens: usize,
+        kind: EventName,
+        field: Option<usize>,
+        site: Option<SiteRecord>,
+        count: u64,
+        detail: String,
+    ) -> Option<EventRecord> {
+        let step = self.last_step.unwrap_or(0);
+        let lens_name = self.lenses[lens].name.to_string();
+        let field_name = field.map(|f| self.plan.fields[f].name.clone());
+        let total = self.totals.entry((lens, kind, field, site.clone())).or_insert_with(|| EventTotal {
+            lens: lens_name.clone(),
+            kind,
+            field: field_name.clone(),
+            site: site.clone(),
+            first_step: step,
+            last_step: step,
+            steps: 0,
+            count: 0,
+        });
+        total.last_step = step;
+        total.steps += 1;
+        total.count += count;
+        // Occurrences 1, 2, 4, 8, … of the same event at the same place are written under `auto`.
+        let write = self.plan.policy == RecordPolicy::Every || total.steps.is_power_of_two();
+        write.then_some(EventRecord {
+            step,
+            lens: lens_name,
+            kind,
+            field: field_name,
+            site,
+            count,
+            detail,
+            bound: None,
+            estimate: None,
+        })
+    }
+
+    fn step_record(&self, lens: usize, s: &LensStep) -> StepRecord {
+        let fields = s
+            .fields
+            .iter()
+            .zip(&self.plan.fields)
+            .map(|(m, spec)| FieldStep {
+                name: spec.name.clone(),
+                max_err: m.max_err,
+                mean_err: m.mean_err,
+                max_rel_err: m.max_rel_err,
+                mean_rel_err: m.mean_rel_err,
+                bound: m.bound,
+                correct_bits: m.correct_bits,
+                worst_cell: multi_index(m.worst_flat, &spec.shape),
+                tol_ratio: m.tol_ratio,
+                representation_err: None,
+                bound_tol_ratio: m.bound_tol_ratio,
+                max_abs: m.max_abs,
+            })
+            .collect();
+        StepRecord { step: s.step, lens: self.lenses[lens].name.to_string(), fields }
+    }
+
+    fn write_steps(&mut self, records: Vec<StepRecord>) -> Result<(), Error> {
+        for record in records {
+            self.last_written_step = Some(record.step);
+            self.writer.write(&Record::Step(record.clone()))?;
+            self.trace.steps.push(record);
+        }
+        Ok(())
+    }
+
+    /// Ends a normal run: writes the last step if it is not written yet, then the summary with the verdict, and
+    /// returns the whole trace as written.
+    pub fn finish(mut self) -> Result<Trace, Error> {
+        if self.last_written_step != self.last_step {
+            if let Some(last) = self.pending.pop_back() {
+                self.write_steps(last)?;
+            }
+        }
+        let steps_done = self.last_step.unwrap_or(0);
+        let horizon = self.plan.horizon.max(steps_done);
+        let mut results = Vec::new();
+        let mut evidence = Vec::new();
+        for (lens, tracks) in self.tracks.iter().enumerate() {
+            for (index, track) in tracks.iter().enumerate() {
+                let Some((last_step, last)) = &track.last else { continue };
+                let mut history = track.history.clone();
+                if history.last().map(|h| h.0) != Some(*last_step) {
+                    history.push((*last_step, last.max_err));
+                }
+                let growth = verdict::fit_growth(&history);
+                let info = &self.lenses[lens];
+                let field = self.plan.fields[index].name.clone();
+                results.push(ResultRecord {
+                    lens: info.name.to_string(),
+                    field: field.clone(),
+                    first_crossing: track.first_crossing,
+                    final_max_err: last.max_err,
+                    final_bound: last.bound,
+                    growth,
+                    extrapolated_err: growth.map(|g| g.at(horizon as f64)),
+                });
+                // The error the tolerance allowed at the worst cell: err / (err / allowed).
+                let allowed_at_end = if last.tol_ratio > 0.0 {
+                    last.max_err / last.tol_ratio
+                } else {
+                    self.plan.tolerance.allowed(last.max_abs)
+                };
+                evidence.push(Evidence {
+                    lens: info.name.to_string(),
+                    field,
+                    guaranteed: info.guaranteed,
+                    first_crossing: track.first_crossing,
+                    final_max_err: last.max_err,
+                    allowed_at_end,
+                    growth,
+                });
+            }
+        }
+        let verdict = verdict::decide(&evidence, steps_done, horizon, &self.plan.tolerance.describe());
+        let summary = Summary {
+            steps_done,
+            complete: true,
+            wall_s: self.started.elapsed().as_secs_f64(),
+            results,
+            verdict,
+            event_totals: self.totals.values().cloned().collect(),
+        };
+        self.writer.write(&Record::Summary(summary.clone()))?;
+        self.trace.summary = Some(summary);
+        Ok(self.trace)
+    }
+}
+
+impl LensStep {
+    fn into_all(self) -> Vec<LensStep> {
+        vec![self]
+    }
+}

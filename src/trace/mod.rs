@@ -1,0 +1,314 @@
+//! The trace: what an audit writes to disk, as JSON Lines (`docs/trace.md` is the contract).
+//!
+//! One header, then step and event records in step order, then a closing summary written only when the run ended
+//! normally. The writer flushes after every record, so a killed run leaves a prefix that [`read`] still accepts
+//! (reported as incomplete). The types here are the serde form of each record; the reader and the writer share
+//! them, so the round trip is exact by construction and tested.
+
+mod reader;
+mod writer;
+
+use serde::{Deserialize, Deserializer, Serialize};
+
+pub use crate::audit::Tolerance;
+pub use crate::verdict::{Growth, Status, Verdict};
+pub use reader::{parse, read, ReadError};
+pub use writer::TraceWriter;
+
+/// The `format` member of every header.
+pub const FORMAT: &str = "twinstep-trace";
+/// The trace format version this crate writes and reads.
+pub const VERSION: u32 = 1;
+
+/// A whole trace, as read back (or as assembled by the audit while it wrote it).
+#[derive(Clone, Debug, PartialEq)]
+pub struct Trace {
+    pub header: Header,
+    pub steps: Vec<StepRecord>,
+    pub events: Vec<EventRecord>,
+    /// `None` for an incomplete run (killed, or stopped by an error).
+    pub summary: Option<Summary>,
+    /// The file ended in a partial line (a run killed while writing), which the reader skipped.
+    pub truncated_tail: bool,
+}
+
+impl Trace {
+    /// Whether the run ended normally (the trace has its summary).
+    #[must_use]
+    pub fn is_complete(&self) -> bool {
+        self.summary.as_ref().is_some_and(|s| s.complete)
+    }
+}
+
+/// One line of the trace.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[serde(tag = "record", rename_all = "snake_case")]
+pub enum Record {
+    Header(Header),
+    Step(StepRecord),
+    Event(EventRecord),
+    Summary(Summary),
+}
+
+/// The first line: what was audited, how, and on what.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct Header {
+    pub format: String,
+    pub version: u32,
+    pub kernel: String,
+    pub scenario: String,
+    pub lenses: Vec<String>,
+    pub fields: Vec<FieldSpec>,
+    pub tolerance: Tolerance,
+    /// The horizon the user plans to run; the verdict extrapolates to it.
+    pub steps_planned: u64,
+    /// The steps this audit runs (≤ `steps_planned`); absent in traces that audit the whole horizon.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub steps_audited: Option<u64>,
+    pub record_policy: RecordPolicy,
+    pub machine: Machine,
+    pub build: Build,
+    pub started_unix_s: u64,
+}
+
+/// A field's name and shape (row-major: the last index varies fastest).
+#[derive(Clone, Debug, PartialEq, Eq, Serialize, Deserialize)]
+pub struct FieldSpec {
+    pub name: String,
+    pub shape: Vec<usize>,
+}
+
+impl FieldSpec {
+    /// A field spec; the shape lists the extent of each dimension.
+    #[must_use]
+    pub fn new(name: impl Into<String>, shape: &[usize]) -> FieldSpec {
+        FieldSpec { name: name.into(), shape: shape.to_vec() }
+    }
+
+    /// The number of cells, `None` when the product overflows `usize`.
+    #[must_use]
+    pub fn cells(&self) -> Option<usize> {
+        self.shape.iter().try_fold(1usize, |acc, &d| acc.checked_mul(d))
+    }
+}
+
+/// Which steps get a step record.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum RecordPolicy {
+    /// Every step around events, log-spaced steps otherwise, and the last step: the trace stays small.
+    Auto,
+    /// Every step, and every event occurrence.
+    Every,
+}
+
+/// Facts about the machine the audit ran on.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct Machine {
+    pub os: String,
+    pub arch: String,
+    pub cpus: usize,
+}
+
+impl Machine {
+    /// The machine this process runs on.
+    #[must_use]
+    pub fn current() -> Machine {
+        Machine {
+            os: std::env::consts::OS.to_string(),
+            arch: std::env::consts::ARCH.to_string(),
+            cpus: std::thread::available_parallelism().map_or(1, |n| n.get()),
+        }
+    }
+}
+
+/// Facts about the build that produced the audit.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct Build {
+    pub twinstep: String,
+    pub profile: String,
+    pub target_features: Vec<String>,
+}
+
+impl Build {
+    /// The build of this crate: version, profile (by `debug_assertions`, as cargo's profiles set it) and the
+    /// floating-point-relevant target features it was compiled with.
+    #[must_use]
+    pub fn current() -> Build {
+        let mut target_features = Vec::new();
+        macro_rules! features {
+            ($($f:literal),*) => { $( if cfg!(target_feature = $f) { target_features.push($f.to_string()); } )* };
+        }
+        features!("sse2", "avx", "avx2", "fma", "avx512f", "neon");
+        let profile = if cfg!(debug_assertions) { "debug" } else { "release" };
+        Build { twinstep: env!("CARGO_PKG_VERSION").to_string(), profile: profile.to_string(), target_features }
+    }
+}
+
+/// One recorded step of one lens.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct StepRecord {
+    pub step: u64,
+    pub lens: String,
+    pub fields: Vec<FieldStep>,
+}
+
+/// The error of one field after one step, as one lens sees it.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct FieldStep {
+    pub name: String,
+    #[serde(deserialize_with = "nan_if_null")]
+    pub max_err: f64,
+    #[serde(deserialize_with = "nan_if_null")]
+    pub mean_err: f64,
+    #[serde(deserialize_with = "nan_if_null")]
+    pub max_rel_err: f64,
+    #[serde(deserialize_with = "nan_if_null")]
+    pub mean_rel_err: f64,
+    pub bound: Option<f64>,
+    #[serde(deserialize_with = "nan_if_null")]
+    pub correct_bits: f64,
+    pub worst_cell: Vec<usize>,
+    #[serde(deserialize_with = "nan_if_null")]
+    pub tol_ratio: f64,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub representation_err: Option<f64>,
+    /// The largest `bound / allowed` over the cells (lenses with a guaranteed bound only).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub bound_tol_ratio: Option<f64>,
+    /// The largest `|u|` over the cells (the primal).
+    #[serde(default, deserialize_with = "nan_if_null")]
+    pub max_abs: f64,
+}
+
+/// What an event record reports.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum EventName {
+    Nan,
+    Infinity,
+    BranchInstability,
+    IndexInstability,
+    DivisionByZeroEnclosure,
+    ToleranceCrossed,
+    BoundLost,
+    PrimalMismatch,
+}
+
+impl EventName {
+    /// The name used in traces and reports (the serde name).
+    #[must_use]
+    pub fn name(self) -> &'static str {
+        match self {
+            EventName::Nan => "nan",
+            EventName::Infinity => "infinity",
+            EventName::BranchInstability => "branch_instability",
+            EventName::IndexInstability => "index_instability",
+            EventName::DivisionByZeroEnclosure => "division_by_zero_enclosure",
+            EventName::ToleranceCrossed => "tolerance_crossed",
+            EventName::BoundLost => "bound_lost",
+            EventName::PrimalMismatch => "primal_mismatch",
+        }
+    }
+}
+
+impl From<crate::events::EventKind> for EventName {
+    fn from(kind: crate::events::EventKind) -> EventName {
+        use crate::events::EventKind as K;
+        match kind {
+            K::BranchInstability => EventName::BranchInstability,
+            K::IndexInstability => EventName::IndexInstability,
+            K::Nan => EventName::Nan,
+            K::Infinity => EventName::Infinity,
+            K::DivisionByZeroEnclosure => EventName::DivisionByZeroEnclosure,
+        }
+    }
+}
+
+/// A source location in the user's kernel, as stored in a trace.
+#[derive(Clone, Debug, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize, Deserialize)]
+pub struct SiteRecord {
+    pub file: String,
+    pub line: u32,
+    pub column: u32,
+}
+
+impl From<crate::events::Site> for SiteRecord {
+    fn from(site: crate::events::Site) -> SiteRecord {
+        SiteRecord { file: site.file.to_string(), line: site.line, column: site.column }
+    }
+}
+
+impl std::fmt::Display for SiteRecord {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        write!(f, "{}:{}:{}", self.file, self.line, self.column)
+    }
+}
+
+/// Something that happened at a step.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct EventRecord {
+    pub step: u64,
+    pub lens: String,
+    pub kind: EventName,
+    pub field: Option<String>,
+    pub site: Option<SiteRecord>,
+    pub count: u64,
+    pub detail: String,
+    /// `bound_lost`: the guaranteed bound at that step.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub bound: Option<f64>,
+    /// `bound_lost`: the best estimate of the true error at that step (from a lens without a guarantee when the
+    /// audit has one).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub estimate: Option<f64>,
+}
+
+/// The last line, written only when the run ended normally.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct Summary {
+    pub steps_done: u64,
+    pub complete: bool,
+    #[serde(deserialize_with = "nan_if_null")]
+    pub wall_s: f64,
+    pub results: Vec<ResultRecord>,
+    pub verdict: Verdict,
+    /// Every event of the run, aggregated per lens, kind, field and site (the event records themselves are
+    /// thinned out under the `auto` policy).
+    #[serde(default)]
+    pub event_totals: Vec<EventTotal>,
+}
+
+/// The outcome for one lens and field.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct ResultRecord {
+    pub lens: String,
+    pub field: String,
+    pub first_crossing: Option<u64>,
+    #[serde(deserialize_with = "nan_if_null")]
+    pub final_max_err: f64,
+    pub final_bound: Option<f64>,
+    pub growth: Option<Growth>,
+    pub extrapolated_err: Option<f64>,
+}
+
+/// All occurrences of one kind of event at one place.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct EventTotal {
+    pub lens: String,
+    pub kind: EventName,
+    pub field: Option<String>,
+    pub site: Option<SiteRecord>,
+    pub first_step: u64,
+    pub last_step: u64,
+    /// Steps at which it happened.
+    pub steps: u64,
+    /// Occurrences over the run.
+    pub count: u64,
+}
+
+/// JSON has no NaN or infinity: serde_json writes them as `null`, and this reads `null` back as NaN, so a trace
+/// of a run that blew up still reads.
+fn nan_if_null<'de, D: Deserializer<'de>>(deserializer: D) -> Result<f64, D::Error> {
+    Ok(Option::<f64>::deserialize(deserializer)?.unwrap_or(f64::NAN))
+}

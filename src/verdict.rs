@@ -1,0 +1,285 @@
+//! The verdict: is f64 enough for the run the user plans?
+//!
+//! For each lens and field the audit keeps a log-spaced history of the largest error estimate. Two growth laws
+//! are fitted to it by least squares — a power law `err ≈ c·n^α` (a straight line in log–log) and an exponential
+//! `err ≈ c·e^{βn}` (a straight line in semi-log) — and the one with the smaller residual in `ln err` wins. The
+//! law is extrapolated to the planned horizon. The status is `enough` (no crossing observed or extrapolated),
+//! `enough_until` step N (the last step within tolerance), or `not_enough` (the tolerance is crossed at the
+//! initial data or the first step). The least precision that would do needs a sweep over emulated formats, which
+//! this version does not run: the field stays null and the text says so.
+
+use serde::{Deserialize, Serialize};
+
+/// A fitted growth law of the error with the step number `n`.
+#[derive(Clone, Copy, Debug, PartialEq, Serialize, Deserialize)]
+#[serde(tag = "law", rename_all = "snake_case")]
+pub enum Growth {
+    /// `err ≈ c·n^α`.
+    Power { c: f64, alpha: f64 },
+    /// `err ≈ c·e^{βn}`.
+    Exponential { c: f64, beta: f64 },
+}
+
+impl Growth {
+    /// The law's value at step `n`.
+    #[must_use]
+    pub fn at(&self, n: f64) -> f64 {
+        match *self {
+            Growth::Power { c, alpha } => c * n.powf(alpha),         // c·n^α
+            Growth::Exponential { c, beta } => c * (beta * n).exp(), // c·e^{βn}
+        }
+    }
+
+    /// The step at which the law reaches `level`, when it grows towards it.
+    #[must_use]
+    pub fn reaches(&self, level: f64) -> Option<f64> {
+        let n = match *self {
+            Growth::Power { c, alpha } if alpha > 0.0 => (level / c).powf(1.0 / alpha), // n = (level/c)^(1/α)
+            Growth::Exponential { c, beta } if beta > 0.0 => (level / c).ln() / beta,   // n = ln(level/c)/β
+            _ => return None,
+        };
+        n.is_finite().then_some(n.max(0.0))
+    }
+
+    /// A short formula with the fitted numbers: `3.1e-17·n^1.02`.
+    #[must_use]
+    pub fn describe(&self) -> String {
+        match *self {
+            Growth::Power { c, alpha } => format!("{c:.3e}*n^{alpha:.3}"),
+            Growth::Exponential { c, beta } => format!("{c:.3e}*exp({beta:.3e}*n)"),
+        }
+    }
+}
+
+/// The straight line `y ≈ a + b·x` through `points` by ordinary least squares, and its residual sum of squares.
+/// `None` with fewer than two distinct abscissae.
+fn least_squares(points: &[(f64, f64)]) -> Option<(f64, f64, f64)> {
+    let m = points.len() as f64;
+    if points.len() < 2 {
+        return None;
+    }
+    let mean_x = points.iter().map(|p| p.0).sum::<f64>() / m;
+    let mean_y = points.iter().map(|p| p.1).sum::<f64>() / m;
+    // b = Σ(x − x̄)(y − ȳ) / Σ(x − x̄)², a = ȳ − b·x̄ (normal equations of the linear model; any statistics text,
+    // common practice, no source). Centring first keeps the sums well conditioned.
+    let sxx: f64 = points.iter().map(|p| (p.0 - mean_x).powi(2)).sum();
+    if sxx == 0.0 || !sxx.is_finite() {
+        return None;
+    }
+    let sxy: f64 = points.iter().map(|p| (p.0 - mean_x) * (p.1 - mean_y)).sum();
+    let b = sxy / sxx;
+    let a = mean_y - b * mean_x;
+    let rss = points.iter().map(|p| (p.1 - a - b * p.0).powi(2)).sum();
+    Some((a, b, rss))
+}
+
+/// Fits both growth laws to `(step, err)` samples and returns the better one. Samples at step 0 or with an error
+/// that is zero or not finite carry no information on a logarithmic scale and are left out; at least three must
+/// remain.
+#[must_use]
+pub fn fit_growth(samples: &[(u64, f64)]) -> Option<Growth> {
+    let usable: Vec<(f64, f64)> =
+        samples.iter().filter(|(n, e)| *n > 0 && *e > 0.0 && e.is_finite()).map(|&(n, e)| (n as f64, e.ln())).collect();
+    if usable.len() < 3 {
+        return None;
+    }
+    // ln err = ln c + α ln n
+    let log_log: Vec<(f64, f64)> = usable.iter().map(|&(n, y)| (n.ln(), y)).collect();
+    let power = least_squares(&log_log).map(|(a, alpha, rss)| (Growth::Power { c: a.exp(), alpha }, rss));
+    // ln err = ln c + β n
+    let exponential = least_squares(&usable).map(|(a, beta, rss)| (Growth::Exponential { c: a.exp(), beta }, rss));
+    // Both fits model the same ln err values with two parameters, so their residual sums compare directly.
+    match (power, exponential) {
+        (Some(p), Some(e)) => Some(if e.1 < p.1 { e.0 } else { p.0 }),
+        (p, e) => p.or(e).map(|(g, _)| g),
+    }
+}
+
+/// `enough`, `enough_until` or `not_enough`.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Status {
+    Enough,
+    EnoughUntil,
+    NotEnough,
+}
+
+/// The conclusion of an audit.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct Verdict {
+    pub status: Status,
+    /// The last step within tolerance, for `enough_until`.
+    pub until_step: Option<u64>,
+    /// The least precision meeting the tolerance: not computed in this version (needs emulated formats).
+    pub least_precision_bits: Option<u32>,
+    pub text: String,
+}
+
+/// What the verdict needs to know about one lens and field.
+#[derive(Clone, Debug)]
+pub struct Evidence {
+    pub lens: String,
+    pub field: String,
+    /// Whether the lens's numbers are guaranteed bounds rather than estimates.
+    pub guaranteed: bool,
+    pub first_crossing: Option<u64>,
+    pub final_max_err: f64,
+    /// `final_max_err / final tol_ratio`: the error the tolerance allowed at the worst cell at the last step.
+    pub allowed_at_end: f64,
+    pub growth: Option<Growth>,
+}
+
+/// The rounding-only caution every verdict and report carries.
+pub const CAUTION: &str = "twinstep judges rounding error only, not discretization or modelling error. Results \
+that feed safety-relevant engineering decisions go through the verification and validation practice and codes that \
+apply locally, and licensed review.";
+
+/// The step at which one lens and field leaves the tolerance, observed or extrapolated: `(step, observed)`.
+fn crossing(e: &Evidence, steps_done: u64, horizon: u64) -> Option<(u64, bool)> {
+    if let Some(step) = e.first_crossing {
+        return Some((step, true));
+    }
+    if horizon <= steps_done || !(e.allowed_at_end > 0.0) {
+        return None;
+    }
+    let growth = e.growth?;
+    if growth.at(horizon as f64) <= e.allowed_at_end {
+        return None;
+    }
+    // The extrapolated crossing lies beyond the audited steps (none was observed), inside the horizon.
+    let at = growth.reaches(e.allowed_at_end).unwrap_or(horizon as f64);
+    Some(((at.ceil() as u64).clamp(steps_done + 1, horizon), false))
+}
+
+/// Decides the verdict from the evidence of every lens and field. Estimates (lenses without a guarantee) judge
+/// when the audit has any; otherwise the guaranteed bounds do, which errs on the safe side.
+#[must_use]
+pub fn decide(evidence: &[Evidence], steps_done: u64, horizon: u64, tolerance: &str) -> Verdict {
+    let has_estimates = evidence.iter().any(|e| !e.guaranteed);
+    let judges: Vec<&Evidence> = evidence.iter().filter(|e| !e.guaranteed || !has_estimates).collect();
+    let basis = if has_estimates { "error estimate" } else { "guaranteed bound" };
+    let earliest = judges
+        .iter()
+        .filter_map(|e| crossing(e, steps_done, horizon).map(|c| (c, *e)))
+        .min_by_key(|((step, _), _)| *step);
+    let worst = judges
+        .iter()
+        .copied()
+        .max_by(|a, b| (a.final_max_err / a.allowed_at_end).total_cmp(&(b.final_max_err / b.allowed_at_end)));
+    let precision = "The least precision that would meet the tolerance is not computed: that needs a sweep over \
+emulated formats, which this version does not run.";
+    let (status, until_step, finding) = match (earliest, worst) {
+        (None, None) => (Status::Enough, None, "No field had a usable measurement.".to_string()),
+        (Some(((step, observed), e)), _) => {
+            let how = if observed {
+                format!("observed at step {step}")
+            } else {
+                format!("extrapolated to step {step} by the fitted growth {}", describe_growth(e.growth))
+            };
+            let status = if step <= 1 { Status::NotEnough } else { Status::EnoughUntil };
+            let until = (status == Status::EnoughUntil).then(|| step - 1);
+            let lead = match status {
+                Status::NotEnough => "f64 is not enough".to_string(),
+                _ => format!("f64 is enough until step {} of {horizon}", step - 1),
+            };
+            let text = format!(
+                "{lead}: the {basis} of lens {} for field {} crosses the tolerance ({tolerance}), {how}; at the \
+last audited step it is {:.3e} against {:.3e} allowed.",
+                e.lens, e.field, e.final_max_err, e.allowed_at_end
+            );
+            (status, until, text)
+        }
+        (None, Some(e)) => {
+            let horizon_part = match e.growth {
+                Some(g) if horizon > steps_done => format!(
+                    "; its fitted growth {} extrapolates to {:.3e} at the planned step {horizon}",
+                    g.describe(),
+                    g.at(horizon as f64)
+                ),
+                Some(g) => format!("; fitted growth {}", g.describe()),
+                None => String::new(),
+            };
+            let text = format!(
+                "f64 is enough for the planned {horizon} steps: the largest {basis} (lens {}, field {}) is {:.3e} \
+after {steps_done} steps, {:.3} of the {:.3e} the tolerance ({tolerance}) allows there{horizon_part}.",
+                e.lens,
+                e.field,
+                e.final_max_err,
+                e.final_max_err / e.allowed_at_end,
+                e.allowed_at_end
+            );
+            (Status::Enough, None, text)
+        }
+    };
+    Verdict { status, until_step, least_precision_bits: None, text: format!("{finding} {precision} {CAUTION}") }
+}
+
+fn describe_growth(growth: Option<Growth>) -> String {
+    growth.map_or_else(|| "(none)".to_string(), |g| g.describe())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn recovers_a_power_law() {
+        // Samples of exactly 2e-16·n^1.5 (closed form): the fit must give back c and α and prefer the power law.
+        let samples: Vec<(u64, f64)> =
+            [1u64, 2, 4, 8, 16, 32, 64, 128, 256, 512].iter().map(|&n| (n, 2e-16 * (n as f64).powf(1.5))).collect();
+        match fit_growth(&samples) {
+            Some(Growth::Power { c, alpha }) => {
+                assert!((alpha - 1.5).abs() < 1e-9, "alpha {alpha}");
+                assert!((c / 2e-16 - 1.0).abs() < 1e-9, "c {c}");
+            }
+            other => panic!("expected a power law, got {other:?}"),
+        }
+    }
+
+    #[test]
+    fn recovers_an_exponential() {
+        // Samples of exactly 1e-16·e^{0.05 n} (closed form).
+        let samples: Vec<(u64, f64)> = (1..40u64).map(|n| (n * 5, 1e-16 * (0.05 * (n * 5) as f64).exp())).collect();
+        match fit_growth(&samples) {
+            Some(Growth::Exponential { c, beta }) => {
+                assert!((beta - 0.05).abs() < 1e-9, "beta {beta}");
+                assert!((c / 1e-16 - 1.0).abs() < 1e-6, "c {c}");
+            }
+            other => panic!("expected an exponential, got {other:?}"),
+        }
+    }
+
+    #[test]
+    fn too_few_points_give_no_law() {
+        assert_eq!(fit_growth(&[(0, 1.0), (1, 0.0), (2, f64::NAN), (3, 1e-16)]), None);
+    }
+
+    fn evidence(first_crossing: Option<u64>, growth: Option<Growth>) -> Evidence {
+        Evidence {
+            lens: "shadow".into(),
+            field: "u".into(),
+            guaranteed: false,
+            first_crossing,
+            final_max_err: 1e-14,
+            allowed_at_end: 1e-10,
+            growth,
+        }
+    }
+
+    #[test]
+    fn statuses_follow_the_crossing() {
+        let v = decide(&[evidence(Some(42), None)], 100, 100, "absolute");
+        assert_eq!((v.status, v.until_step), (Status::EnoughUntil, Some(41)));
+        let v = decide(&[evidence(Some(0), None)], 100, 100, "absolute");
+        assert_eq!(v.status, Status::NotEnough);
+        let v = decide(&[evidence(None, None)], 100, 100, "absolute");
+        assert_eq!(v.status, Status::Enough);
+        assert!(v.text.contains("rounding error only"));
+        assert!(v.least_precision_bits.is_none());
+        // 1e-16·n reaches 1e-10 at n = 1e6 (closed form), inside a horizon of 1e7.
+        let v = decide(&[evidence(None, Some(Growth::Power { c: 1e-16, alpha: 1.0 }))], 100, 10_000_000, "absolute");
+        assert_eq!(v.status, Status::EnoughUntil);
+        let until = v.until_step.unwrap();
+        assert!((999_990..=1_000_000).contains(&until), "until {until}");
+    }
+}
