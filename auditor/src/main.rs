@@ -1,12 +1,20 @@
-//! The `twinstep` command. Parsing (clap) is kept apart from doing; every error reaches one printer in `main`,
-//! and the exit codes are documented in the README: 0 success, 1 a gate failed, 2 usage or input error.
+//! The `twinstep` command. Parsing (clap) is kept apart from doing (the `twinstep_cli` library); every error
+//! reaches one printer in `main`. Exit codes (`docs/cli.md`): 0 success, 1 a gate failed, 2 usage or input error,
+//! 3 the audited program or its build failed.
 
-use clap::{Parser, Subcommand};
-use std::path::PathBuf;
+use clap::{Args, Parser, Subcommand};
+use std::io::IsTerminal;
+use std::path::{Path, PathBuf};
 use std::process::ExitCode;
+use twinstep_cli::failure::{Exit, Failure};
+use twinstep_cli::report::Format;
+use twinstep_cli::run::{Harness, RunRequest};
+use twinstep_cli::trace::Tolerance;
 
 #[derive(Parser)]
 #[command(name = "twinstep", version, about = "Audit how far floating-point rounding moves a stencil solver's fields")]
+#[command(after_help = "twinstep judges rounding error only, not discretization or modelling error.\n\
+Exit codes: 0 success, 1 a gate failed, 2 usage or input error, 3 the audited program or its build failed.")]
 struct Cli {
     #[command(subcommand)]
     command: Command,
@@ -22,17 +30,137 @@ enum Command {
         #[arg(long)]
         item: Option<String>,
     },
+    /// Render a trace as a report: terminal text, Markdown, JSON, CSV, or a self-contained HTML page with plots.
+    #[command(after_help = "A trace without a closing summary (a killed run) still renders, with an \
+\"incomplete run\" notice.\nExit codes: 0 written, 2 unreadable or invalid trace, or unwritable output.")]
+    Report {
+        /// The trace file (JSON Lines, see docs/trace.md).
+        trace: PathBuf,
+        /// Output format.
+        #[arg(long, short, value_enum, default_value = "text")]
+        format: Format,
+        /// Write to this file instead of stdout.
+        #[arg(long, short)]
+        output: Option<PathBuf>,
+    },
+    /// Exit 0 when every field stays within tolerance for the whole run, 1 when one does not.
+    #[command(after_help = "Without --atol/--rtol/--ulps the tolerance recorded in the trace decides.\n\
+--atol alone is absolute, --rtol alone relative, both together mixed (err <= atol + rtol*|u|).\n\
+An incomplete run, a NaN or an infinity fails the gate.\n\
+Exit codes: 0 within tolerance, 1 a field crosses it (the first crossing is printed), 2 usage or input error.")]
+    Gate {
+        /// The trace file.
+        trace: PathBuf,
+        #[command(flatten)]
+        tolerance: ToleranceArgs,
+        /// Judge only this lens (repeat for several); all lenses by default.
+        #[arg(long = "lens", value_name = "LENS")]
+        lenses: Vec<String>,
+    },
+    /// Build and run your audit harness through cargo, then print its report.
+    #[command(after_help = "The harness (an example, binary or test of your crate) must write its trace to the path \
+in the TWINSTEP_TRACE environment variable, e.g. `Audit::new(..).trace(std::env::var(\"TWINSTEP_TRACE\")?)`.\n\
+It is built in its own target directory (default <workspace>/target/twinstep) with -C target-cpu=haswell on x86-64 \
+appended to CARGO_ENCODED_RUSTFLAGS, so your own build settings and artefacts stay untouched.\n\
+A progress bar is drawn on stderr when it is a terminal.\n\
+Exit codes: 0 the harness ran and its report was written, 2 usage or input error, 3 the build or the harness failed \
+(its partial trace, if any, is still reported).")]
+    Run {
+        #[command(flatten)]
+        harness: HarnessArgs,
+        /// The Cargo.toml of the crate that holds the harness.
+        #[arg(long, value_name = "PATH")]
+        manifest_path: Option<PathBuf>,
+        /// Cargo features to enable (repeat, or separate with commas).
+        #[arg(long, value_name = "FEATURES", value_delimiter = ',')]
+        features: Vec<String>,
+        /// The cargo profile to build the harness with.
+        #[arg(long, value_name = "PROFILE", default_value = "release")]
+        profile: String,
+        /// Cargo target directory for the audit build [default: <workspace>/target/twinstep].
+        #[arg(long, value_name = "DIR")]
+        target_dir: Option<PathBuf>,
+        /// Where the harness writes its trace [default: <target dir>/traces/<name>.jsonl].
+        #[arg(long, value_name = "FILE")]
+        trace: Option<PathBuf>,
+        /// Format of the report printed at the end.
+        #[arg(long, short, value_enum, default_value = "text")]
+        format: Format,
+        /// Write the report to this file instead of stdout.
+        #[arg(long, short)]
+        output: Option<PathBuf>,
+        /// Arguments for the harness, after `--`.
+        #[arg(last = true, value_name = "ARGS")]
+        args: Vec<String>,
+    },
 }
 
-/// An error for the user: one line, and the exit code it maps to.
-struct Failure {
-    message: String,
-    code: u8,
+/// Which target of the user's crate is the audit harness: exactly one of the three.
+#[derive(Args)]
+#[group(required = true, multiple = false)]
+struct HarnessArgs {
+    /// The harness is this example (`cargo run --example NAME`).
+    #[arg(long, value_name = "NAME")]
+    example: Option<String>,
+    /// The harness is this binary (`cargo run --bin NAME`).
+    #[arg(long, value_name = "NAME")]
+    bin: Option<String>,
+    /// The harness is this integration test (`cargo test --test NAME`).
+    #[arg(long, value_name = "NAME")]
+    test: Option<String>,
 }
 
-fn expand(file: &PathBuf, item: Option<&str>) -> Result<(), Failure> {
-    let source = std::fs::read_to_string(file)
-        .map_err(|e| Failure { message: format!("{}: cannot read: {e}", file.display()), code: 2 })?;
+impl HarnessArgs {
+    fn resolve(&self) -> Harness {
+        match (&self.example, &self.bin, &self.test) {
+            (Some(name), _, _) => Harness::Example(name.clone()),
+            (None, Some(name), _) => Harness::Bin(name.clone()),
+            (None, None, Some(name)) => Harness::Test(name.clone()),
+            // clap's group makes one of the three required.
+            (None, None, None) => Harness::Example(String::new()),
+        }
+    }
+}
+
+/// Tolerance options of `gate`, as typed.
+#[derive(Args)]
+struct ToleranceArgs {
+    /// Absolute tolerance: err <= ATOL (with --rtol: err <= ATOL + RTOL*|u|).
+    #[arg(long, value_name = "ATOL", conflicts_with = "ulps")]
+    atol: Option<f64>,
+    /// Relative tolerance: err <= RTOL*|u|.
+    #[arg(long, value_name = "RTOL", conflicts_with = "ulps")]
+    rtol: Option<f64>,
+    /// Tolerance in units in the last place: err <= ULPS*ulp(u).
+    #[arg(long, value_name = "ULPS")]
+    ulps: Option<f64>,
+}
+
+impl ToleranceArgs {
+    /// The tolerance the options name; `None` to use the trace's own.
+    fn resolve(&self) -> Result<Option<Tolerance>, Failure> {
+        let check = |name: &str, v: f64| {
+            if v.is_finite() && v >= 0.0 {
+                Ok(v)
+            } else {
+                Err(Failure::input(format!("--{name} must be a finite number >= 0, got {v}")))
+            }
+        };
+        Ok(match (self.atol, self.rtol, self.ulps) {
+            (_, _, Some(ulps)) => Some(Tolerance::Ulps { ulps: check("ulps", ulps)? }),
+            (Some(atol), Some(rtol), None) => {
+                Some(Tolerance::Mixed { atol: check("atol", atol)?, rtol: check("rtol", rtol)? })
+            }
+            (Some(atol), None, None) => Some(Tolerance::Absolute { atol: check("atol", atol)? }),
+            (None, Some(rtol), None) => Some(Tolerance::Relative { rtol: check("rtol", rtol)? }),
+            (None, None, None) => None,
+        })
+    }
+}
+
+fn expand(file: &Path, item: Option<&str>) -> Result<(), Failure> {
+    let source =
+        std::fs::read_to_string(file).map_err(|e| Failure::input(format!("{}: cannot read: {e}", file.display())))?;
     match twinstep_engine::expand_source(&source, item) {
         Ok(text) => {
             print!("{text}");
@@ -40,21 +168,77 @@ fn expand(file: &PathBuf, item: Option<&str>) -> Result<(), Failure> {
         }
         Err(errors) => {
             let lines: Vec<String> = errors.iter().map(|e| format!("{}:{e}", file.display())).collect();
-            Err(Failure { message: lines.join("\n"), code: 2 })
+            Err(Failure::input(lines.join("\n")))
         }
     }
+}
+
+/// Colour only when the text goes to a terminal and the user has not asked for none (`NO_COLOR`, no-color.org).
+fn colour_wanted(output: Option<&Path>) -> bool {
+    output.is_none() && std::io::stdout().is_terminal() && std::env::var_os("NO_COLOR").is_none_or(|v| v.is_empty())
+}
+
+fn report(trace: &Path, format: Format, output: Option<&Path>) -> Result<(), Failure> {
+    report_to(&twinstep_cli::input::read_trace(trace)?, format, output)
+}
+
+fn gate(trace_path: &Path, tolerance: &ToleranceArgs, lenses: &[String]) -> Result<(), Failure> {
+    let tolerance = tolerance.resolve()?;
+    let trace = twinstep_cli::input::read_trace(trace_path)?;
+    if let Some(unknown) = lenses.iter().find(|l| !trace.header.lenses.contains(l)) {
+        return Err(Failure::input(format!(
+            "{}: has no lens \"{unknown}\" (it has: {})",
+            trace_path.display(),
+            trace.header.lenses.join(", ")
+        )));
+    }
+    let outcome = twinstep_cli::gate::gate(&trace, tolerance, lenses);
+    if outcome.passed {
+        println!("twinstep gate: {}", outcome.lines.join("\n"));
+        Ok(())
+    } else {
+        Err(Failure { message: format!("gate failed: {}", outcome.lines.join("\n  ")), exit: Exit::GateFailed })
+    }
+}
+
+/// Renders the trace at `path` in `format` to `output` (stdout when `None`).
+fn report_to(trace: &twinstep_cli::trace::Trace, format: Format, output: Option<&Path>) -> Result<(), Failure> {
+    let text = twinstep_cli::report::render(trace, format, colour_wanted(output));
+    twinstep_cli::input::write_output(output, &text)
+}
+
+fn run(request: RunRequest, format: Format, output: Option<&Path>) -> Result<(), Failure> {
+    let plan = request.resolve()?;
+    let (trace_path, harness_failure) = twinstep_cli::run::run(&plan, std::io::stderr().is_terminal())?;
+    let trace = twinstep_cli::input::read_trace(&trace_path)?;
+    report_to(&trace, format, output)?;
+    harness_failure.map_or(Ok(()), Err)
 }
 
 fn main() -> ExitCode {
     let cli = Cli::parse();
     let result = match &cli.command {
         Command::Expand { file, item } => expand(file, item.as_deref()),
+        Command::Report { trace, format, output } => report(trace, *format, output.as_deref()),
+        Command::Gate { trace, tolerance, lenses } => gate(trace, tolerance, lenses),
+        Command::Run { harness, manifest_path, features, profile, target_dir, trace, format, output, args } => {
+            let request = RunRequest {
+                harness: harness.resolve(),
+                manifest_path: manifest_path.clone(),
+                features: features.clone(),
+                profile: profile.clone(),
+                target_dir: target_dir.clone(),
+                trace: trace.clone(),
+                args: args.clone(),
+            };
+            run(request, *format, output.as_deref())
+        }
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,
         Err(failure) => {
             eprintln!("twinstep: {}", failure.message);
-            ExitCode::from(failure.code)
+            ExitCode::from(failure.exit as u8)
         }
     }
 }

@@ -1,0 +1,210 @@
+//! The report as a list of blocks (headings, paragraphs, tables, the verdict), built once from an [`Analysis`] and
+//! then written out by the terminal, Markdown and HTML renderers. Keeping the wording here means the three formats
+//! cannot drift apart.
+
+use crate::analysis::{Analysis, FieldLens, CAUTION};
+use crate::trace::{Event, VerdictStatus};
+
+/// How a cell or line should stand out, where the format can show it.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Tone {
+    Plain,
+    Good,
+    Warn,
+    Bad,
+}
+
+/// A table cell.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Cell {
+    pub text: String,
+    pub tone: Tone,
+}
+
+impl Cell {
+    fn plain(text: impl Into<String>) -> Cell {
+        Cell { text: text.into(), tone: Tone::Plain }
+    }
+}
+
+/// One block of a report.
+#[derive(Clone, Debug, PartialEq)]
+pub enum Block {
+    Title(String),
+    /// Key–value lines about the run.
+    Facts(Vec<(String, String)>),
+    /// Something the reader must notice first (an incomplete run).
+    Notice(String),
+    /// The verdict line, its tone, and the audit's own explanation.
+    Verdict {
+        line: String,
+        tone: Tone,
+        explanation: String,
+    },
+    Heading(String),
+    Paragraph(String),
+    Table {
+        head: Vec<String>,
+        rows: Vec<Vec<Cell>>,
+    },
+    /// Where the plots go, in formats that draw them (HTML); the others skip it.
+    Figures,
+    /// The rounding-only caution.
+    Caution(String),
+}
+
+/// At most this many events are listed one by one; the rest are counted. Common practice, no source.
+const MAX_LISTED_EVENTS: usize = 40;
+
+/// Numbers in reports: three significant digits in exponent form, `—` where a lens gave none.
+#[must_use]
+pub fn sci(value: Option<f64>) -> String {
+    match value {
+        Some(v) if v.is_finite() => format!("{v:.2e}"),
+        Some(v) => format!("{v}"),
+        None => "—".to_owned(),
+    }
+}
+
+/// A ratio `err / allowed`: three decimals where that reads well, exponent form for the tiny ones.
+#[must_use]
+pub fn ratio(value: Option<f64>) -> String {
+    match value {
+        Some(r) if r >= 1e-3 && r.is_finite() => format!("{r:.3}"),
+        other => sci(other),
+    }
+}
+
+/// Builds the blocks of a report.
+#[must_use]
+pub fn build(analysis: &Analysis<'_>) -> Vec<Block> {
+    let header = &analysis.trace.header;
+    let mut blocks = vec![Block::Title(format!("twinstep audit: {}", non_empty(&header.kernel, "unnamed kernel")))];
+    if let Some(notice) = analysis.incomplete_notice() {
+        blocks.push(Block::Notice(notice));
+    }
+    blocks.push(verdict_block(analysis));
+    blocks.push(Block::Paragraph(analysis.headline()));
+    blocks.push(Block::Facts(facts(analysis)));
+    blocks.push(Block::Heading("Fields".to_owned()));
+    blocks.push(outcome_table(analysis));
+    blocks.push(Block::Figures);
+    blocks.push(Block::Heading("Events".to_owned()));
+    blocks.extend(event_blocks(&analysis.trace.events));
+    blocks.push(Block::Caution(CAUTION.to_owned()));
+    blocks
+}
+
+fn non_empty<'a>(text: &'a str, fallback: &'a str) -> &'a str {
+    if text.is_empty() {
+        fallback
+    } else {
+        text
+    }
+}
+
+fn verdict_block(analysis: &Analysis<'_>) -> Block {
+    let tone = match analysis.verdict().map(|v| v.status) {
+        Some(VerdictStatus::Enough) => Tone::Good,
+        Some(VerdictStatus::EnoughUntil) | None => Tone::Warn,
+        Some(VerdictStatus::NotEnough) => Tone::Bad,
+    };
+    let explanation = analysis.verdict().map(|v| v.text.clone()).unwrap_or_default();
+    Block::Verdict { line: analysis.verdict_line(), tone, explanation }
+}
+
+fn facts(analysis: &Analysis<'_>) -> Vec<(String, String)> {
+    let trace = analysis.trace;
+    let header = &trace.header;
+    let steps = match (trace.summary.as_ref().map(|s| s.steps_done), header.steps_planned) {
+        (Some(done), Some(planned)) => format!("{done} of {planned} planned"),
+        (Some(done), None) => format!("{done}"),
+        (None, Some(planned)) => {
+            format!("{} recorded of {planned} planned", trace.last_step().map_or("none".to_owned(), |s| s.to_string()))
+        }
+        (None, None) => trace.last_step().map_or("none recorded".to_owned(), |s| format!("{s} recorded")),
+    };
+    let fields: Vec<String> = header
+        .fields
+        .iter()
+        .map(|f| {
+            let shape: Vec<String> = f.shape.iter().map(u64::to_string).collect();
+            format!("{} [{}]", f.name, shape.join(" × "))
+        })
+        .collect();
+    let mut facts = vec![
+        ("scenario".to_owned(), non_empty(&header.scenario, "—").to_owned()),
+        ("fields".to_owned(), fields.join(", ")),
+        ("lenses".to_owned(), header.lenses.join(", ")),
+        ("tolerance".to_owned(), header.tolerance.to_string()),
+        ("steps".to_owned(), steps),
+    ];
+    if let Some(wall) = trace.summary.as_ref().and_then(|s| s.wall_s) {
+        facts.push(("wall time".to_owned(), format!("{wall:.2} s")));
+    }
+    facts
+}
+
+fn outcome_table(analysis: &Analysis<'_>) -> Block {
+    let head = ["field", "lens", "final error", "guaranteed bound", "peak err/allowed", "first crossing", "growth"];
+    let rows = analysis.outcomes.iter().map(outcome_row).collect();
+    Block::Table { head: head.iter().map(|h| (*h).to_owned()).collect(), rows }
+}
+
+fn outcome_row(outcome: &FieldLens) -> Vec<Cell> {
+    let crossed = outcome.first_crossing.is_some();
+    let ratio_tone = match outcome.peak_tol_ratio {
+        Some(r) if r > 1.0 => Tone::Bad,
+        Some(r) if r > 0.1 => Tone::Warn,
+        Some(_) => Tone::Good,
+        None => Tone::Plain,
+    };
+    vec![
+        Cell::plain(outcome.field.clone()),
+        Cell::plain(outcome.lens.clone()),
+        Cell::plain(sci(outcome.final_max_err)),
+        Cell::plain(sci(outcome.final_bound)),
+        Cell { text: ratio(outcome.peak_tol_ratio), tone: ratio_tone },
+        Cell {
+            text: outcome.first_crossing.map_or("never".to_owned(), |s| format!("step {s}")),
+            tone: if crossed { Tone::Bad } else { Tone::Good },
+        },
+        Cell::plain(outcome.growth.as_ref().map_or("—".to_owned(), ToString::to_string)),
+    ]
+}
+
+fn event_blocks(events: &[Event]) -> Vec<Block> {
+    if events.is_empty() {
+        return vec![Block::Paragraph("No events: no NaN, infinity, undecided branch or index.".to_owned())];
+    }
+    let head = ["step", "lens", "event", "field", "site", "count", "detail"];
+    let rows = events
+        .iter()
+        .take(MAX_LISTED_EVENTS)
+        .map(|e| {
+            let tone = match e.kind {
+                crate::trace::EventKind::Nan
+                | crate::trace::EventKind::Infinity
+                | crate::trace::EventKind::ToleranceCrossed => Tone::Bad,
+                _ => Tone::Warn,
+            };
+            vec![
+                Cell::plain(e.step.to_string()),
+                Cell::plain(e.lens.clone().unwrap_or_else(|| "—".to_owned())),
+                Cell { text: e.kind.describe().to_owned(), tone },
+                Cell::plain(e.field.clone().unwrap_or_else(|| "—".to_owned())),
+                Cell::plain(e.site.as_ref().map_or("—".to_owned(), ToString::to_string)),
+                Cell::plain(e.count.to_string()),
+                Cell::plain(e.detail.clone().unwrap_or_default()),
+            ]
+        })
+        .collect();
+    let mut blocks = vec![Block::Table { head: head.iter().map(|h| (*h).to_owned()).collect(), rows }];
+    if events.len() > MAX_LISTED_EVENTS {
+        blocks.push(Block::Paragraph(format!(
+            "… and {} more events (all of them are in the trace and in `--format json`).",
+            events.len() - MAX_LISTED_EVENTS
+        )));
+    }
+    blocks
+}

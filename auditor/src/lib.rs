@@ -1,0 +1,13 @@
+//! Library half of the `twinstep` command: the trace reader, the report formats, the gate, and the `run` and
+//! `demo` drivers. The binary (`main.rs`) only parses arguments and prints; keeping the rest here lets the tests
+//! drive the reader and renderers in memory.
+
+pub mod analysis;
+pub mod document;
+pub mod failure;
+pub mod gate;
+pub mod input;
+pub mod progress;
+pub mod report;
+pub mod run;
+pub mod trace;

@@ -1,0 +1,304 @@
+//! The HTML report's plots, drawn with plotters' SVG backend into strings that the page inlines: the error history
+//! of one field (estimate and guaranteed bound per lens, on a log axis, with the absolute tolerance), the ratio
+//! `err / allowed` of every field and lens against the tolerance line at 1, and a space × time heat map of a 1-D
+//! field's per-cell error when the trace carries `profile` records.
+//!
+//! A log axis cannot show zero or negative values, and a plot of nothing is no help: points without a positive
+//! finite value are left out, and a plot with no point left is not drawn (the caller says so in words).
+
+use crate::analysis::FieldLens;
+use crate::trace::{Profile, Tolerance};
+use plotters::coord::Shift;
+use plotters::prelude::*;
+
+/// Plot size in pixels: wide enough for a laptop screen, two plots fit a screen's height. Common practice, no source.
+const WIDTH: u32 = 900;
+const HEIGHT: u32 = 380;
+/// Heat-map resolution cap: cells and snapshots beyond this are binned (max per bin), which keeps the SVG small.
+const MAX_HEAT_COLUMNS: usize = 160;
+const MAX_HEAT_ROWS: usize = 120;
+
+/// Line colours, one per lens, distinguishable for the common colour-vision deficiencies (Okabe & Ito's palette,
+/// "Color Universal Design", 2008; from memory).
+const PALETTE: [RGBColor; 6] = [
+    RGBColor(0, 114, 178),
+    RGBColor(213, 94, 0),
+    RGBColor(0, 158, 115),
+    RGBColor(204, 121, 167),
+    RGBColor(230, 159, 0),
+    RGBColor(86, 180, 233),
+];
+
+/// The colour of the `index`-th series.
+fn colour(index: usize) -> RGBColor {
+    PALETTE[index % PALETTE.len()]
+}
+
+/// The error plotters reports, as text for the page.
+fn failed<E: std::fmt::Debug>(error: E) -> String {
+    format!("plot could not be drawn: {error:?}")
+}
+
+fn positive(value: Option<f64>) -> Option<f64> {
+    value.filter(|v| v.is_finite() && *v > 0.0)
+}
+
+/// A log-axis range that holds every value with some margin; `None` when there is nothing to show.
+fn log_range(values: impl Iterator<Item = f64>) -> Option<(f64, f64)> {
+    let (lo, hi) = values.fold((f64::INFINITY, 0.0_f64), |(lo, hi), v| (lo.min(v), hi.max(v)));
+    if !(lo.is_finite() && hi.is_finite() && lo > 0.0) {
+        return None;
+    }
+    // Half a decade of margin each side; a single value still gets a decade of axis.
+    Some((lo / 3.0, hi * 3.0))
+}
+
+/// The step range of the x axis.
+fn step_range(steps: impl Iterator<Item = u64>) -> (f64, f64) {
+    let (lo, hi) = steps.fold((u64::MAX, 0), |(lo, hi), s| (lo.min(s), hi.max(s)));
+    if lo >= hi {
+        (lo.min(hi) as f64, hi as f64 + 1.0)
+    } else {
+        (lo as f64, hi as f64)
+    }
+}
+
+/// One line of a chart: its label, colour, dash, and points.
+struct Line {
+    label: String,
+    colour: RGBColor,
+    dashed: bool,
+    points: Vec<(f64, f64)>,
+}
+
+/// Draws lines on a log-y chart with a caption and axis names, plus an optional horizontal reference line.
+fn line_chart(
+    caption: &str,
+    y_name: &str,
+    lines: &[Line],
+    reference: Option<(f64, &str)>,
+) -> Result<Option<String>, String> {
+    let ys = lines.iter().flat_map(|l| l.points.iter().map(|p| p.1)).chain(reference.map(|r| r.0));
+    let Some((y_lo, y_hi)) = log_range(ys) else { return Ok(None) };
+    let (x_lo, x_hi) = step_range(lines.iter().flat_map(|l| l.points.iter().map(|p| p.0 as u64)));
+    let mut svg = String::new();
+    {
+        let root = SVGBackend::with_string(&mut svg, (WIDTH, HEIGHT)).into_drawing_area();
+        root.fill(&WHITE).map_err(failed)?;
+        let mut chart = ChartBuilder::on(&root)
+            .caption(caption, ("sans-serif", 18))
+            .margin(12)
+            .x_label_area_size(40)
+            .y_label_area_size(80)
+            .build_cartesian_2d(x_lo..x_hi, (y_lo..y_hi).log_scale())
+            .map_err(failed)?;
+        chart
+            .configure_mesh()
+            .x_desc("step")
+            .y_desc(y_name)
+            .y_label_formatter(&|v| format!("{v:.0e}"))
+            .x_label_formatter(&|v| format!("{v:.0}"))
+            .draw()
+            .map_err(failed)?;
+        for line in lines {
+            let style = line.colour.stroke_width(2);
+            let colour = line.colour;
+            let series = if line.dashed {
+                chart.draw_series(DashedLineSeries::new(line.points.iter().copied(), 6, 4, style))
+            } else {
+                chart.draw_series(LineSeries::new(line.points.iter().copied(), style))
+            };
+            series
+                .map_err(failed)?
+                .label(line.label.clone())
+                .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 20, y)], colour.stroke_width(2)));
+        }
+        if let Some((value, label)) = reference {
+            let red = RGBColor(200, 0, 0);
+            chart
+                .draw_series(DashedLineSeries::new([(x_lo, value), (x_hi, value)], 3, 3, red.stroke_width(2)))
+                .map_err(failed)?
+                .label(label)
+                .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 20, y)], red.stroke_width(2)));
+        }
+        chart
+            .configure_series_labels()
+            .background_style(WHITE.mix(0.85))
+            .border_style(BLACK)
+            .position(SeriesLabelPosition::UpperLeft)
+            .draw()
+            .map_err(failed)?;
+        root.present().map_err(failed)?;
+    }
+    Ok(Some(svg))
+}
+
+/// The error history of one field: per lens the estimate (solid) and the guaranteed bound (dashed), with the
+/// absolute part of the tolerance as a red line where the tolerance has one.
+pub fn field_errors(field: &str, outcomes: &[&FieldLens], tolerance: Tolerance) -> Result<Option<String>, String> {
+    let mut lines = Vec::new();
+    for (index, outcome) in outcomes.iter().enumerate() {
+        let estimate: Vec<(f64, f64)> =
+            outcome.points.iter().filter_map(|p| positive(p.max_err).map(|e| (p.step as f64, e))).collect();
+        let bound: Vec<(f64, f64)> =
+            outcome.points.iter().filter_map(|p| positive(p.bound).map(|b| (p.step as f64, b))).collect();
+        if !estimate.is_empty() {
+            let label = format!("{}: max error (estimate)", outcome.lens);
+            lines.push(Line { label, colour: colour(index), dashed: false, points: estimate });
+        }
+        if !bound.is_empty() {
+            let label = format!("{}: guaranteed bound", outcome.lens);
+            lines.push(Line { label, colour: colour(index), dashed: true, points: bound });
+        }
+    }
+    let reference = match tolerance {
+        Tolerance::Absolute { atol } => positive(Some(atol)).map(|a| (a, "tolerance (atol)")),
+        Tolerance::Mixed { atol, .. } => positive(Some(atol)).map(|a| (a, "tolerance, absolute part (atol)")),
+        Tolerance::Relative { .. } | Tolerance::Ulps { .. } => None,
+    };
+    line_chart(&format!("rounding error in `{field}`"), "|primal − exact| (max over cells)", &lines, reference)
+}
+
+/// Every field and lens as `err / allowed`, against the tolerance line at 1: which field crosses, and when.
+pub fn tolerance_ratios(outcomes: &[FieldLens]) -> Result<Option<String>, String> {
+    let lines: Vec<Line> = outcomes
+        .iter()
+        .enumerate()
+        .map(|(index, o)| Line {
+            label: format!("{} ({})", o.field, o.lens),
+            colour: colour(index),
+            dashed: false,
+            points: o.points.iter().filter_map(|p| positive(p.tol_ratio).map(|r| (p.step as f64, r))).collect(),
+        })
+        .filter(|l| !l.points.is_empty())
+        .collect();
+    line_chart(
+        "error / allowed, every field and lens",
+        "err / allowed (max over cells)",
+        &lines,
+        Some((1.0, "tolerance")),
+    )
+}
+
+/// A colour for `t` in [0, 1]: dark blue through teal to yellow, bright meaning more error. Common practice, no
+/// source (a perceptually ordered ramp in the manner of viridis).
+fn ramp(t: f64) -> RGBColor {
+    const STOPS: [(f64, f64, f64); 4] =
+        [(48.0, 18.0, 89.0), (33.0, 114.0, 141.0), (94.0, 201.0, 98.0), (253.0, 231.0, 37.0)];
+    let t = if t.is_finite() { t.clamp(0.0, 1.0) } else { 0.0 };
+    let scaled = t * (STOPS.len() - 1) as f64;
+    let i = (scaled.floor() as usize).min(STOPS.len() - 2);
+    let f = scaled - i as f64;
+    let (a, b) = (STOPS[i], STOPS[i + 1]);
+    // Linear interpolation per channel: a + f (b − a).
+    let mix = |x: f64, y: f64| (x + f * (y - x)).round().clamp(0.0, 255.0) as u8;
+    RGBColor(mix(a.0, b.0), mix(a.1, b.1), mix(a.2, b.2))
+}
+
+/// Indices `0..n` grouped into at most `max` consecutive bins.
+fn bins(n: usize, max: usize) -> Vec<std::ops::Range<usize>> {
+    let count = n.min(max).max(1);
+    (0..count)
+        .map(|b| (b * n / count)..((b + 1) * n / count).max(b * n / count + 1).min(n))
+        .filter(|r| !r.is_empty())
+        .collect()
+}
+
+/// The space × time heat map of one 1-D field under one lens: cell along x, recorded step along y (bottom = first),
+/// colour = log10 of the cell's error, with a colour bar.
+pub fn heat_map(field: &str, lens: &str, profiles: &[&Profile]) -> Result<Option<String>, String> {
+    let mut ordered: Vec<&Profile> = profiles.to_vec();
+    ordered.sort_by_key(|p| p.step);
+    let width = ordered.iter().map(|p| p.err.len()).max().unwrap_or(0);
+    if width == 0 {
+        return Ok(None);
+    }
+    let row_bins = bins(ordered.len(), MAX_HEAT_ROWS);
+    let column_bins = bins(width, MAX_HEAT_COLUMNS);
+    // grid[row][column] = log10 of the largest positive error in the bin.
+    let grid: Vec<(u64, Vec<Option<f64>>)> = row_bins
+        .iter()
+        .map(|rows| {
+            let step = ordered[rows.end - 1].step;
+            let values = column_bins
+                .iter()
+                .map(|cols| {
+                    let mut best: Option<f64> = None;
+                    for profile in &ordered[rows.clone()] {
+                        for value in cols.clone().filter_map(|c| positive(profile.err.get(c).copied().flatten())) {
+                            best = Some(best.map_or(value, |b: f64| b.max(value)));
+                        }
+                    }
+                    best.map(f64::log10)
+                })
+                .collect();
+            (step, values)
+        })
+        .collect();
+    let logs = grid.iter().flat_map(|(_, v)| v.iter().flatten().copied());
+    let (lo, hi) = logs.fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), v| (lo.min(v), hi.max(v)));
+    if !(lo.is_finite() && hi.is_finite()) {
+        return Ok(None);
+    }
+    let span = if hi > lo { hi - lo } else { 1.0 };
+    let mut svg = String::new();
+    {
+        let root = SVGBackend::with_string(&mut svg, (WIDTH, HEIGHT + 60)).into_drawing_area();
+        root.fill(&WHITE).map_err(failed)?;
+        let (left, right): (DrawingArea<SVGBackend, Shift>, _) = root.split_horizontally(WIDTH - 110);
+        let caption = format!("per-cell rounding error in `{field}` ({lens}), space × time");
+        let rows = grid.len();
+        let steps: Vec<u64> = grid.iter().map(|(s, _)| *s).collect();
+        let mut chart = ChartBuilder::on(&left)
+            .caption(caption, ("sans-serif", 18))
+            .margin(12)
+            .x_label_area_size(40)
+            .y_label_area_size(70)
+            .build_cartesian_2d(0.0..width as f64, 0.0..rows as f64)
+            .map_err(failed)?;
+        chart
+            .configure_mesh()
+            .disable_mesh()
+            .x_desc("cell")
+            .y_desc("step")
+            .x_label_formatter(&|v| format!("{v:.0}"))
+            .y_label_formatter(&|v| {
+                let row = (*v as usize).min(steps.len().saturating_sub(1));
+                steps.get(row).map_or_else(String::new, u64::to_string)
+            })
+            .draw()
+            .map_err(failed)?;
+        let rectangles = grid.iter().enumerate().flat_map(|(row, (_, values))| {
+            column_bins.iter().zip(values).filter_map(move |(cols, value)| {
+                value.map(|v| {
+                    let corner_a = (cols.start as f64, row as f64);
+                    let corner_b = (cols.end as f64, row as f64 + 1.0);
+                    Rectangle::new([corner_a, corner_b], ramp((v - lo) / span).filled())
+                })
+            })
+        });
+        chart.draw_series(rectangles).map_err(failed)?;
+        // The colour bar: 50 bands from lo (bottom) to hi (top), labelled in decades.
+        let mut bar = ChartBuilder::on(&right)
+            .margin_top(40)
+            .margin_bottom(52)
+            .margin_right(8)
+            .y_label_area_size(60)
+            .build_cartesian_2d(0.0..1.0, lo..lo + span)
+            .map_err(failed)?;
+        bar.configure_mesh()
+            .disable_mesh()
+            .disable_x_axis()
+            .y_desc("log10 error")
+            .y_label_formatter(&|v| format!("{v:.1}"))
+            .draw()
+            .map_err(failed)?;
+        let bands = (0..50).map(|k| {
+            let (a, b) = (lo + span * k as f64 / 50.0, lo + span * (k + 1) as f64 / 50.0);
+            Rectangle::new([(0.0, a), (1.0, b)], ramp((k as f64 + 0.5) / 50.0).filled())
+        });
+        bar.draw_series(bands).map_err(failed)?;
+        root.present().map_err(failed)?;
+    }
+    Ok(Some(svg))
+}

@@ -1,0 +1,191 @@
+//! `twinstep run`: builds and runs a user's audit harness (an example, binary or test of their crate) through
+//! cargo, with what the lenses need, without touching the user's own build.
+//!
+//! Why a separate target directory (`<workspace>/target/twinstep` by default): the harness is built with
+//! `-C target-cpu=haswell` on x86-64 (the interval lens's FMA and AVX2 rounding instructions) and in the release
+//! profile; sharing the user's `target/` would rebuild their production artefacts with those settings and back.
+//! The flag is passed through `CARGO_ENCODED_RUSTFLAGS`, appended to what the user's environment already sets.
+//!
+//! The harness learns where to write its trace from the `TWINSTEP_TRACE` environment variable; while it runs, the
+//! growing trace feeds a progress bar on stderr when stderr is a terminal. When it ends, the trace is rendered.
+
+use crate::failure::Failure;
+use crate::input::plain;
+use std::ffi::OsString;
+use std::path::{Path, PathBuf};
+use std::process::Command;
+
+/// The environment variable that tells a harness where to write its trace.
+pub const TRACE_ENV: &str = "TWINSTEP_TRACE";
+
+/// Which target of the user's crate is the harness.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub enum Harness {
+    Example(String),
+    Bin(String),
+    Test(String),
+}
+
+impl Harness {
+    fn name(&self) -> &str {
+        match self {
+            Harness::Example(n) | Harness::Bin(n) | Harness::Test(n) => n,
+        }
+    }
+
+    /// The cargo subcommand and target selection: `run --example N`, `run --bin N`, `test --test N`.
+    fn cargo_args(&self) -> [&str; 3] {
+        match self {
+            Harness::Example(n) => ["run", "--example", n],
+            Harness::Bin(n) => ["run", "--bin", n],
+            Harness::Test(n) => ["test", "--test", n],
+        }
+    }
+}
+
+/// Resolved settings of one `twinstep run`.
+#[derive(Clone, Debug)]
+pub struct RunPlan {
+    pub harness: Harness,
+    pub manifest_path: Option<PathBuf>,
+    pub features: Vec<String>,
+    pub profile: String,
+    pub target_dir: PathBuf,
+    pub trace: PathBuf,
+    pub args: Vec<String>,
+}
+
+/// What the user typed, before the workspace is looked up.
+#[derive(Clone, Debug)]
+pub struct RunRequest {
+    pub harness: Harness,
+    pub manifest_path: Option<PathBuf>,
+    pub features: Vec<String>,
+    pub profile: String,
+    pub target_dir: Option<PathBuf>,
+    pub trace: Option<PathBuf>,
+    pub args: Vec<String>,
+}
+
+/// The cargo to call: the one that is running us when we run under cargo, else the one on PATH.
+fn cargo() -> OsString {
+    std::env::var_os("CARGO").unwrap_or_else(|| OsString::from("cargo"))
+}
+
+/// The root directory of the user's workspace (`cargo locate-project --workspace`).
+fn workspace_root(manifest_path: Option<&Path>) -> Result<PathBuf, Failure> {
+    let mut command = Command::new(cargo());
+    command.args(["locate-project", "--workspace", "--message-format", "plain"]);
+    if let Some(path) = manifest_path {
+        command.arg("--manifest-path").arg(path);
+    }
+    let output = command.output().map_err(|e| Failure::input(format!("cannot start cargo: {}", plain(&e))))?;
+    if !output.status.success() {
+        let message = String::from_utf8_lossy(&output.stderr);
+        let message = message.trim().trim_start_matches("error: ");
+        let place = manifest_path.map_or_else(|| "the current directory".to_owned(), |p| p.display().to_string());
+        return Err(Failure::input(format!("{place}: no cargo workspace: {message}")));
+    }
+    let manifest = PathBuf::from(String::from_utf8_lossy(&output.stdout).trim());
+    Ok(manifest.parent().map_or_else(|| PathBuf::from("."), Path::to_path_buf))
+}
+
+impl RunRequest {
+    /// Fills in the defaults that depend on the user's workspace.
+    pub fn resolve(self) -> Result<RunPlan, Failure> {
+        let target_dir = match self.target_dir {
+            Some(dir) => dir,
+            None => workspace_root(self.manifest_path.as_deref())?.join("target").join("twinstep"),
+        };
+        let trace =
+            self.trace.unwrap_or_else(|| target_dir.join("traces").join(format!("{}.jsonl", self.harness.name())));
+        Ok(RunPlan {
+            harness: self.harness,
+            manifest_path: self.manifest_path,
+            features: self.features,
+            profile: self.profile,
+            target_dir,
+            trace,
+            args: self.args,
+        })
+    }
+}
+
+/// `CARGO_ENCODED_RUSTFLAGS` for the audit build: the user's flags (encoded, or plain `RUSTFLAGS`, which cargo
+/// would otherwise read) with `-C target-cpu=haswell` appended on x86-64. Flags are separated by 0x1f in the
+/// encoded form (cargo reference, "Environment variables").
+#[must_use]
+pub fn encoded_rustflags(encoded: Option<&str>, plain_flags: Option<&str>, arch: &str) -> String {
+    let mut flags: Vec<String> = match (encoded, plain_flags) {
+        (Some(e), _) if !e.is_empty() => e.split('\x1f').map(str::to_owned).collect(),
+        (_, Some(p)) => p.split_whitespace().map(str::to_owned).collect(),
+        _ => Vec::new(),
+    };
+    if arch == "x86_64" && !flags.iter().any(|f| f.contains("target-cpu")) {
+        flags.extend(["-C".to_owned(), "target-cpu=haswell".to_owned()]);
+    }
+    flags.join("\x1f")
+}
+
+/// The cargo command that builds and runs the harness.
+#[must_use]
+pub fn command(plan: &RunPlan) -> Command {
+    let mut command = Command::new(cargo());
+    command.args(plan.harness.cargo_args());
+    command.arg("--profile").arg(&plan.profile);
+    command.arg("--target-dir").arg(&plan.target_dir);
+    if let Some(path) = &plan.manifest_path {
+        command.arg("--manifest-path").arg(path);
+    }
+    if !plan.features.is_empty() {
+        command.arg("--features").arg(plan.features.join(","));
+    }
+    if !plan.args.is_empty() {
+        command.arg("--").args(&plan.args);
+    }
+    let encoded = std::env::var("CARGO_ENCODED_RUSTFLAGS").ok();
+    let plain_flags = std::env::var("RUSTFLAGS").ok();
+    command.env(
+        "CARGO_ENCODED_RUSTFLAGS",
+        encoded_rustflags(encoded.as_deref(), plain_flags.as_deref(), std::env::consts::ARCH),
+    );
+    command.env_remove("RUSTFLAGS");
+    command.env(TRACE_ENV, &plan.trace);
+    command
+}
+
+/// Builds and runs the harness, showing progress when `progress` is set; returns the trace path once it exists.
+///
+/// A harness that fails still leaves its trace (incomplete); the caller renders it and then reports the failure.
+pub fn run(plan: &RunPlan, progress: bool) -> Result<(PathBuf, Option<Failure>), Failure> {
+    if let Some(parent) = plan.trace.parent().filter(|p| !p.as_os_str().is_empty()) {
+        std::fs::create_dir_all(parent)
+            .map_err(|e| Failure::input(format!("{}: cannot create: {}", parent.display(), plain(&e))))?;
+    }
+    // A trace left by an earlier run must not pass for this run's.
+    match std::fs::remove_file(&plan.trace) {
+        Err(e) if e.kind() != std::io::ErrorKind::NotFound => {
+            return Err(Failure::input(format!("{}: cannot replace: {}", plan.trace.display(), plain(&e))))
+        }
+        _ => {}
+    }
+    let mut child =
+        command(plan).spawn().map_err(|e| Failure::harness(format!("cannot start cargo: {}", plain(&e))))?;
+    let status = if progress { crate::progress::follow(&plan.trace, &mut child) } else { child.wait() }
+        .map_err(|e| Failure::harness(format!("waiting for the harness: {}", plain(&e))))?;
+    let name = plan.harness.name();
+    let failed = (!status.success()).then(|| {
+        let code = status.code().map_or_else(|| "a signal".to_owned(), |c| format!("status {c}"));
+        Failure::harness(format!("{name}: the build or the harness failed ({code}); see cargo's output above"))
+    });
+    if !plan.trace.exists() {
+        return Err(failed.unwrap_or_else(|| {
+            Failure::harness(format!(
+                "{name}: wrote no trace to {}: the harness must write its trace where the {TRACE_ENV} environment \
+                 variable says",
+                plan.trace.display()
+            ))
+        }));
+    }
+    Ok((plan.trace.clone(), failed))
+}

@@ -1,0 +1,95 @@
+//! `twinstep gate` exit codes: 0 within tolerance, 1 a field crosses it (the first crossing printed), 2 bad input.
+//! Thresholds of the ulps tolerance follow the definition of ulp in IEEE 754-2019, clause 3.3 (binary64 p = 53,
+//! table 3.2): for a normal u, |u|·2^-53 < ulp(u) ≤ |u|·2^-52.
+
+mod common;
+use common::{fixture, scratch, stderr, stdout, twinstep};
+
+fn gate(args: &[&str]) -> (Option<i32>, String, String) {
+    let mut all = vec!["gate"];
+    all.extend_from_slice(args);
+    let output = twinstep(&all);
+    (output.status.code(), stdout(&output), stderr(&output))
+}
+
+#[test]
+fn trace_tolerance_fails_at_first_crossing() {
+    let path = fixture("kiln_complete.jsonl");
+    let (code, _, err) = gate(&[path.to_str().unwrap()]);
+    assert_eq!(code, Some(1), "{err}");
+    // The summary's first crossing (10435) comes before the first recorded step over the line (12000).
+    let first = err.lines().nth(0).unwrap();
+    assert!(first.contains("field T (bound lens) crosses the tolerance at step 10435"), "{err}");
+    assert!(!err.contains("field q"), "q stays within: {err}");
+}
+
+#[test]
+fn passing_trace_exits_zero() {
+    let path = fixture("kiln_enough.jsonl");
+    let (code, out, err) = gate(&[path.to_str().unwrap()]);
+    assert_eq!(code, Some(0), "{err}");
+    assert!(out.contains("pass"), "{out}");
+}
+
+#[test]
+fn absolute_tolerance_from_the_command_line() {
+    let path = fixture("kiln_enough.jsonl");
+    // The fixture's T reaches max_err 2.3e-14·100 = 2.3e-12 at step 100 (make_fixtures.py): a looser atol
+    // passes, a tighter one fails.
+    assert_eq!(gate(&[path.to_str().unwrap(), "--atol", "1e-11"]).0, Some(0));
+    let (code, _, err) = gate(&[path.to_str().unwrap(), "--atol", "1e-12"]);
+    assert_eq!(code, Some(1));
+    assert!(err.contains("max error") && err.contains("> atol"), "{err}");
+}
+
+#[test]
+fn lens_selection_and_unknown_lens() {
+    let path = fixture("kiln_enough.jsonl");
+    assert_eq!(gate(&[path.to_str().unwrap(), "--lens", "shadow"]).0, Some(0));
+    let (code, _, err) = gate(&[path.to_str().unwrap(), "--lens", "ball"]);
+    assert_eq!(code, Some(2));
+    assert!(err.contains("has no lens \"ball\""), "{err}");
+}
+
+/// A one-step trace whose field has the given max relative error.
+fn trace_with_relative_error(name: &str, rel: f64) -> std::path::PathBuf {
+    let header = r#"{"record":"header","format":"twinstep-trace","version":1,"kernel":"k","scenario":"s","lenses":["shadow"],"fields":[{"name":"u","shape":[4]}],"tolerance":{"kind":"absolute","atol":1.0},"steps_planned":1}"#;
+    let step = format!(
+        r#"{{"record":"step","step":1,"lens":"shadow","fields":[{{"name":"u","max_err":{rel:e},"mean_err":0,"max_rel_err":{rel:e},"mean_rel_err":0,"bound":null,"correct_bits":50,"worst_cell":[0],"tol_ratio":0}}]}}"#
+    );
+    let summary =
+        r#"{"record":"summary","steps_done":1,"complete":true,"results":[],"verdict":{"status":"enough","text":""}}"#;
+    let path = scratch(name);
+    std::fs::write(&path, format!("{header}\n{step}\n{summary}\n")).unwrap();
+    path
+}
+
+#[test]
+fn ulps_thresholds() {
+    // Relative error 2^-53 is within 1 ulp for every normal u (ulp(u) > |u|·2^-53, IEEE 754-2019 3.3).
+    let within = trace_with_relative_error("ulps_within.jsonl", 2f64.powi(-53));
+    assert_eq!(gate(&[within.to_str().unwrap(), "--ulps", "1"]).0, Some(0));
+    // Relative error 2^-51 exceeds 1 ulp for every normal u (ulp(u) ≤ |u|·2^-52, same clause).
+    let beyond = trace_with_relative_error("ulps_beyond.jsonl", 2f64.powi(-51));
+    let (code, _, err) = gate(&[beyond.to_str().unwrap(), "--ulps", "1"]);
+    assert_eq!(code, Some(1));
+    assert!(err.contains("not shown within 1 ulps"), "{err}");
+    // …and is within 4 ulps: 2^-51 ≤ 4·2^-53.
+    assert_eq!(gate(&[beyond.to_str().unwrap(), "--ulps", "4"]).0, Some(0));
+}
+
+#[test]
+fn incomplete_run_fails_the_gate() {
+    let path = fixture("kiln_killed.jsonl");
+    let (code, _, err) = gate(&[path.to_str().unwrap(), "--atol", "1"]);
+    assert_eq!(code, Some(1));
+    assert!(err.contains("incomplete run"), "{err}");
+}
+
+#[test]
+fn ulps_conflicts_with_atol() {
+    let path = fixture("kiln_enough.jsonl");
+    let (code, _, err) = gate(&[path.to_str().unwrap(), "--ulps", "2", "--atol", "1e-3"]);
+    assert_eq!(code, Some(2));
+    assert!(err.contains("cannot be used with"), "{err}");
+}
