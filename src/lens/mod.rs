@@ -1,7 +1,29 @@
 //! Lenses: scalar types a twin runs with. Each pairs the *primal* (the number the float program computes, which
 //! branches and index casts follow) with a *reference* that tells how far rounding has moved it.
 //!
-//! One lens per file, all behind [`Lens`].
+//! One lens per file, all behind [`Lens`]: [`Bound`] (midpoint and rigorous radius, the fast default),
+//! [`Interval`] (inf–sup enclosure with inari), [`Shadow`] (a double-double running the same operations). The
+//! operator boilerplate every lens shares — mixed operations with `f64`, references, compound assignment,
+//! comparisons that record branch instabilities, `Sum`, the whole [`crate::Real`] surface — is written once in
+//! [`scalar`] and instantiated per lens from the lens's small [`scalar::Core`] of primitive operations.
+//!
+//! Literals and `std::f64::consts` enter through [`reference`]: under [`LiteralMode::AsWritten`] (the default) the
+//! reference holds the decimal number as written and the real constant; under [`LiteralMode::AsCompiled`] it holds
+//! the double the compiler made, so an audit can split representation error from arithmetic error.
+
+pub mod bound;
+pub mod eft;
+pub mod elementary;
+pub mod interval;
+pub mod reference;
+#[macro_use]
+pub mod scalar;
+pub mod shadow;
+
+pub use bound::Bound;
+pub use interval::Interval;
+pub use reference::{literal_mode, set_literal_mode, with_literal_mode, LiteralMode, Reference};
+pub use shadow::Shadow;
 
 /// A scalar that tracks the rounding error of its primal.
 pub trait Lens: crate::Real {

@@ -1,0 +1,227 @@
+//! [`Bound`]: the primal with a rigorous radius, `|primal − exact| ≤ radius` — midpoint-radius ("ball")
+//! arithmetic in round-to-nearest, the fast default lens.
+//!
+//! The midpoint *is* the primal, so the float program's values are untouched and the radius is the guaranteed
+//! error. The formulas follow the style of Rump, "Fast and parallel interval arithmetic", BIT 39(3), 1999 (from
+//! memory): compute the midpoint as the float program does, bound the radius by the propagated input radii plus
+//! the rounding of the midpoint, and make the radius computation itself safe without changing the rounding mode.
+//!
+//! Facts used (IEEE 754-2019 round-to-nearest; u = 2^-53, η = 2^-1074; Higham, "Accuracy and Stability of
+//! Numerical Algorithms", 2nd ed., §2.2, from memory):
+//! - rounding: `|fl(a∘b) − a∘b| ≤ u·|fl(a∘b)| + η/2` (the η term only for × and ÷ in the subnormal range);
+//! - a sum or product of k non-negative doubles evaluated in round-to-nearest is at least `(1 − u)^k` times its
+//!   exact value, so `fl(fl(v)·(1 + 2^-49)) + 8η` bounds the exact value from above for k ≤ 14 operations — the
+//!   [`inflate`] step applied once at the end of each radius formula (each formula has ≤ 8 operations).
+//!
+//! The hot operations are branch-free straight-line code (selects at most), so loops over `Bound` vectorize.
+//! Elementary functions go through [`super::elementary`] (libm plus a documented allowance).
+
+use crate::events::{record, EventKind};
+use crate::lens::elementary::interval;
+use crate::lens::reference::Reference;
+use crate::lens::scalar::{Core, Orders};
+use crate::lens::Lens;
+
+/// The unit roundoff of binary64, u = 2^-53.
+const U: f64 = f64::EPSILON / 2.0;
+/// The smallest positive subnormal, η = 2^-1074.
+const ETA: f64 = f64::from_bits(1);
+/// 1 + 2^-49 = 1 + 16u: with the final rounding, covers up to 14 roundings of a non-negative radius formula.
+const INFLATION: f64 = 1.0 + 16.0 * U;
+
+/// The radius formula's value `v ≥ 0`, computed in round-to-nearest with at most 14 operations, made an upper
+/// bound of its exact value: `fl(fl(v·(1 + 16u)) + 8η)`.
+#[inline(always)]
+fn inflate(v: f64) -> f64 {
+    v * INFLATION + 8.0 * ETA
+}
+
+/// A value with a guaranteed error radius: the exact result of the same computation in real arithmetic lies in
+/// `[primal − radius, primal + radius]`.
+#[derive(Clone, Copy, Debug)]
+pub struct Bound {
+    primal: f64,
+    radius: f64,
+}
+
+impl Bound {
+    /// A value `primal` whose exact counterpart is known to lie within `radius` of it.
+    #[must_use]
+    pub fn new(primal: f64, radius: f64) -> Bound {
+        Bound { primal, radius: radius.abs() }
+    }
+
+    /// The guaranteed radius (infinite once the bound is lost, e.g. after a division by an enclosure of zero).
+    #[must_use]
+    pub fn radius(self) -> f64 {
+        if self.radius.is_nan() {
+            f64::INFINITY
+        } else {
+            self.radius
+        }
+    }
+
+    /// The enclosure `[primal − radius, primal + radius]`, rounded outward by inari.
+    #[must_use]
+    pub fn enclosure(self) -> inari::Interval {
+        if self.radius == 0.0 {
+            interval(self.primal, self.primal)
+        } else {
+            interval(self.primal, self.primal) + interval(-self.radius(), self.radius())
+        }
+    }
+
+    /// The primal with the smallest radius whose ball contains the enclosure `out`: `max|out − primal|`,
+    /// computed outward by inari. An empty `out` (a domain error) loses the bound.
+    fn around(primal: f64, out: inari::Interval) -> Bound {
+        if out.is_empty() || !primal.is_finite() {
+            return Bound { primal, radius: f64::INFINITY };
+        }
+        Bound { primal, radius: (out - interval(primal, primal)).mag() }
+    }
+}
+
+impl Core for Bound {
+    #[inline(always)]
+    fn primal(self) -> f64 {
+        self.primal
+    }
+
+    #[inline(always)]
+    fn exact(value: f64) -> Bound {
+        Bound { primal: value, radius: 0.0 }
+    }
+
+    #[inline]
+    fn with_reference(value: f64, reference: &Reference) -> Bound {
+        // |value − x| ≤ |value − hi| + |lo| + |x − hi − lo|
+        let radius = (value - reference.hi).abs() + reference.lo.abs() + reference.err;
+        Bound { primal: value, radius: if radius == 0.0 { 0.0 } else { inflate(radius) } }
+    }
+
+    #[inline(always)]
+    fn range(self) -> (f64, f64) {
+        // Rounded outward by one relative ulp of the primal (common practice, no source); exact points stay points.
+        let pad = if self.radius == 0.0 { 0.0 } else { self.radius * INFLATION + self.primal.abs() * f64::EPSILON };
+        (self.primal - pad, self.primal + pad)
+    }
+
+    #[inline(always)]
+    fn orders(self, rhs: Bound) -> Orders {
+        let (a_lo, a_hi) = self.range();
+        let (b_lo, b_hi) = rhs.range();
+        Orders::of_ranges(a_lo, a_hi, b_lo, b_hi)
+    }
+
+    #[inline(always)]
+    fn add(self, rhs: Bound) -> Bound {
+        let c = self.primal + rhs.primal;
+        // |c − (X + Y)| ≤ u|c| + r + s  (addition is exact in the subnormal range, no η)
+        Bound { primal: c, radius: inflate(U * c.abs() + (self.radius + rhs.radius)) }
+    }
+
+    #[inline(always)]
+    fn sub(self, rhs: Bound) -> Bound {
+        let c = self.primal - rhs.primal;
+        // |c − (X − Y)| ≤ u|c| + r + s
+        Bound { primal: c, radius: inflate(U * c.abs() + (self.radius + rhs.radius)) }
+    }
+
+    #[inline(always)]
+    fn mul(self, rhs: Bound) -> Bound {
+        let (x, r, y, s) = (self.primal, self.radius, rhs.primal, rhs.radius);
+        let c = x * y;
+        // |XY − xy| ≤ |x|s + r(|y| + s);  |c − xy| ≤ u|c| + η/2 (η inside `inflate`)
+        Bound { primal: c, radius: inflate(U * c.abs() + (x.abs() * s + r * (y.abs() + s))) }
+    }
+
+    #[inline(always)]
+    #[track_caller]
+    fn div(self, rhs: Bound) -> Bound {
+        let (r, y, s) = (self.radius, rhs.primal, rhs.radius);
+        let c = self.primal / y;
+        // |X/Y − x/y| ≤ (r + |x/y|·s)/(|y| − s) for |y| > s, with |x/y| ≤ |c|(1 + 2u) + η;
+        // fl(|y| − s)·(1 − 4u) is a lower bound of |y| − s (one rounding down at most u, Higham §2.2).
+        let denominator = (y.abs() - s) * (1.0 - 4.0 * U);
+        let propagated = (r + (c.abs() * (1.0 + 2.0 * U) + ETA) * s) / denominator;
+        let radius = inflate(U * c.abs() + propagated);
+        let divisor_holds_zero = denominator.is_nan() || denominator <= 0.0;
+        if divisor_holds_zero && s > 0.0 {
+            record(EventKind::DivisionByZeroEnclosure);
+        }
+        Bound { primal: c, radius: if divisor_holds_zero { f64::INFINITY } else { radius } }
+    }
+
+    #[inline]
+    #[track_caller]
+    fn rem(self, rhs: Bound) -> Bound {
+        let (x, r, y, s) = (self.primal, self.radius, rhs.primal, rhs.radius);
+        let c = x % y; // exact in IEEE 754 (fmod): c = x − q·y with q = trunc(x/y)
+                       // Along the primal's path the quotient q stays: |(X − qY) − c| ≤ r + |q|·s with |q| ≤ |x/y|.
+        let quotient_bound = (x / y).abs() * (1.0 + 2.0 * U) + ETA;
+        let quotients = self.enclosure() / rhs.enclosure();
+        if (s > 0.0 || r > 0.0) && quotients.inf().trunc() != quotients.sup().trunc() {
+            record(EventKind::BranchInstability); // the exact quotient may truncate to another integer
+        }
+        Bound { primal: c, radius: inflate(r + quotient_bound * s) }
+    }
+
+    #[inline(always)]
+    fn neg(self) -> Bound {
+        Bound { primal: -self.primal, radius: self.radius }
+    }
+
+    #[inline(always)]
+    fn mul_add(self, a: Bound, b: Bound) -> Bound {
+        let (x, r, y, s) = (self.primal, self.radius, a.primal, a.radius);
+        let c = x.mul_add(y, b.primal);
+        // one rounding: |c − (xy + z)| ≤ u|c| + η/2;  propagated |x|s + r(|y| + s) + t
+        Bound { primal: c, radius: inflate(U * c.abs() + (x.abs() * s + r * (y.abs() + s) + b.radius)) }
+    }
+
+    #[inline(always)]
+    fn abs(self) -> Bound {
+        // | |X| − |x| | ≤ |X − x|: the radius carries over.
+        Bound { primal: self.primal.abs(), radius: self.radius }
+    }
+
+    #[inline(always)]
+    #[track_caller]
+    fn sqrt(self) -> Bound {
+        let (x, r) = (self.primal, self.radius);
+        let c = x.sqrt(); // correctly rounded: |c − √x| ≤ u·c
+                          // |√X − √x| = |X − x|/(√X + √x) ≤ r/√x, and ≤ √r always; √x ≥ c(1 − 2u).
+        let propagated = (r / (c * (1.0 - 2.0 * U))).min(r.sqrt() * (1.0 + 2.0 * U));
+        Bound { primal: c, radius: inflate(U * c + propagated) }
+    }
+
+    crate::enclosed_functions!(
+        unary: [cbrt exp exp2 exp_m1 ln ln_1p log2 log10 sin cos tan asin acos atan sinh cosh tanh],
+        binary: [powf log atan2 hypot]
+    );
+}
+
+crate::lens_scalar!(Bound);
+
+impl core::fmt::Display for Bound {
+    fn fmt(&self, f: &mut core::fmt::Formatter<'_>) -> core::fmt::Result {
+        write!(f, "{} ± {:e}", self.primal, self.radius())
+    }
+}
+
+impl Lens for Bound {
+    const NAME: &'static str = "bound";
+    const GUARANTEED: bool = true;
+
+    fn error_estimate(self) -> f64 {
+        self.radius()
+    }
+
+    fn error_bound(self) -> Option<f64> {
+        Some(self.radius())
+    }
+
+    fn reference_value(self) -> f64 {
+        self.primal
+    }
+}

@@ -1,0 +1,204 @@
+//! Error-free transformations and double-word ("double-double") arithmetic, the engine of [`super::Shadow`].
+//!
+//! A double-word number is an unevaluated sum `hi + lo` of two doubles with `|lo| ≤ ulp(hi)/2`, about 106
+//! significant bits. The algorithms are the classic ones — TwoSum (Knuth, TAOCP vol. 2, §4.2.2), Fast2Sum
+//! (Dekker 1971), TwoProd with a fused multiply-add — and the double-word operations analysed by Joldes, Muller and
+//! Popescu, "Tight and rigorous error bounds for basic building blocks of double-word arithmetic", ACM TOMS 44(2),
+//! 2017 (algorithm numbers and bounds below are from memory of that paper; u = 2^-53).
+//!
+//! Everything here is branch-free straight-line code on `f64` in round-to-nearest, so it inlines and vectorizes.
+
+/// A double-word number `hi + lo`.
+#[derive(Clone, Copy, Debug, Default, PartialEq)]
+pub struct DoubleWord {
+    pub hi: f64,
+    pub lo: f64,
+}
+
+impl DoubleWord {
+    /// A double as a double-word number (exact).
+    #[inline(always)]
+    #[must_use]
+    pub const fn from_f64(x: f64) -> DoubleWord {
+        DoubleWord { hi: x, lo: 0.0 }
+    }
+
+    /// The nearest double (to within the rounding of `hi + lo`).
+    #[inline(always)]
+    #[must_use]
+    pub fn to_f64(self) -> f64 {
+        self.hi + self.lo
+    }
+
+    /// `x · y` for a double `y`: DWTimesFP3 (JMP 2017, Algorithm 9, with FMA), relative error ≤ 2u².
+    #[inline(always)]
+    #[must_use]
+    pub fn mul_f64(self, y: f64) -> DoubleWord {
+        let (ch, cl1) = two_prod(self.hi, y);
+        let cl3 = self.lo.mul_add(y, cl1); // xl·y + error of xh·y
+        let (hi, lo) = fast_two_sum(ch, cl3);
+        normal(hi, lo)
+    }
+
+    /// `√x`: one Newton step from the double square root, `s + (x − s²)/(2s)` with `x − s²` exact by FMA
+    /// (Karp & Markstein 1997 style; common practice, about 104 correct bits).
+    #[inline(always)]
+    #[must_use]
+    pub fn sqrt(self) -> DoubleWord {
+        let s = self.hi.sqrt();
+        let e = (-s).mul_add(s, self.hi) + self.lo; // x − s², the residual
+        let t = e / (2.0 * s);
+        let (hi, lo) = fast_two_sum(s, t);
+        // √0 = 0 and √∞ = ∞: the Newton correction would be 0/0 or ∞/∞ there.
+        if s == 0.0 || s.is_infinite() {
+            DoubleWord::from_f64(s)
+        } else {
+            normal(hi, lo)
+        }
+    }
+
+    /// `a·b + c` in double-word arithmetic (one product, one sum).
+    #[inline(always)]
+    #[must_use]
+    pub fn mul_add(self, b: DoubleWord, c: DoubleWord) -> DoubleWord {
+        self * b + c
+    }
+
+    /// The ordering of two double-word values (`hi` first, then `lo`: valid for normalized pairs).
+    #[inline(always)]
+    #[must_use]
+    pub fn partial_cmp(self, y: DoubleWord) -> Option<core::cmp::Ordering> {
+        match self.hi.partial_cmp(&y.hi) {
+            Some(core::cmp::Ordering::Equal) => self.lo.partial_cmp(&y.lo),
+            other => other,
+        }
+    }
+
+    /// Whether both words are finite.
+    #[inline(always)]
+    #[must_use]
+    pub fn is_finite(self) -> bool {
+        self.hi.is_finite()
+    }
+}
+
+impl core::ops::Neg for DoubleWord {
+    type Output = DoubleWord;
+    /// `−x`, exact.
+    #[inline(always)]
+    fn neg(self) -> DoubleWord {
+        DoubleWord { hi: -self.hi, lo: -self.lo }
+    }
+}
+
+impl core::ops::Add for DoubleWord {
+    type Output = DoubleWord;
+    /// `x + y`: AccurateDWPlusDW (JMP 2017, Algorithm 6), relative error ≤ 3u² + 13u³.
+    #[inline(always)]
+    fn add(self, y: DoubleWord) -> DoubleWord {
+        let (sh, sl) = two_sum(self.hi, y.hi);
+        let (th, tl) = two_sum(self.lo, y.lo);
+        let c = sl + th;
+        let (vh, vl) = fast_two_sum(sh, c);
+        let w = tl + vl;
+        let (hi, lo) = fast_two_sum(vh, w);
+        normal(hi, lo)
+    }
+}
+
+impl core::ops::Sub for DoubleWord {
+    type Output = DoubleWord;
+    /// `x − y` as `x + (−y)`, same bound.
+    #[inline(always)]
+    fn sub(self, y: DoubleWord) -> DoubleWord {
+        self + (-y)
+    }
+}
+
+impl core::ops::Mul for DoubleWord {
+    type Output = DoubleWord;
+    /// `x · y`: DWTimesDW3 (JMP 2017, Algorithm 12, with FMA), relative error ≤ 4u².
+    #[inline(always)]
+    fn mul(self, y: DoubleWord) -> DoubleWord {
+        let (ch, cl1) = two_prod(self.hi, y.hi);
+        let tl0 = self.lo * y.lo;
+        let tl1 = self.hi.mul_add(y.lo, tl0); // xh·yl + xl·yl, one rounding
+        let cl2 = self.lo.mul_add(y.hi, tl1); // + xl·yh
+        let cl3 = cl1 + cl2;
+        let (hi, lo) = fast_two_sum(ch, cl3);
+        normal(hi, lo)
+    }
+}
+
+impl core::ops::Div for DoubleWord {
+    type Output = DoubleWord;
+    /// `x / y`: DWDivDW2 (JMP 2017, Algorithm 17), relative error ≤ 15u² + 56u³.
+    #[inline(always)]
+    fn div(self, y: DoubleWord) -> DoubleWord {
+        let th = self.hi / y.hi;
+        let r = y.mul_f64(th); // r ≈ y·th
+        let pi_h = self.hi - r.hi; // exact by Sterbenz when th is close (JMP 2017)
+        let delta_l = self.lo - r.lo;
+        let delta = pi_h + delta_l;
+        let tl = delta / y.hi; // correction (x − y·th)/y
+        let (hi, lo) = fast_two_sum(th, tl);
+        normal(hi, lo)
+    }
+}
+
+/// Keeps a non-finite result from dragging a NaN into `lo` (∞ − ∞ in the correction terms): an infinite `hi`
+/// carries `lo = 0`.
+#[inline(always)]
+fn normal(hi: f64, lo: f64) -> DoubleWord {
+    let lo = if hi.is_finite() { lo } else { 0.0 };
+    DoubleWord { hi, lo }
+}
+
+/// TwoSum (Knuth, TAOCP vol. 2, §4.2.2; Møller 1965): `s = fl(a + b)` and `e` with `s + e = a + b` exactly.
+#[inline(always)]
+#[must_use]
+pub fn two_sum(a: f64, b: f64) -> (f64, f64) {
+    let s = a + b;
+    let bb = s - a;
+    let e = (a - (s - bb)) + (b - bb); // a + b − s, exact
+    (s, e)
+}
+
+/// Fast2Sum (Dekker 1971), for `|a| ≥ |b|` (or a = 0): `s + e = a + b` exactly.
+#[inline(always)]
+#[must_use]
+pub fn fast_two_sum(a: f64, b: f64) -> (f64, f64) {
+    let s = a + b;
+    let e = b - (s - a); // a + b − s, exact when |a| ≥ |b|
+    (s, e)
+}
+
+/// TwoProd with FMA: `p = fl(a·b)` and `e = a·b − p` exactly (barring underflow), as one fused operation.
+#[inline(always)]
+#[must_use]
+pub fn two_prod(a: f64, b: f64) -> (f64, f64) {
+    let p = a * b;
+    let e = a.mul_add(b, -p); // a·b − p, exact (IEEE 754-2019 fusedMultiplyAdd)
+    (p, e)
+}
+
+/// The next double above `x` (IEEE 754-2019 nextUp), written out because `f64::next_up` is newer than the MSRV.
+#[inline]
+#[must_use]
+pub fn next_up(x: f64) -> f64 {
+    if x.is_nan() || x == f64::INFINITY {
+        return x;
+    }
+    if x == 0.0 {
+        return f64::from_bits(1); // the smallest subnormal, η = 2^-1074
+    }
+    let bits = x.to_bits();
+    f64::from_bits(if x > 0.0 { bits + 1 } else { bits - 1 })
+}
+
+/// The next double below `x` (IEEE 754-2019 nextDown).
+#[inline]
+#[must_use]
+pub fn next_down(x: f64) -> f64 {
+    -next_up(-x)
+}

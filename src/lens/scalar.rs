@@ -1,0 +1,649 @@
+//! The scalar surface every lens shares, written once.
+//!
+//! A lens implements [`Core`]: the primitive operations whose reference side differs between lenses (the
+//! arithmetic, the elementary functions, what exact arithmetic could say about an ordering). The macro
+//! [`lens_scalar!`] then gives it everything a twin needs: the operators between lens values, borrowed values and
+//! plain `f64` on either side, compound assignment, comparisons with `f64` both ways, `Sum`/`Product`,
+//! `Zero`/`One`/`Default` and the whole [`crate::Real`] trait. Operators and comparisons are `#[track_caller]` so
+//! that events land at the user's own source line.
+//!
+//! Semantics shared by all lenses (DESIGN §3): branches, `max`/`min`, rounding to integers and integer
+//! conversions follow the primal; when the reference cannot decide them the same way, a
+//! [`EventKind::BranchInstability`] or [`EventKind::IndexInstability`] is recorded, and the result continues
+//! along the primal's path. An operation whose primal becomes NaN or infinite from finite operands records
+//! [`EventKind::Nan`] / [`EventKind::Infinity`].
+
+use crate::events::{record, EventKind};
+use crate::lens::reference::Reference;
+use core::cmp::Ordering;
+
+/// What exact arithmetic could say about the ordering of two values: a set of possible outcomes.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct Orders(u8);
+
+impl Orders {
+    pub const NONE: Orders = Orders(0);
+    pub const LESS: Orders = Orders(1);
+    pub const EQUAL: Orders = Orders(2);
+    pub const GREATER: Orders = Orders(4);
+
+    /// The single outcome `order`.
+    #[inline(always)]
+    #[must_use]
+    pub fn only(order: Ordering) -> Orders {
+        match order {
+            Ordering::Less => Orders::LESS,
+            Ordering::Equal => Orders::EQUAL,
+            Ordering::Greater => Orders::GREATER,
+        }
+    }
+
+    /// The outcomes for two closed enclosures `[a_lo, a_hi]` and `[b_lo, b_hi]` (none if either is empty/NaN).
+    #[inline(always)]
+    #[must_use]
+    pub fn of_ranges(a_lo: f64, a_hi: f64, b_lo: f64, b_hi: f64) -> Orders {
+        let less = u8::from(a_lo < b_hi); // some x ∈ a, y ∈ b with x < y
+        let greater = u8::from(a_hi > b_lo); // some x > y
+        let equal = u8::from(a_lo <= b_hi && b_lo <= a_hi); // the enclosures meet
+        Orders(less | (equal << 1) | (greater << 2))
+    }
+
+    /// Whether every possible outcome gives `predicate` the value `expected`.
+    #[inline(always)]
+    #[must_use]
+    pub fn all_give(self, predicate: impl Fn(Ordering) -> bool, expected: bool) -> bool {
+        let agrees = |bit: Orders, order: Ordering| self.0 & bit.0 == 0 || predicate(order) == expected;
+        self.0 != 0
+            && agrees(Orders::LESS, Ordering::Less)
+            && agrees(Orders::EQUAL, Ordering::Equal)
+            && agrees(Orders::GREATER, Ordering::Greater)
+    }
+}
+
+/// The primitive operations of a lens. Everything else is derived by [`lens_scalar!`].
+///
+/// Each operation computes the primal exactly as the float program would (`a + b`, `x.exp()` in `f64`) and the
+/// lens's reference side alongside.
+pub trait Core: Copy + Sized {
+    /// The number the float program computes.
+    fn primal(self) -> f64;
+    /// A double taken as exact (inputs, `f64` operands).
+    fn exact(value: f64) -> Self;
+    /// The primal `value` with the reference of the real number `reference` (literals, constants, integers).
+    fn with_reference(value: f64, reference: &Reference) -> Self;
+    /// A closed range of doubles holding the reference (the enclosure; for a point estimate, the doubles
+    /// around it). Used to tell whether rounding to an integer or a sign test is decided.
+    fn range(self) -> (f64, f64);
+    /// The orderings of the exact values that the reference allows.
+    fn orders(self, rhs: Self) -> Orders;
+
+    fn add(self, rhs: Self) -> Self;
+    fn sub(self, rhs: Self) -> Self;
+    fn mul(self, rhs: Self) -> Self;
+    #[track_caller]
+    fn div(self, rhs: Self) -> Self;
+    #[track_caller]
+    fn rem(self, rhs: Self) -> Self;
+    fn neg(self) -> Self;
+    fn mul_add(self, a: Self, b: Self) -> Self;
+    fn abs(self) -> Self;
+
+    #[track_caller]
+    fn sqrt(self) -> Self;
+    #[track_caller]
+    fn cbrt(self) -> Self;
+    #[track_caller]
+    fn exp(self) -> Self;
+    #[track_caller]
+    fn exp2(self) -> Self;
+    #[track_caller]
+    fn exp_m1(self) -> Self;
+    #[track_caller]
+    fn ln(self) -> Self;
+    #[track_caller]
+    fn ln_1p(self) -> Self;
+    #[track_caller]
+    fn log2(self) -> Self;
+    #[track_caller]
+    fn log10(self) -> Self;
+    #[track_caller]
+    fn sin(self) -> Self;
+    #[track_caller]
+    fn cos(self) -> Self;
+    #[track_caller]
+    fn tan(self) -> Self;
+    #[track_caller]
+    fn asin(self) -> Self;
+    #[track_caller]
+    fn acos(self) -> Self;
+    #[track_caller]
+    fn atan(self) -> Self;
+    #[track_caller]
+    fn sinh(self) -> Self;
+    #[track_caller]
+    fn cosh(self) -> Self;
+    #[track_caller]
+    fn tanh(self) -> Self;
+    #[track_caller]
+    fn powi(self, n: i32) -> Self;
+    #[track_caller]
+    fn powf(self, n: Self) -> Self;
+    #[track_caller]
+    fn log(self, base: Self) -> Self;
+    #[track_caller]
+    fn atan2(self, other: Self) -> Self;
+    #[track_caller]
+    fn hypot(self, other: Self) -> Self;
+}
+
+/// Records NaN or an infinity that an operation produced from finite operands (the cold path).
+#[inline(always)]
+#[track_caller]
+pub fn watch<T: Core>(out: T, operands_finite: bool) -> T {
+    let value = out.primal();
+    if !value.is_finite() && operands_finite {
+        record(if value.is_nan() { EventKind::Nan } else { EventKind::Infinity });
+    }
+    out
+}
+
+/// A comparison: the primal's answer, with a branch instability recorded when the reference could answer
+/// otherwise.
+#[inline(always)]
+#[track_caller]
+pub fn compare<T: Core>(a: T, b: T, predicate: fn(Ordering) -> bool) -> bool {
+    let Some(order) = a.primal().partial_cmp(&b.primal()) else {
+        return false; // NaN compares false, as in f64; the NaN was reported where it arose
+    };
+    let answer = predicate(order);
+    if !a.orders(b).all_give(predicate, answer) {
+        record(EventKind::BranchInstability);
+    }
+    answer
+}
+
+/// A step function of the value (floor, sign, integer conversion): the primal's result, with `kind` recorded when
+/// the reference range allows another result.
+#[inline(always)]
+#[track_caller]
+pub fn decide<T: Core, R: PartialEq>(x: T, step: impl Fn(f64) -> R, kind: EventKind) -> R {
+    let primal = step(x.primal());
+    let (lo, hi) = x.range();
+    if x.primal().is_finite() && (step(lo) != primal || step(hi) != primal) {
+        record(kind);
+    }
+    primal
+}
+
+/// Implements the operators, comparisons, iterator folds, `num_traits` identities and [`crate::Real`] for a lens
+/// type that implements [`Core`].
+#[macro_export]
+#[doc(hidden)]
+macro_rules! lens_scalar {
+    ($lens:ident) => {
+        $crate::lens_scalar!(@binary $lens; Add add AddAssign add_assign, Sub sub SubAssign sub_assign,
+            Mul mul MulAssign mul_assign, Div div DivAssign div_assign, Rem rem RemAssign rem_assign);
+        $crate::lens_scalar!(@compare $lens);
+        $crate::lens_scalar!(@identities $lens);
+        $crate::lens_scalar!(@real $lens);
+    };
+
+    (@binary $lens:ident; $($trait:ident $method:ident $assign_trait:ident $assign:ident),*) => {$(
+        impl ::core::ops::$trait for $lens {
+            type Output = $lens;
+            #[inline(always)]
+            #[track_caller]
+            fn $method(self, rhs: $lens) -> $lens {
+                use $crate::lens::scalar::Core as _;
+                let finite = self.primal().is_finite() && rhs.primal().is_finite();
+                $crate::lens::scalar::watch(<$lens as $crate::lens::scalar::Core>::$method(self, rhs), finite)
+            }
+        }
+        impl<'a> ::core::ops::$trait<&'a $lens> for $lens {
+            type Output = $lens;
+            #[inline(always)]
+            #[track_caller]
+            fn $method(self, rhs: &'a $lens) -> $lens {
+                ::core::ops::$trait::$method(self, *rhs)
+            }
+        }
+        impl<'a> ::core::ops::$trait<$lens> for &'a $lens {
+            type Output = $lens;
+            #[inline(always)]
+            #[track_caller]
+            fn $method(self, rhs: $lens) -> $lens {
+                ::core::ops::$trait::$method(*self, rhs)
+            }
+        }
+        impl<'a, 'b> ::core::ops::$trait<&'b $lens> for &'a $lens {
+            type Output = $lens;
+            #[inline(always)]
+            #[track_caller]
+            fn $method(self, rhs: &'b $lens) -> $lens {
+                ::core::ops::$trait::$method(*self, *rhs)
+            }
+        }
+        impl ::core::ops::$trait<f64> for $lens {
+            type Output = $lens;
+            #[inline(always)]
+            #[track_caller]
+            fn $method(self, rhs: f64) -> $lens {
+                ::core::ops::$trait::$method(self, <$lens as $crate::lens::scalar::Core>::exact(rhs))
+            }
+        }
+        impl<'a> ::core::ops::$trait<f64> for &'a $lens {
+            type Output = $lens;
+            #[inline(always)]
+            #[track_caller]
+            fn $method(self, rhs: f64) -> $lens {
+                ::core::ops::$trait::$method(*self, <$lens as $crate::lens::scalar::Core>::exact(rhs))
+            }
+        }
+        impl ::core::ops::$trait<$lens> for f64 {
+            type Output = $lens;
+            #[inline(always)]
+            #[track_caller]
+            fn $method(self, rhs: $lens) -> $lens {
+                ::core::ops::$trait::$method(<$lens as $crate::lens::scalar::Core>::exact(self), rhs)
+            }
+        }
+        impl<'a> ::core::ops::$trait<&'a $lens> for f64 {
+            type Output = $lens;
+            #[inline(always)]
+            #[track_caller]
+            fn $method(self, rhs: &'a $lens) -> $lens {
+                ::core::ops::$trait::$method(<$lens as $crate::lens::scalar::Core>::exact(self), *rhs)
+            }
+        }
+        impl ::core::ops::$assign_trait for $lens {
+            #[inline(always)]
+            #[track_caller]
+            fn $assign(&mut self, rhs: $lens) {
+                *self = ::core::ops::$trait::$method(*self, rhs);
+            }
+        }
+        impl<'a> ::core::ops::$assign_trait<&'a $lens> for $lens {
+            #[inline(always)]
+            #[track_caller]
+            fn $assign(&mut self, rhs: &'a $lens) {
+                *self = ::core::ops::$trait::$method(*self, *rhs);
+            }
+        }
+        impl ::core::ops::$assign_trait<f64> for $lens {
+            #[inline(always)]
+            #[track_caller]
+            fn $assign(&mut self, rhs: f64) {
+                *self = ::core::ops::$trait::$method(*self, rhs);
+            }
+        }
+    )*
+        impl ::core::ops::Neg for $lens {
+            type Output = $lens;
+            #[inline(always)]
+            fn neg(self) -> $lens {
+                <$lens as $crate::lens::scalar::Core>::neg(self)
+            }
+        }
+        impl<'a> ::core::ops::Neg for &'a $lens {
+            type Output = $lens;
+            #[inline(always)]
+            fn neg(self) -> $lens {
+                <$lens as $crate::lens::scalar::Core>::neg(*self)
+            }
+        }
+    };
+
+    (@compare $lens:ident) => {
+        impl ::core::cmp::PartialEq for $lens {
+            #[inline(always)]
+            #[track_caller]
+            fn eq(&self, rhs: &$lens) -> bool {
+                $crate::lens::scalar::compare(*self, *rhs, ::core::cmp::Ordering::is_eq)
+            }
+            #[allow(clippy::partialeq_ne_impl)]
+            #[inline(always)]
+            #[track_caller]
+            fn ne(&self, rhs: &$lens) -> bool {
+                !self.eq(rhs)
+            }
+        }
+        impl ::core::cmp::PartialOrd for $lens {
+            #[inline(always)]
+            #[track_caller]
+            fn partial_cmp(&self, rhs: &$lens) -> Option<::core::cmp::Ordering> {
+                use $crate::lens::scalar::Core as _;
+                let order = self.primal().partial_cmp(&rhs.primal())?;
+                if !self.orders(*rhs).all_give(|o| o == order, true) {
+                    $crate::events::record($crate::events::EventKind::BranchInstability);
+                }
+                Some(order)
+            }
+            #[inline(always)]
+            #[track_caller]
+            fn lt(&self, rhs: &$lens) -> bool {
+                $crate::lens::scalar::compare(*self, *rhs, ::core::cmp::Ordering::is_lt)
+            }
+            #[inline(always)]
+            #[track_caller]
+            fn le(&self, rhs: &$lens) -> bool {
+                $crate::lens::scalar::compare(*self, *rhs, ::core::cmp::Ordering::is_le)
+            }
+            #[inline(always)]
+            #[track_caller]
+            fn gt(&self, rhs: &$lens) -> bool {
+                $crate::lens::scalar::compare(*self, *rhs, ::core::cmp::Ordering::is_gt)
+            }
+            #[inline(always)]
+            #[track_caller]
+            fn ge(&self, rhs: &$lens) -> bool {
+                $crate::lens::scalar::compare(*self, *rhs, ::core::cmp::Ordering::is_ge)
+            }
+        }
+        $crate::lens_scalar!(@compare_mixed $lens, $lens, f64, |x: &f64| <$lens as $crate::lens::scalar::Core>::exact(*x), |x: &$lens| *x);
+        $crate::lens_scalar!(@compare_mixed $lens, f64, $lens, |x: &$lens| *x, |x: &f64| <$lens as $crate::lens::scalar::Core>::exact(*x));
+    };
+
+    (@compare_mixed $lens:ident, $left:ty, $right:ty, $lift_right:expr, $lift_left:expr) => {
+        impl ::core::cmp::PartialEq<$right> for $left {
+            #[inline(always)]
+            #[track_caller]
+            fn eq(&self, rhs: &$right) -> bool {
+                let (a, b): ($lens, $lens) = (($lift_left)(self), ($lift_right)(rhs));
+                a == b
+            }
+        }
+        impl ::core::cmp::PartialOrd<$right> for $left {
+            #[inline(always)]
+            #[track_caller]
+            fn partial_cmp(&self, rhs: &$right) -> Option<::core::cmp::Ordering> {
+                let (a, b): ($lens, $lens) = (($lift_left)(self), ($lift_right)(rhs));
+                a.partial_cmp(&b)
+            }
+            #[inline(always)]
+            #[track_caller]
+            fn lt(&self, rhs: &$right) -> bool {
+                let (a, b): ($lens, $lens) = (($lift_left)(self), ($lift_right)(rhs));
+                a < b
+            }
+            #[inline(always)]
+            #[track_caller]
+            fn le(&self, rhs: &$right) -> bool {
+                let (a, b): ($lens, $lens) = (($lift_left)(self), ($lift_right)(rhs));
+                a <= b
+            }
+            #[inline(always)]
+            #[track_caller]
+            fn gt(&self, rhs: &$right) -> bool {
+                let (a, b): ($lens, $lens) = (($lift_left)(self), ($lift_right)(rhs));
+                a > b
+            }
+            #[inline(always)]
+            #[track_caller]
+            fn ge(&self, rhs: &$right) -> bool {
+                let (a, b): ($lens, $lens) = (($lift_left)(self), ($lift_right)(rhs));
+                a >= b
+            }
+        }
+    };
+
+    (@identities $lens:ident) => {
+        impl ::core::default::Default for $lens {
+            #[inline(always)]
+            fn default() -> $lens {
+                <$lens as $crate::lens::scalar::Core>::exact(0.0)
+            }
+        }
+        impl ::num_traits::Zero for $lens {
+            #[inline(always)]
+            fn zero() -> $lens {
+                <$lens as $crate::lens::scalar::Core>::exact(0.0)
+            }
+            #[inline(always)]
+            fn is_zero(&self) -> bool {
+                <$lens as $crate::lens::scalar::Core>::primal(*self) == 0.0
+            }
+        }
+        impl ::num_traits::One for $lens {
+            #[inline(always)]
+            fn one() -> $lens {
+                <$lens as $crate::lens::scalar::Core>::exact(1.0)
+            }
+        }
+        // The folds start where `f64`'s do, so the primal of a sum is bit-identical to the float program's.
+        impl ::core::iter::Sum for $lens {
+            #[track_caller]
+            fn sum<I: Iterator<Item = $lens>>(iter: I) -> $lens {
+                let start = <$lens as $crate::lens::scalar::Core>::exact(::core::iter::empty::<f64>().sum());
+                iter.fold(start, |acc, x| acc + x)
+            }
+        }
+        impl<'a> ::core::iter::Sum<&'a $lens> for $lens {
+            #[track_caller]
+            fn sum<I: Iterator<Item = &'a $lens>>(iter: I) -> $lens {
+                iter.copied().sum()
+            }
+        }
+        impl ::core::iter::Product for $lens {
+            #[track_caller]
+            fn product<I: Iterator<Item = $lens>>(iter: I) -> $lens {
+                let start = <$lens as $crate::lens::scalar::Core>::exact(::core::iter::empty::<f64>().product());
+                iter.fold(start, |acc, x| acc * x)
+            }
+        }
+        impl<'a> ::core::iter::Product<&'a $lens> for $lens {
+            #[track_caller]
+            fn product<I: Iterator<Item = &'a $lens>>(iter: I) -> $lens {
+                iter.copied().product()
+            }
+        }
+    };
+
+    (@real $lens:ident) => {
+        impl $crate::Real for $lens {
+            #[inline(always)]
+            fn lit(value: f64, text: &'static str) -> $lens {
+                use $crate::lens::reference as r;
+                if r::is_exact_integer_literal(value, text) || r::literal_mode() == r::LiteralMode::AsCompiled {
+                    <$lens as $crate::lens::scalar::Core>::exact(value)
+                } else {
+                    <$lens as $crate::lens::scalar::Core>::with_reference(value, &r::literal_reference(value, text))
+                }
+            }
+            #[inline(always)]
+            fn lit_f32(value: f32, text: &'static str) -> $lens {
+                <$lens as $crate::Real>::lit(f64::from(value), text)
+            }
+            #[inline(always)]
+            fn from_f64(value: f64) -> $lens {
+                <$lens as $crate::lens::scalar::Core>::exact(value)
+            }
+            #[inline(always)]
+            fn from_f32(value: f32) -> $lens {
+                <$lens as $crate::lens::scalar::Core>::exact(f64::from(value))
+            }
+            #[inline]
+            fn from_i128(value: i128) -> $lens {
+                let reference = $crate::lens::reference::integer_reference(value);
+                <$lens as $crate::lens::scalar::Core>::with_reference(value as f64, &reference)
+            }
+            #[inline]
+            fn from_u128(value: u128) -> $lens {
+                let reference = $crate::lens::reference::unsigned_reference(value);
+                <$lens as $crate::lens::scalar::Core>::with_reference(value as f64, &reference)
+            }
+            #[inline]
+            fn constant(c: $crate::Constant) -> $lens {
+                use $crate::lens::reference as r;
+                if r::literal_mode() == r::LiteralMode::AsCompiled {
+                    <$lens as $crate::lens::scalar::Core>::exact(c.f64_value())
+                } else {
+                    <$lens as $crate::lens::scalar::Core>::with_reference(c.f64_value(), &r::constant_reference(c))
+                }
+            }
+            #[inline(always)]
+            fn primal(self) -> f64 {
+                <$lens as $crate::lens::scalar::Core>::primal(self)
+            }
+            #[inline]
+            #[track_caller]
+            fn to_i128(self) -> i128 {
+                $crate::lens::scalar::decide(self, |x| x as i128, $crate::events::EventKind::IndexInstability)
+            }
+            #[inline]
+            #[track_caller]
+            fn to_u128(self) -> u128 {
+                $crate::lens::scalar::decide(self, |x| x as u128, $crate::events::EventKind::IndexInstability)
+            }
+            $crate::lens_scalar!(@constants $lens: epsilon EPSILON, max_value MAX, min_value MIN,
+                min_positive MIN_POSITIVE, infinity INFINITY, neg_infinity NEG_INFINITY, nan NAN);
+            $crate::lens_scalar!(@unary $lens: sqrt cbrt exp exp2 exp_m1 ln ln_1p log2 log10 sin cos tan asin acos
+                atan sinh cosh tanh);
+            $crate::lens_scalar!(@binary_fn $lens: powf log atan2 hypot);
+            #[inline(always)]
+            fn abs(self) -> $lens {
+                <$lens as $crate::lens::scalar::Core>::abs(self)
+            }
+            #[inline]
+            #[track_caller]
+            fn recip(self) -> $lens {
+                <$lens as ::num_traits::One>::one() / self // f64::recip is 1/x
+            }
+            #[inline]
+            #[track_caller]
+            fn powi(self, n: i32) -> $lens {
+                let finite = $crate::Real::primal(self).is_finite();
+                $crate::lens::scalar::watch(<$lens as $crate::lens::scalar::Core>::powi(self, n), finite)
+            }
+            #[inline]
+            #[track_caller]
+            fn sin_cos(self) -> ($lens, $lens) {
+                (<$lens as $crate::Real>::sin(self), <$lens as $crate::Real>::cos(self))
+            }
+            #[inline(always)]
+            #[track_caller]
+            fn mul_add(self, a: $lens, b: $lens) -> $lens {
+                let finite = $crate::Real::primal(self).is_finite() && $crate::Real::primal(a).is_finite() && $crate::Real::primal(b).is_finite();
+                $crate::lens::scalar::watch(<$lens as $crate::lens::scalar::Core>::mul_add(self, a, b), finite)
+            }
+            #[inline]
+            #[track_caller]
+            fn max(self, other: $lens) -> $lens {
+                // f64::max's answer, then the operand that carries it; the comparison records an instability.
+                let chosen = $crate::Real::primal(self).max($crate::Real::primal(other));
+                let _ = <$lens as ::core::cmp::PartialOrd>::partial_cmp(&self, &other);
+                if chosen.to_bits() == $crate::Real::primal(self).to_bits() { self } else { other }
+            }
+            #[inline]
+            #[track_caller]
+            fn min(self, other: $lens) -> $lens {
+                let chosen = $crate::Real::primal(self).min($crate::Real::primal(other));
+                let _ = <$lens as ::core::cmp::PartialOrd>::partial_cmp(&self, &other);
+                if chosen.to_bits() == $crate::Real::primal(self).to_bits() { self } else { other }
+            }
+            #[inline]
+            #[track_caller]
+            fn clamp(self, min: $lens, max: $lens) -> $lens {
+                // f64::clamp without its panic on min > max or NaN bounds: no panics on bad input.
+                let low = if self < min { min } else { self };
+                if low > max { max } else { low }
+            }
+            #[inline]
+            #[track_caller]
+            fn signum(self) -> $lens {
+                let s = $crate::lens::scalar::decide(self, |x| x.signum().to_bits(),
+                    $crate::events::EventKind::BranchInstability);
+                <$lens as $crate::lens::scalar::Core>::exact(f64::from_bits(s))
+            }
+            #[inline]
+            #[track_caller]
+            fn copysign(self, sign: $lens) -> $lens {
+                let negative = <$lens as $crate::Real>::is_sign_negative(sign);
+                let magnitude = <$lens as $crate::lens::scalar::Core>::abs(self);
+                if negative { -magnitude } else { magnitude }
+            }
+            $crate::lens_scalar!(@step $lens: floor ceil round trunc);
+            #[inline]
+            #[track_caller]
+            fn fract(self) -> $lens {
+                // x.fract() = x − x.trunc(), exact in f64 (the subtraction of the integer part cannot round).
+                self - <$lens as $crate::Real>::trunc(self)
+            }
+            #[inline]
+            fn to_degrees(self) -> $lens {
+                // f64::to_degrees multiplies by fl(180/π); the reference multiplies by 180/π itself.
+                self * <$lens as $crate::lens::scalar::Core>::with_reference(
+                    180.0f64 / ::core::f64::consts::PI, &$crate::lens::reference::degrees_per_radian())
+            }
+            #[inline]
+            fn to_radians(self) -> $lens {
+                self * <$lens as $crate::lens::scalar::Core>::with_reference(
+                    ::core::f64::consts::PI / 180.0f64, &$crate::lens::reference::radians_per_degree())
+            }
+            #[inline(always)]
+            fn is_nan(self) -> bool {
+                $crate::Real::primal(self).is_nan()
+            }
+            #[inline(always)]
+            fn is_finite(self) -> bool {
+                $crate::Real::primal(self).is_finite()
+            }
+            #[inline(always)]
+            fn is_infinite(self) -> bool {
+                $crate::Real::primal(self).is_infinite()
+            }
+            #[inline]
+            #[track_caller]
+            fn is_sign_negative(self) -> bool {
+                $crate::lens::scalar::decide(self, f64::is_sign_negative, $crate::events::EventKind::BranchInstability)
+            }
+            #[inline]
+            #[track_caller]
+            fn is_sign_positive(self) -> bool {
+                $crate::lens::scalar::decide(self, f64::is_sign_positive, $crate::events::EventKind::BranchInstability)
+            }
+            #[inline]
+            #[track_caller]
+            fn total_cmp(&self, other: &$lens) -> ::core::cmp::Ordering {
+                let order = $crate::Real::primal(*self).total_cmp(&$crate::Real::primal(*other));
+                let _ = <$lens as ::core::cmp::PartialOrd>::partial_cmp(self, other);
+                order
+            }
+        }
+    };
+
+    (@constants $lens:ident: $($name:ident $value:ident),*) => {$(
+        #[inline(always)]
+        fn $name() -> $lens {
+            <$lens as $crate::lens::scalar::Core>::exact(f64::$value)
+        }
+    )*};
+
+    (@unary $lens:ident: $($name:ident)*) => {$(
+        #[inline]
+        #[track_caller]
+        fn $name(self) -> $lens {
+            let finite = $crate::Real::primal(self).is_finite();
+            $crate::lens::scalar::watch(<$lens as $crate::lens::scalar::Core>::$name(self), finite)
+        }
+    )*};
+
+    (@binary_fn $lens:ident: $($name:ident)*) => {$(
+        #[inline]
+        #[track_caller]
+        fn $name(self, other: $lens) -> $lens {
+            let finite = $crate::Real::primal(self).is_finite() && $crate::Real::primal(other).is_finite();
+            $crate::lens::scalar::watch(<$lens as $crate::lens::scalar::Core>::$name(self, other), finite)
+        }
+    )*};
+
+    // Rounding to an integer along the primal's path: the result is the primal's integer, taken as exact.
+    (@step $lens:ident: $($name:ident)*) => {$(
+        #[inline]
+        #[track_caller]
+        fn $name(self) -> $lens {
+            let n = $crate::lens::scalar::decide(self, |x| x.$name().to_bits(),
+                $crate::events::EventKind::BranchInstability);
+            <$lens as $crate::lens::scalar::Core>::exact(f64::from_bits(n))
+        }
+    )*};
+}

@@ -1,0 +1,384 @@
+//! [`Shadow`]: the primal with a double-word (≈106-bit) shadow running the same operations — a tight *estimate*
+//! of the primal's true error, not a guarantee (`error_bound` is `None`).
+//!
+//! The shadow follows the primal's path (branches and integer conversions are the primal's) and rounds about
+//! 2^53 times less than the primal at each operation, so `|primal − shadow|` estimates `|primal − exact|` until
+//! the shadow's own error catches up (ill-conditioned problems such as Rump's polynomial can defeat it: that is
+//! what [`super::Bound`] and [`super::Interval`] are for).
+//!
+//! Sum, difference, product, quotient, √ and `mul_add` are the double-word algorithms of [`super::eft`] (Joldes,
+//! Muller, Popescu, ACM TOMS 2017). The other elementary functions evaluate the double-word value at 160 bits with `dashu-float` and round
+//! back to double-word: slower, but accurate far beyond the shadow's own precision.
+
+use crate::events::{record, EventKind};
+use crate::lens::eft::{next_down, next_up, DoubleWord};
+use crate::lens::reference::Reference;
+use crate::lens::scalar::{Core, Orders};
+use crate::lens::Lens;
+use core::ops::{Add, Div, Mul, Neg, Sub};
+use dashu_float::round::mode::HalfEven;
+use dashu_float::FBig;
+
+/// A value with a double-word shadow of the same computation.
+#[derive(Clone, Copy, Debug)]
+pub struct Shadow {
+    primal: f64,
+    shadow: DoubleWord,
+}
+
+impl Shadow {
+    /// A primal with an explicit shadow `hi + lo`.
+    #[must_use]
+    pub fn new(primal: f64, hi: f64, lo: f64) -> Shadow {
+        Shadow { primal, shadow: DoubleWord { hi, lo } }
+    }
+
+    /// The shadow as the pair `(hi, lo)`.
+    #[must_use]
+    pub fn shadow(self) -> (f64, f64) {
+        (self.shadow.hi, self.shadow.lo)
+    }
+
+    /// `primal − shadow`, to double precision: `(primal − hi) − lo` (the first subtraction is exact when the
+    /// two are within a factor of two, Sterbenz).
+    #[must_use]
+    pub fn signed_error(self) -> f64 {
+        (self.primal - self.shadow.hi) - self.shadow.lo
+    }
+
+    /// The estimate of the relative error `|primal − exact| / |exact|` (infinite when the shadow is 0 and the
+    /// primal is not).
+    #[must_use]
+    pub fn relative_error(self) -> f64 {
+        let error = self.signed_error().abs();
+        if error == 0.0 {
+            0.0
+        } else {
+            error / self.shadow.to_f64().abs()
+        }
+    }
+
+    /// The result of a function evaluated on the shadow at [`BITS`] bits with `dashu-float`, or with the `f64`
+    /// fallback when the shadow leaves the function's domain or the double range (the primal records the event).
+    fn high_precision(
+        primal: f64,
+        x: DoubleWord,
+        inside: bool,
+        f: impl Fn(&Big) -> Big,
+        fallback: fn(f64) -> f64,
+    ) -> Shadow {
+        let shadow = match big(x) {
+            Some(value) if inside => double_word(&f(&value)),
+            _ => DoubleWord::from_f64(fallback(x.to_f64())),
+        };
+        Shadow { primal, shadow }
+    }
+}
+
+type Big = FBig<HalfEven>;
+/// Working precision of the shadow's elementary functions.
+const BITS: usize = 160;
+
+/// A finite double-word value as a `dashu-float` number (exact).
+fn big(x: DoubleWord) -> Option<Big> {
+    if !x.is_finite() || !x.lo.is_finite() {
+        return None;
+    }
+    let hi = Big::try_from(x.hi).ok()?.with_precision(BITS).value();
+    let lo = Big::try_from(x.lo).ok()?;
+    Some(hi + lo)
+}
+
+/// The nearest double-word value of a `dashu-float` number: round to nearest, then the remainder.
+fn double_word(x: &Big) -> DoubleWord {
+    let hi = x.to_f64().value();
+    match Big::try_from(hi) {
+        Ok(hi_big) if hi.is_finite() => DoubleWord { hi, lo: (x - hi_big).to_f64().value() },
+        _ => DoubleWord::from_f64(hi),
+    }
+}
+
+/// `ln 2`, `ln 10` at the working precision.
+fn ln_of(n: u32) -> Big {
+    Big::from(n).with_precision(BITS).value().ln()
+}
+
+impl Core for Shadow {
+    #[inline(always)]
+    fn primal(self) -> f64 {
+        self.primal
+    }
+
+    #[inline(always)]
+    fn exact(value: f64) -> Shadow {
+        Shadow { primal: value, shadow: DoubleWord::from_f64(value) }
+    }
+
+    #[inline(always)]
+    fn with_reference(value: f64, reference: &Reference) -> Shadow {
+        Shadow { primal: value, shadow: DoubleWord { hi: reference.hi, lo: reference.lo } }
+    }
+
+    #[inline(always)]
+    fn range(self) -> (f64, f64) {
+        // The doubles around hi + lo: hi itself when lo = 0, else hi and its neighbour on lo's side.
+        let DoubleWord { hi, lo } = self.shadow;
+        if lo > 0.0 {
+            (hi, next_up(hi))
+        } else if lo < 0.0 {
+            (next_down(hi), hi)
+        } else {
+            (hi, hi)
+        }
+    }
+
+    #[inline(always)]
+    fn orders(self, rhs: Shadow) -> Orders {
+        self.shadow.partial_cmp(rhs.shadow).map_or(Orders::NONE, Orders::only)
+    }
+
+    #[inline(always)]
+    fn add(self, rhs: Shadow) -> Shadow {
+        Shadow { primal: self.primal + rhs.primal, shadow: self.shadow.add(rhs.shadow) }
+    }
+
+    #[inline(always)]
+    fn sub(self, rhs: Shadow) -> Shadow {
+        Shadow { primal: self.primal - rhs.primal, shadow: self.shadow.sub(rhs.shadow) }
+    }
+
+    #[inline(always)]
+    fn mul(self, rhs: Shadow) -> Shadow {
+        Shadow { primal: self.primal * rhs.primal, shadow: self.shadow.mul(rhs.shadow) }
+    }
+
+    #[inline(always)]
+    #[track_caller]
+    fn div(self, rhs: Shadow) -> Shadow {
+        if rhs.shadow.hi == 0.0 && rhs.primal != 0.0 {
+            record(EventKind::DivisionByZeroEnclosure); // the shadow divides by zero where the primal does not
+        }
+        Shadow { primal: self.primal / rhs.primal, shadow: self.shadow.div(rhs.shadow) }
+    }
+
+    #[inline]
+    #[track_caller]
+    fn rem(self, rhs: Shadow) -> Shadow {
+        let c = self.primal % rhs.primal; // exact: c = x − q·y with q = trunc(x/y)
+        let q = ((self.primal - c) / rhs.primal).round();
+        // Along the primal's path: X − q·Y in double-word arithmetic.
+        let shadow = self.shadow.sub(rhs.shadow.mul_f64(q));
+        let quotient = self.shadow.div(rhs.shadow);
+        let truncated = {
+            let t = quotient.hi.trunc();
+            // hi an integer with lo pulling towards zero: the shadow quotient truncates one step closer to 0.
+            if t == quotient.hi && quotient.lo != 0.0 && (quotient.lo < 0.0) == (quotient.hi > 0.0) {
+                t - quotient.hi.signum()
+            } else {
+                t
+            }
+        };
+        if q.is_finite() && quotient.is_finite() && truncated != q {
+            record(EventKind::BranchInstability);
+        }
+        Shadow { primal: c, shadow }
+    }
+
+    #[inline(always)]
+    fn neg(self) -> Shadow {
+        Shadow { primal: -self.primal, shadow: self.shadow.neg() }
+    }
+
+    #[inline(always)]
+    fn mul_add(self, a: Shadow, b: Shadow) -> Shadow {
+        Shadow { primal: self.primal.mul_add(a.primal, b.primal), shadow: self.shadow.mul_add(a.shadow, b.shadow) }
+    }
+
+    #[inline(always)]
+    fn abs(self) -> Shadow {
+        let shadow = if self.shadow.hi < 0.0 { self.shadow.neg() } else { self.shadow };
+        Shadow { primal: self.primal.abs(), shadow }
+    }
+
+    #[inline]
+    fn sqrt(self) -> Shadow {
+        Shadow { primal: self.primal.sqrt(), shadow: self.shadow.sqrt() }
+    }
+
+    fn cbrt(self) -> Shadow {
+        // One Newton step y + (x − y³)/(3y²) from the double cube root, in double-word arithmetic.
+        let x = self.shadow;
+        let y = x.hi.cbrt();
+        let shadow = if y == 0.0 || !y.is_finite() {
+            DoubleWord::from_f64(y)
+        } else {
+            let yy = DoubleWord::from_f64(y);
+            let residual = x.sub(yy.mul(yy).mul(yy));
+            yy.add(residual.div(yy.mul(yy).mul_f64(3.0)))
+        };
+        Shadow { primal: self.primal.cbrt(), shadow }
+    }
+
+    fn exp(self) -> Shadow {
+        Shadow::high_precision(self.primal.exp(), self.shadow, true, Big::exp, f64::exp)
+    }
+
+    fn exp2(self) -> Shadow {
+        // 2ˣ = e^{x ln 2}
+        Shadow::high_precision(self.primal.exp2(), self.shadow, true, |x| (x * ln_of(2)).exp(), f64::exp2)
+    }
+
+    fn exp_m1(self) -> Shadow {
+        Shadow::high_precision(self.primal.exp_m1(), self.shadow, true, Big::exp_m1, f64::exp_m1)
+    }
+
+    fn ln(self) -> Shadow {
+        Shadow::high_precision(self.primal.ln(), self.shadow, self.shadow.hi > 0.0, Big::ln, f64::ln)
+    }
+
+    fn ln_1p(self) -> Shadow {
+        let inside = self.shadow.hi > -1.0 || (self.shadow.hi == -1.0 && self.shadow.lo > 0.0);
+        Shadow::high_precision(self.primal.ln_1p(), self.shadow, inside, Big::ln_1p, f64::ln_1p)
+    }
+
+    fn log2(self) -> Shadow {
+        // log₂ x = ln x / ln 2
+        Shadow::high_precision(self.primal.log2(), self.shadow, self.shadow.hi > 0.0, |x| x.ln() / ln_of(2), f64::log2)
+    }
+
+    fn log10(self) -> Shadow {
+        let inside = self.shadow.hi > 0.0;
+        Shadow::high_precision(self.primal.log10(), self.shadow, inside, |x| x.ln() / ln_of(10), f64::log10)
+    }
+
+    fn sin(self) -> Shadow {
+        Shadow::high_precision(self.primal.sin(), self.shadow, true, Big::sin, f64::sin)
+    }
+
+    fn cos(self) -> Shadow {
+        Shadow::high_precision(self.primal.cos(), self.shadow, true, Big::cos, f64::cos)
+    }
+
+    fn tan(self) -> Shadow {
+        Shadow::high_precision(self.primal.tan(), self.shadow, true, Big::tan, f64::tan)
+    }
+
+    fn asin(self) -> Shadow {
+        let inside = self.shadow.hi.abs() < 1.0;
+        Shadow::high_precision(self.primal.asin(), self.shadow, inside, Big::asin, f64::asin)
+    }
+
+    fn acos(self) -> Shadow {
+        let inside = self.shadow.hi.abs() < 1.0;
+        Shadow::high_precision(self.primal.acos(), self.shadow, inside, Big::acos, f64::acos)
+    }
+
+    fn atan(self) -> Shadow {
+        Shadow::high_precision(self.primal.atan(), self.shadow, true, Big::atan, f64::atan)
+    }
+
+    fn sinh(self) -> Shadow {
+        Shadow::high_precision(self.primal.sinh(), self.shadow, true, Big::sinh, f64::sinh)
+    }
+
+    fn cosh(self) -> Shadow {
+        Shadow::high_precision(self.primal.cosh(), self.shadow, true, Big::cosh, f64::cosh)
+    }
+
+    fn tanh(self) -> Shadow {
+        Shadow::high_precision(self.primal.tanh(), self.shadow, true, Big::tanh, f64::tanh)
+    }
+
+    fn powi(self, n: i32) -> Shadow {
+        // Binary powering in double-word arithmetic; x⁻ⁿ = 1/xⁿ.
+        let mut base = self.shadow;
+        let mut result = DoubleWord::from_f64(1.0);
+        let mut k = n.unsigned_abs();
+        while k > 0 {
+            if k & 1 == 1 {
+                result = result.mul(base);
+            }
+            base = base.mul(base);
+            k >>= 1;
+        }
+        let shadow = if n < 0 { DoubleWord::from_f64(1.0).div(result) } else { result };
+        Shadow { primal: self.primal.powi(n), shadow }
+    }
+
+    fn powf(self, n: Shadow) -> Shadow {
+        let primal = self.primal.powf(n.primal);
+        let exponent = n.shadow;
+        if exponent.lo == 0.0 && exponent.hi.fract() == 0.0 && exponent.hi.abs() <= f64::from(i32::MAX) {
+            let integer = Core::powi(self, exponent.hi as i32);
+            return Shadow { primal, shadow: integer.shadow };
+        }
+        let shadow = match (big(self.shadow), big(exponent)) {
+            (Some(x), Some(y)) if self.shadow.hi > 0.0 => double_word(&x.powf(&y)),
+            _ => DoubleWord::from_f64(self.shadow.to_f64().powf(exponent.to_f64())),
+        };
+        Shadow { primal, shadow }
+    }
+
+    fn log(self, base: Shadow) -> Shadow {
+        let primal = self.primal.log(base.primal);
+        let shadow = match (big(self.shadow), big(base.shadow)) {
+            (Some(x), Some(b))
+                if self.shadow.hi > 0.0 && base.shadow.hi > 0.0 && base.shadow != DoubleWord::from_f64(1.0) =>
+            {
+                double_word(&(x.ln() / b.ln())) // log_b x = ln x / ln b
+            }
+            _ => DoubleWord::from_f64(self.shadow.to_f64().log(base.shadow.to_f64())),
+        };
+        Shadow { primal, shadow }
+    }
+
+    fn atan2(self, other: Shadow) -> Shadow {
+        let primal = self.primal.atan2(other.primal);
+        let shadow = match (big(self.shadow), big(other.shadow)) {
+            (Some(y), Some(x)) if self.shadow.hi != 0.0 || other.shadow.hi != 0.0 => double_word(&y.atan2(&x)),
+            _ => DoubleWord::from_f64(self.shadow.to_f64().atan2(other.shadow.to_f64())),
+        };
+        Shadow { primal, shadow }
+    }
+
+    fn hypot(self, other: Shadow) -> Shadow {
+        let primal = self.primal.hypot(other.primal);
+        // √(x² + y²) in double-word arithmetic; at the edges of the range, 160-bit dashu-float.
+        let (x, y) = (self.shadow, other.shadow);
+        let direct = x.mul(x).add(y.mul(y)).sqrt();
+        let shadow = if direct.is_finite() && direct.hi > 1e-290 {
+            direct
+        } else {
+            match (big(x), big(y)) {
+                (Some(a), Some(b)) => double_word(&a.hypot(&b)),
+                _ => DoubleWord::from_f64(x.to_f64().hypot(y.to_f64())),
+            }
+        };
+        Shadow { primal, shadow }
+    }
+}
+
+crate::lens_scalar!(Shadow);
+
+impl core::fmt::Display for Shadow {
+    fn fmt(&self, f: &mut core::fmt::Formatter<'_>) -> core::fmt::Result {
+        write!(f, "{} (shadow {:e} {:+e})", self.primal, self.shadow.hi, self.shadow.lo)
+    }
+}
+
+impl Lens for Shadow {
+    const NAME: &'static str = "shadow";
+    const GUARANTEED: bool = false;
+
+    fn error_estimate(self) -> f64 {
+        self.signed_error().abs()
+    }
+
+    fn error_bound(self) -> Option<f64> {
+        None
+    }
+
+    fn reference_value(self) -> f64 {
+        self.shadow.to_f64()
+    }
+}

@@ -1,0 +1,33 @@
+//! Smoke checks of the lens surface: literals as written, events at the user's site.
+
+use twinstep::events::{drain, EventKind};
+use twinstep::lens::{Bound, Interval, Lens, Shadow};
+use twinstep::Real;
+
+#[test]
+fn one_tenth_as_written() {
+    // 0.1 as a double is 0.1000000000000000055511151231257827… (IEEE 754 binary64 nearest; the excess
+    // 5.551115123125783e-18 is from memory, and it is recomputed here as 0.1f64 − 1/10 in dashu exact rationals).
+    let excess = dashu_ratio::RBig::try_from(0.1f64).unwrap() - dashu_ratio::RBig::from_str_decimal("0.1").unwrap();
+    let excess = excess.to_f64().value();
+    let b = Bound::lit(0.1, "0.1");
+    assert!(b.radius() >= excess && b.radius() <= excess * (1.0 + 1e-12), "{b}");
+    let s = Shadow::lit(0.1, "0.1");
+    assert_eq!(s.error_estimate(), excess);
+    let i = Interval::lit(0.1, "0.1");
+    assert!(i.enclosure().inf() < 0.1 && i.enclosure().sup() == 0.1);
+}
+
+#[test]
+fn comparison_records_branch_instability_at_the_callers_line() {
+    let _ = drain();
+    let x = Bound::new(1.0, 1e-10);
+    let y = Bound::from_f64(1.0 + 1e-12);
+    let line = line!() + 1;
+    let below = x < y;
+    assert!(below);
+    let events = drain();
+    assert_eq!(events.len(), 1, "{events:?}");
+    assert_eq!(events[0].0, EventKind::BranchInstability);
+    assert_eq!(events[0].1.line, line);
+}
