@@ -248,7 +248,7 @@ fn the_attribute_never_panics_on_mutated_items() {
         samples.iter().flat_map(|s| s.annotated.iter().map(|(attr, item)| (s.name.as_str(), attr, item))).collect();
     assert!(items.len() >= 10, "the corpus should hold the fixtures' annotated items, found {}", items.len());
     check(
-        CASES_PER_MODE,
+        ATTRIBUTE_CASES,
         (any::<usize>(), any::<bool>(), mutations_strategy()),
         |(pick, mutate_arguments, mutations)| {
             let (name, attr, item) = items[pick % items.len()];
