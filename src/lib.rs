@@ -12,6 +12,7 @@ pub mod audit;
 pub mod events;
 pub mod lens;
 pub mod real;
+pub mod report;
 pub mod trace;
 pub mod twin;
 pub mod verdict;

@@ -111,10 +111,15 @@ pub struct Audit<'s, S: Scenario> {
 }
 
 impl<'s, S: Scenario> Audit<'s, S> {
-    /// An audit of `steps` steps of `scenario` against `tolerance`; the trace goes to the system's temporary
-    /// directory unless [`Audit::trace`] says otherwise.
+    /// An audit of `steps` steps of `scenario` against `tolerance`. The trace goes to the path in the
+    /// `TWINSTEP_TRACE` environment variable when it is set, else to the system's temporary directory, unless
+    /// [`Audit::trace`] says otherwise.
     pub fn new(scenario: &'s S, tolerance: Tolerance, steps: u64) -> Audit<'s, S> {
-        let trace = std::env::temp_dir().join(format!("twinstep-{}.jsonl", std::process::id()));
+        // `twinstep run` tells a harness where its trace goes through this variable (see the CLI's run command).
+        let trace = std::env::var_os("TWINSTEP_TRACE").map_or_else(
+            || std::env::temp_dir().join(format!("twinstep-{}.jsonl", std::process::id())),
+            PathBuf::from,
+        );
         Audit { scenario, plan: Plan::new("kernel", scenario.fields(), tolerance, steps, trace), lenses: Vec::new() }
     }
 
