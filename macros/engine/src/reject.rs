@@ -314,6 +314,18 @@ impl<'ast> Visit<'ast> for Rejecter<'_> {
         visit::visit_pat(self, pat);
     }
 
+    fn visit_item_union(&mut self, union: &'ast syn::ItemUnion) {
+        if crate::items::mentions_float(self.ctx, &union.fields) {
+            self.reject(
+                &union.ident,
+                &format!("the union `{}`", union.ident),
+                "a union of a float and other fields reads the float's bits as another type",
+                "keep the union outside the annotated module, or store the float and the other value separately",
+            );
+        }
+        visit::visit_item_union(self, union);
+    }
+
     fn visit_item_impl(&mut self, item: &'ast syn::ItemImpl) {
         if let Some((_, trait_path, _)) = &item.trait_ {
             if self.ctx.is_float_type(strip_references(&item.self_ty)) {
