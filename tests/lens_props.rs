@@ -1,0 +1,199 @@
+//! Properties of the lenses against arbitrary-precision oracles (dashu), for random operands:
+//! - the exact result of + − × ÷ √ and fma (dashu-ratio exact rationals) lies inside the `Bound` ball and the
+//!   `Interval` enclosure, for exact operands and for operands that already carry a radius;
+//! - exp, ln, sin, cos, tanh evaluated by dashu-float at 256 bits (its error, below 2^-240 relative, is far
+//!   below any radius, which is at least u·|value|) lie inside both enclosures;
+//! - the `Shadow` agrees with the exact result of + − × ÷ to 100 bits (Joldes, Muller, Popescu 2017 prove
+//!   ≤ 15u² ≈ 2^-102 relative for these operations, from memory).
+
+use dashu_float::round::mode::HalfEven;
+use dashu_float::FBig;
+use dashu_ratio::RBig;
+use proptest::prelude::*;
+use twinstep::lens::{Bound, Interval, Shadow};
+use twinstep::Real;
+
+type Big = FBig<HalfEven>;
+
+fn rational(x: f64) -> RBig {
+    RBig::try_from(x).expect("finite operand")
+}
+
+/// A double, exactly, with room for exact sums of doubles (2100 bits span the whole double range).
+fn big(x: f64) -> Big {
+    Big::try_from(x).expect("finite").with_precision(2200).value()
+}
+
+/// Random doubles with random magnitudes between 2^-40 and 2^40, either sign.
+fn operand() -> impl Strategy<Value = f64> {
+    (-1.0f64..1.0, -40i32..40).prop_map(|(m, e)| m * 2f64.powi(e)).prop_filter("non-zero", |x| *x != 0.0)
+}
+
+/// A position inside an enclosure, as a fraction t ∈ [0, 1] in quarters (exact in binary).
+fn position() -> impl Strategy<Value = u8> {
+    0u8..=4
+}
+
+/// A lens value with a radius of 2^-k relative, and the exact value it stands for: lo + t·(hi − lo).
+struct Uncertain {
+    bound: Bound,
+    interval: Interval,
+    exact: RBig,
+}
+
+fn uncertain(p: f64, k: i32, t: u8) -> Uncertain {
+    let r = p.abs() * 2f64.powi(-k);
+    let enclosure = inari::Interval::try_from((p - r, p + r)).expect("ordered");
+    let (lo, hi) = (rational(enclosure.inf()), rational(enclosure.sup()));
+    let exact = &lo + (&hi - &lo) * RBig::from(t) / RBig::from(4);
+    // The ball must hold the whole enclosure: its radius is the larger distance from p, rounded up.
+    let radius = f64::max(p - enclosure.inf(), enclosure.sup() - p) * (1.0 + f64::EPSILON);
+    Uncertain { bound: Bound::new(p, radius), interval: Interval::new(p, enclosure), exact }
+}
+
+fn assert_bound_holds(out: Bound, exact: &RBig, what: &str) -> Result<(), TestCaseError> {
+    let distance = (rational(out.primal()) - exact).to_f64().value().abs();
+    // `to_f64` rounds the distance to nearest; compare with a margin of one relative ulp in the distance's favour.
+    prop_assert!(distance * (1.0 - f64::EPSILON) <= out.radius(), "{what}: {out} misses {}", exact.to_f64().value());
+    Ok(())
+}
+
+fn assert_interval_holds(out: Interval, exact: &RBig, what: &str) -> Result<(), TestCaseError> {
+    let e = out.enclosure();
+    let above_inf = e.inf() == f64::NEG_INFINITY || rational(e.inf()) <= *exact;
+    let below_sup = e.sup() == f64::INFINITY || *exact <= rational(e.sup());
+    prop_assert!(above_inf && below_sup, "{what}: {out} misses {}", exact.to_f64().value());
+    Ok(())
+}
+
+/// Runs one binary operation on both guaranteed lenses and checks the exact result.
+macro_rules! check_binary {
+    ($x:expr, $y:expr, $op:tt, $name:expr) => {{
+        let (x, y) = (&$x, &$y);
+        let exact = &x.exact $op &y.exact;
+        assert_bound_holds(x.bound $op y.bound, &exact, $name)?;
+        assert_interval_holds(x.interval $op y.interval, &exact, $name)?;
+    }};
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(512))]
+
+    #[test]
+    fn arithmetic_encloses_the_exact_result(a in operand(), b in operand(), ka in 0i32..60, kb in 0i32..60,
+                                            ta in position(), tb in position(), exact_inputs in any::<bool>()) {
+        let (ka, kb) = if exact_inputs { (2000, 2000) } else { (ka, kb) }; // 2^-2000 underflows: radius 0
+        let (x, y) = (uncertain(a, ka, ta), uncertain(b, kb, tb));
+        check_binary!(x, y, +, "add");
+        check_binary!(x, y, -, "sub");
+        check_binary!(x, y, *, "mul");
+        if kb >= 2 {
+            // The divisor's enclosure excludes zero (radius ≤ |b|/4).
+            check_binary!(x, y, /, "div");
+        }
+        // Mixed with a plain f64 on either side, as kernels write `dx * u[i]`.
+        let exact = &x.exact * rational(b);
+        assert_bound_holds(x.bound * b, &exact, "bound * f64")?;
+        assert_interval_holds(b * x.interval, &exact, "f64 * interval")?;
+    }
+
+    #[test]
+    fn fma_encloses_the_exact_result(a in operand(), b in operand(), c in operand(), k in 0i32..60, t in position()) {
+        let (x, y, z) = (uncertain(a, k, t), uncertain(b, k + 3, 4 - t), uncertain(c, k + 7, t));
+        let exact = &x.exact * &y.exact + &z.exact;
+        assert_bound_holds(x.bound.mul_add(y.bound, z.bound), &exact, "fma")?;
+        assert_interval_holds(x.interval.mul_add(y.interval, z.interval), &exact, "fma")?;
+    }
+
+    #[test]
+    fn sqrt_encloses_the_exact_root(a in operand(), k in 1i32..60, t in position()) {
+        let x = uncertain(a.abs(), k, t);
+        // √X ∈ [lo, hi] with lo ≥ 0  ⟺  lo² ≤ X ≤ hi² (exact rational squares).
+        let ball = x.bound.sqrt();
+        let (lo, hi) = (ball.primal() - ball.radius(), ball.primal() + ball.radius());
+        let (lo, hi) = (rational(lo.max(0.0)), rational(hi));
+        prop_assert!(&lo * &lo <= x.exact && x.exact <= &hi * &hi, "bound sqrt {ball}");
+        let e = x.interval.sqrt().enclosure();
+        let (lo, hi) = (rational(e.inf()), rational(e.sup()));
+        prop_assert!(&lo * &lo <= x.exact && x.exact <= &hi * &hi, "interval sqrt {e:?}");
+    }
+
+    #[test]
+    fn shadow_agrees_to_100_bits(a in operand(), b in operand(), la in -1.0f64..1.0, lb in -1.0f64..1.0) {
+        // Double-word operands hi + lo with |lo| ≤ ulp(hi)/2.
+        let (xl, yl) = (la * a.abs() * f64::EPSILON / 2.0, lb * b.abs() * f64::EPSILON / 2.0);
+        let x = Shadow::new(a, a, xl);
+        let y = Shadow::new(b, b, yl);
+        let (xe, ye) = (rational(a) + rational(xl), rational(b) + rational(yl));
+        let tolerance = RBig::from(1) / RBig::from(dashu_int::UBig::ONE << 100); // 2^-100
+        for (out, exact, what) in [(x + y, &xe + &ye, "add"), (x - y, &xe - &ye, "sub"), (x * y, &xe * &ye, "mul"),
+                                   (x / y, &xe / &ye, "div")] {
+            let (hi, lo) = out.shadow();
+            let shadow = rational(hi) + rational(lo);
+            if exact != RBig::ZERO {
+                let relative = ((shadow - &exact) / &exact).to_f64().value().abs();
+                prop_assert!(RBig::try_from(relative).unwrap() <= tolerance, "{what}: relative error {relative:e}");
+            }
+        }
+    }
+}
+
+/// The dashu-float value of X = lo + t(hi − lo) (as in [`uncertain`]) for the elementary-function checks.
+fn big_exact(p: f64, k: i32, t: u8) -> Big {
+    let r = p.abs() * 2f64.powi(-k);
+    let e = inari::Interval::try_from((p - r, p + r)).expect("ordered");
+    let (lo, hi) = (big(e.inf()), big(e.sup()));
+    &lo + (&hi - &lo) * Big::from(t) / Big::from(4u8)
+}
+
+fn assert_encloses(bound: Bound, interval: Interval, value: &Big, what: &str) -> Result<(), TestCaseError> {
+    let (c, r) = (big(bound.primal()), big(bound.radius()));
+    prop_assert!(&c - &r <= *value && *value <= &c + &r, "{what}: bound {bound} misses {}", value.to_f64().value());
+    let e = interval.enclosure();
+    prop_assert!(
+        big(e.inf()) <= *value && *value <= big(e.sup()),
+        "{what}: interval {interval} misses {}",
+        value.to_f64().value()
+    );
+    Ok(())
+}
+
+/// The 256-bit dashu-float value of a function at X.
+fn oracle(x: &Big, f: fn(&Big) -> Big) -> Big {
+    f(&x.clone().with_precision(256).value())
+}
+
+macro_rules! check_function {
+    ($p:expr, $k:expr, $t:expr, $name:ident) => {{
+        let x = uncertain($p, $k, $t);
+        let value = oracle(&big_exact($p, $k, $t), Big::$name);
+        assert_encloses(x.bound.$name(), x.interval.$name(), &value, stringify!($name))?;
+        let point = oracle(&big($p), Big::$name);
+        assert_encloses(Bound::from_f64($p).$name(), Interval::from_f64($p).$name(), &point, stringify!($name))?;
+    }};
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(128))]
+
+    #[test]
+    fn exp_encloses(p in -50.0f64..50.0, k in 10i32..60, t in position()) {
+        check_function!(p, k, t, exp);
+    }
+
+    #[test]
+    fn ln_encloses(m in 0.5f64..1.0, e in -30i32..30, k in 10i32..60, t in position()) {
+        check_function!(m * 2f64.powi(e), k, t, ln);
+    }
+
+    #[test]
+    fn sin_cos_enclose(p in -100.0f64..100.0, k in 10i32..60, t in position()) {
+        check_function!(p, k, t, sin);
+        check_function!(p, k, t, cos);
+    }
+
+    #[test]
+    fn tanh_encloses(p in -20.0f64..20.0, k in 10i32..60, t in position()) {
+        check_function!(p, k, t, tanh);
+    }
+}
