@@ -342,3 +342,42 @@ impl<'ast> Visit<'ast> for Rejecter<'_> {
         visit::visit_item_impl(self, item);
     }
 }
+
+#[cfg(test)]
+mod tests {
+    //! What the rejecter must leave alone: names and calls that only look like rejected constructs. A false
+    //! rejection would be a compile error on valid code, so each of these kernels must expand.
+
+    fn expands(kernel: &str) -> Result<String, String> {
+        crate::expand_source(kernel, None).map_err(|errors| format!("{errors:?}"))
+    }
+
+    #[test]
+    fn ordinary_names_that_share_a_prefix_with_simd_names_are_accepted() {
+        let kernel = "#[twinstep::audit]\nfn f(u: &mut [f64], __max: usize, f64xs: usize, _mmx: usize) { \
+                      u[__max + f64xs + _mmx] *= 2.0; }";
+        assert!(expands(kernel).is_ok(), "{:?}", expands(kernel));
+    }
+
+    #[test]
+    fn byte_conversions_of_integers_are_accepted() {
+        let kernel = "#[twinstep::audit]\nfn f(u: &mut [f64], seed: u64) { \
+                      let b = seed.to_le_bytes(); let s = u64::from_le_bytes(b); u[0] *= s as f64; }";
+        assert!(expands(kernel).is_ok(), "{:?}", expands(kernel));
+    }
+
+    #[test]
+    fn byte_conversions_of_visible_floats_are_rejected() {
+        let kernel = "#[twinstep::audit]\nfn f(u: &mut [f64]) { let b = (u[0] as f64).to_le_bytes(); \
+                      let c = f64::to_be_bytes(u[1]); u[0] = b[0] as f64 + c[0] as f64; }";
+        let errors = expands(kernel).expect_err("both conversions are rejected");
+        assert_eq!(errors.matches("to_le_bytes").count() + errors.matches("to_be_bytes").count(), 2, "{errors}");
+    }
+
+    #[test]
+    fn pointers_from_slices_without_casts_are_accepted() {
+        // `as_ptr` keeps the element type, so the twin's pointer is a pointer to the twin's values.
+        let kernel = "#[twinstep::audit]\nfn f(u: &mut [f64]) { let p = u.as_ptr(); u[1] = unsafe { *p.add(0) }; }";
+        assert!(expands(kernel).is_ok(), "{:?}", expands(kernel));
+    }
+}
