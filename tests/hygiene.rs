@@ -50,6 +50,9 @@ mod shadows {
 mod relax {
     #[allow(unused_imports)]
     use super::shadows::{to_usize, Add, Real, Scalar, Vec};
+    /// The legacy module `std::f64` in scope, as older codes import it for `f64::consts`: the name `f64` then
+    /// means a module in paths, and generated code must still find the primitive type.
+    use ::std::f64;
 
     /// Modules named like the standard library's: `core::…` and `std::…` in generated code would be ambiguous.
     pub mod core {
@@ -67,7 +70,8 @@ mod relax {
         out[n - 1] = u[n - 1];
         for i in 1..n - 1 {
             let average: Scalar = 0.5 * (u[i - 1] + u[i + 1]);
-            out[i] = (1.0 - weight) * u[i] + weight * average;
+            let phase = f64::consts::FRAC_PI_4.sin();
+            out[i] = (1.0 - weight) * u[i] + weight * average * phase;
         }
         let bucket = (out[n / 2] * 4.0) as usize;
         bucket + shape.add_cells(to_usize(tags.len() as u32))
