@@ -221,6 +221,8 @@ impl Recorder {
             self.write_steps(records)?;
         } else if every || on_log_grid || self.after_event > 0 {
             self.after_event = self.after_event.saturating_sub(1);
+            // Context older than a written step would come out of order: it is not context any more.
+            self.pending.clear();
             self.write_steps(records)?;
         } else {
             if self.pending.len() == EVENT_CONTEXT {
@@ -288,8 +290,7 @@ reproduce the original kernel, so its error figures describe another computation
         for (lens, s) in steps.iter().enumerate().filter(|(l, _)| guaranteed[*l]) {
             for (index, m) in s.fields.iter().enumerate() {
                 let (Some(bound), Some(bound_ratio)) = (m.bound, m.bound_tol_ratio) else { continue };
-                let useless = bound_ratio > 1.0 || (bound > 0.0 && bound >= m.max_abs);
-                if !useless || self.tracks[lens][index].bound_lost {
+                if self.tracks[lens][index].bound_lost {
                     continue;
                 }
                 // The estimate: the largest among lenses without a guarantee, else this lens's own.
@@ -301,7 +302,11 @@ reproduce the original kernel, so its error figures describe another computation
                     .collect();
                 let (estimate_lens, estimate) =
                     estimates.iter().copied().max_by(|a, b| a.1.max_err.total_cmp(&b.1.max_err)).unwrap_or((lens, m));
-                if estimate.tol_ratio > 1.0 {
+                // Lost: the bound exceeds the tolerance while the estimate does not, or the bound allows no correct
+                // digit (≥ |u|) while the estimate still gives one (< |u|/2).
+                let past_tolerance = bound_ratio > 1.0 && estimate.tol_ratio <= 1.0;
+                let no_digit = bound > 0.0 && bound >= m.max_abs && estimate.max_err < 0.5 * m.max_abs;
+                if !(past_tolerance || no_digit) {
                     continue;
                 }
                 self.tracks[lens][index].bound_lost = true;

@@ -33,3 +33,5 @@ pub fn scratch(test: &str) -> std::path::PathBuf {
     std::fs::create_dir_all(&dir).expect("scratch directory");
     dir
 }
+
+pub mod kernels;

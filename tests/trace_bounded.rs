@@ -1,0 +1,43 @@
+//! A 10⁶-step audit of a one-cell kernel writes a trace of bounded size under the `auto` policy: log-spaced steps
+//! (about 20 per decade), steps around events, thinned repeats of an event, and the last step.
+
+mod audit_support;
+
+use audit_support::kernels::Fold;
+use audit_support::scratch;
+use twinstep::audit::{Audit, Tolerance};
+use twinstep::lens::Shadow;
+use twinstep::trace;
+
+const STEPS: u64 = 1_000_000;
+
+#[test]
+fn a_million_steps_write_a_few_hundred_lines() {
+    let path = scratch("trace_bounded").join("fold.jsonl");
+    let written = Audit::new(&Fold, Tolerance::absolute(1e-3).unwrap(), STEPS)
+        .kernel("fold_step")
+        .trace(&path)
+        .lens::<Shadow>()
+        .run()
+        .unwrap();
+    let lines = std::fs::read_to_string(&path).unwrap().lines().count();
+    // 20 per decade over six decades is 120 steps; events add their context and repeats at powers of two
+    // (log2(10⁶) ≈ 20 per site). 400 lines leaves room for both while being far below one line per step.
+    assert!(lines <= 400, "{lines} lines for {STEPS} steps");
+    let read = trace::read(&path).unwrap();
+    assert_eq!(read, written);
+    assert_eq!(read.steps.first().map(|s| s.step), Some(0));
+    assert_eq!(read.steps.last().map(|s| s.step), Some(STEPS));
+    // The fold branches on a rounding residue every other step from step 10 on (see the kernel), so the summary
+    // counts about half a million instabilities that the records only sample.
+    let summary = read.summary.unwrap();
+    let total: u64 = summary.event_totals.iter().map(|t| t.steps).sum();
+    assert!(total > 400_000, "{total} event steps counted");
+    assert!(read.events.len() < 64, "{} event records", read.events.len());
+    // Log spacing: every decade from 10 to 10⁶ holds recorded steps, none holds more than 40.
+    for decade in 1..6 {
+        let (lo, hi) = (10u64.pow(decade), 10u64.pow(decade + 1));
+        let in_decade = read.steps.iter().filter(|s| (lo..hi).contains(&s.step)).count();
+        assert!((10..=40).contains(&in_decade), "decade {lo}..{hi}: {in_decade} steps");
+    }
+}

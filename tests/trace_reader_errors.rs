@@ -1,0 +1,88 @@
+//! The reader turns every malformed trace into a clear error (never a panic) and reads a cut-short trace as an
+//! incomplete run, as `docs/trace.md` requires.
+
+mod audit_support;
+
+use audit_support::kernels::Fold;
+use audit_support::scratch;
+use twinstep::audit::{Audit, Tolerance};
+use twinstep::lens::Shadow;
+use twinstep::trace::{self, ReadError};
+
+fn good_trace() -> String {
+    let path = scratch("trace_reader_errors").join("fold.jsonl");
+    Audit::new(&Fold, Tolerance::absolute(1e-3).unwrap(), 12).trace(&path).lens::<Shadow>().run().unwrap();
+    std::fs::read_to_string(path).unwrap()
+}
+
+#[test]
+fn malformed_traces_are_errors() {
+    let good = good_trace();
+    let lines: Vec<&str> = good.lines().collect();
+    let join = |ls: &[&str]| ls.iter().map(|l| format!("{l}\n")).collect::<String>();
+    let header = lines[0];
+
+    assert!(matches!(trace::parse(""), Err(ReadError::Empty)));
+    assert!(matches!(trace::parse("\n\n"), Err(ReadError::Empty)));
+    assert!(matches!(trace::parse("{}\n"), Err(ReadError::NotATrace { .. })));
+    assert!(matches!(trace::parse("not json at all\n"), Err(ReadError::NotATrace { .. })));
+    let other_format = header.replace("twinstep-trace", "something-else");
+    assert!(matches!(trace::parse(&join(&[&other_format])), Err(ReadError::NotATrace { .. })));
+    let version_two = header.replace("\"version\":1", "\"version\":2");
+    assert_ne!(version_two, header);
+    assert!(matches!(trace::parse(&join(&[&version_two])), Err(ReadError::UnknownVersion { version: 2 })));
+    // A step record first.
+    assert!(matches!(trace::parse(&join(&lines[1..])), Err(ReadError::NotATrace { .. })));
+    // Garbage in the middle names its line.
+    let mut broken = lines.clone();
+    broken.insert(2, "{\"record\":\"step\",\"step\":");
+    assert!(matches!(trace::parse(&join(&broken)), Err(ReadError::Malformed { line: 3, .. })));
+    // An unknown record kind is an error (unknown members are not).
+    let mut unknown = lines.clone();
+    unknown.insert(1, "{\"record\":\"mystery\",\"step\":0}");
+    assert!(matches!(trace::parse(&join(&unknown)), Err(ReadError::Malformed { line: 2, .. })));
+    let extra_member = header.replacen('{', "{\"future_member\":[1,2,3],", 1);
+    assert!(trace::parse(&join(&[&extra_member])).is_ok());
+    // Nothing after the summary, no second header, no steps going backwards.
+    let mut after = lines.clone();
+    after.push(lines[1]);
+    assert!(matches!(trace::parse(&join(&after)), Err(ReadError::OutOfOrder { .. })));
+    let mut twice = lines.clone();
+    twice.insert(1, header);
+    assert!(matches!(trace::parse(&join(&twice)), Err(ReadError::OutOfOrder { line: 2, .. })));
+    let mut backwards = lines[..lines.len() - 1].to_vec();
+    backwards.push(lines[1]);
+    assert!(matches!(trace::parse(&join(&backwards)), Err(ReadError::OutOfOrder { .. })));
+    // A missing file.
+    let missing = scratch("trace_reader_missing").join("nothing-here.jsonl");
+    assert!(matches!(trace::read(&missing), Err(ReadError::Io { .. })));
+    // Every error has a message for a person.
+    assert!(!ReadError::Empty.to_string().is_empty());
+}
+
+#[test]
+fn a_prefix_reads_as_an_incomplete_run() {
+    let good = good_trace();
+    assert!(trace::parse(&good).unwrap().is_complete());
+    // Cut at every byte short of the summary's newline (without it the summary is still whole JSON): the reader
+    // either reads an incomplete run or reports an error, and never panics.
+    let last_cut = good.len() - 1;
+    let mut incomplete = 0;
+    for cut in (0..last_cut).filter(|&c| good.is_char_boundary(c)) {
+        match trace::parse(&good[..cut]) {
+            Ok(t) => {
+                assert!(!t.is_complete(), "cut at {cut} read as complete");
+                incomplete += 1;
+            }
+            Err(e) => assert!(!e.to_string().is_empty()),
+        }
+    }
+    // Every cut from the end of the header's JSON on is a readable prefix.
+    let header_end = good.find('\n').unwrap() + 1;
+    let readable = (header_end - 1..last_cut).filter(|&c| good.is_char_boundary(c)).count();
+    assert_eq!(incomplete, readable);
+    // A cut in the middle of a line: that line is skipped and flagged.
+    let second_line_end = header_end + good[header_end..].find('\n').unwrap() + 1;
+    let t = trace::parse(&good[..second_line_end + 10]).unwrap();
+    assert!(t.truncated_tail && t.summary.is_none() && t.steps.len() == 1);
+}
