@@ -39,8 +39,8 @@ fn parse_float(input: ParseStream) -> syn::Result<BaseFloat> {
         Err(with_hint(
             "unsupported float type",
             lookahead.error(),
-            "twinstep twins kernels written in `f64` or `f32`; lower precisions are audited by running such a \
-             kernel's twin with an emulating lens",
+            "name the type the kernel is written in: `#[twinstep::audit]` for `f64`, \
+             `#[twinstep::audit(float = f32)]` for `f32`",
         ))
     }
 }
