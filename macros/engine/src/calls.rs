@@ -3,22 +3,26 @@
 //! Before (an annotated `impl` block): `self.flux(a, b)`, `Self::limiter(r)`
 //! After:  `self.flux_twin(a, b)`, `Self::limiter_twin(r)`
 //!
+//! Before (an annotated free function `fn relax(…)` calling itself): `relax(u, depth - 1)`
+//! After:  `relax_twin(u, depth - 1)`
+//!
 //! Inside an annotated module the twins keep their names (they live in the twin module), so only free functions
-//! and `impl` blocks need this pass: a call from one twinned item to another goes to the twin.
+//! and `impl` blocks need this pass: a call from one twinned item to another goes to the twin. Method renames
+//! apply to calls through `self` and `Self` only, function renames to plain calls only: in an `impl` block a plain
+//! call `flux(a, b)` names a free function, not the method of that name.
 
 use crate::context::Ctx;
 use syn::visit_mut::{self, VisitMut};
 use syn::{Expr, ExprMethodCall};
 
-/// Renames calls according to [`Ctx::renames`].
+/// Renames calls according to [`Ctx::renames`] and [`Ctx::method_renames`].
 pub struct CallRetargeter<'a> {
     pub ctx: &'a Ctx,
 }
 
-impl CallRetargeter<'_> {
-    fn renamed(&self, ident: &syn::Ident) -> Option<syn::Ident> {
-        self.ctx.renames.get(&ident.to_string()).map(|new| syn::Ident::new(new, ident.span()))
-    }
+/// The new name of `ident` in `renames`, spanned at the call.
+fn renamed(renames: &std::collections::BTreeMap<String, String>, ident: &syn::Ident) -> Option<syn::Ident> {
+    renames.get(&ident.to_string()).map(|new| syn::Ident::new(new, ident.span()))
 }
 
 impl VisitMut for CallRetargeter<'_> {
@@ -29,9 +33,10 @@ impl VisitMut for CallRetargeter<'_> {
                 let segments = &mut p.path.segments;
                 let plain = segments.len() == 1 && p.qself.is_none();
                 let through_self = segments.len() == 2 && segments[0].ident == "Self";
+                let renames = if plain { &self.ctx.renames } else { &self.ctx.method_renames };
                 if plain || through_self {
                     if let Some(last) = segments.last_mut() {
-                        if let Some(new) = self.renamed(&last.ident) {
+                        if let Some(new) = renamed(renames, &last.ident) {
                             last.ident = new;
                         }
                     }
@@ -44,7 +49,7 @@ impl VisitMut for CallRetargeter<'_> {
         visit_mut::visit_expr_method_call_mut(self, call);
         let on_self = matches!(&*call.receiver, Expr::Path(p) if p.path.is_ident("self"));
         if on_self {
-            if let Some(new) = self.renamed(&call.method) {
+            if let Some(new) = renamed(&self.ctx.method_renames, &call.method) {
                 call.method = new;
             }
         }

@@ -49,8 +49,10 @@ pub struct Ctx {
     pub const_imports: BTreeMap<String, String>,
     /// Names of modules that stand for `std::f64::consts` (`use std::f64::consts;` or `use ... as c;`).
     pub const_modules: BTreeSet<String>,
-    /// Functions or methods whose calls go to a twin of another name.
+    /// Free functions whose plain calls (`heat(u)`) go to a twin of another name.
     pub renames: BTreeMap<String, String>,
+    /// Methods whose calls through `self.` or `Self::` go to a twin of another name.
+    pub method_renames: BTreeMap<String, String>,
 }
 
 impl Ctx {
@@ -67,6 +69,7 @@ impl Ctx {
             const_imports: BTreeMap::new(),
             const_modules: BTreeSet::new(),
             renames: BTreeMap::new(),
+            method_renames: BTreeMap::new(),
         }
     }
 

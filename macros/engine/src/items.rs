@@ -20,7 +20,7 @@ use crate::pipeline;
 use crate::reject::Rejecter;
 use proc_macro2::{Span, TokenStream, TokenTree};
 use quote::{format_ident, ToTokens};
-use std::collections::BTreeSet;
+use std::collections::{BTreeSet, VecDeque};
 use syn::visit::Visit;
 use syn::visit_mut::VisitMut;
 use syn::{Attribute, Generics, ImplItem, Item, ItemFn, ItemImpl, ItemMod, Stmt};
@@ -109,9 +109,41 @@ fn twin_attributes(original: &[Attribute]) -> Vec<Attribute> {
     attrs
 }
 
-/// Gives nested function items of a rewritten body their own type parameter: an item cannot use the outer one.
+/// The nested function items of an original body whose signature has no float, in the order a walk meets them.
+///
+/// They are copied unchanged into the twin: a type parameter that appears in no parameter could not be inferred
+/// at their call sites, so a float literal in their body (`(n as f64 * 1.5) as usize`) must stay a plain `f64`.
+struct PlainNestedFns<'a> {
+    ctx: &'a Ctx,
+    found: VecDeque<ItemFn>,
+}
+
+impl<'ast> Visit<'ast> for PlainNestedFns<'_> {
+    fn visit_stmt(&mut self, stmt: &'ast Stmt) {
+        if let Stmt::Item(Item::Fn(f)) = stmt {
+            if !mentions_float(self.ctx, &f.sig) {
+                self.found.push_back(f.clone());
+                return;
+            }
+        }
+        syn::visit::visit_stmt(self, stmt);
+    }
+}
+
+/// Gives nested function items of a rewritten body their own type parameter (an item cannot use the outer one),
+/// and puts back the original of those without a float in their signature ([`PlainNestedFns`]).
 struct NestedFns<'a> {
     ctx: &'a Ctx,
+    plain: VecDeque<ItemFn>,
+}
+
+impl NestedFns<'_> {
+    /// Fixes the nested functions of `block`, the rewritten form of `original`.
+    fn fix(ctx: &Ctx, original: &syn::Block, block: &mut syn::Block) {
+        let mut plain = PlainNestedFns { ctx, found: VecDeque::new() };
+        plain.visit_block(original);
+        NestedFns { ctx, plain: plain.found }.visit_block_mut(block);
+    }
 }
 
 impl VisitMut for NestedFns<'_> {
@@ -121,6 +153,12 @@ impl VisitMut for NestedFns<'_> {
             let mentions_param = f.sig.to_token_stream().into_iter().any(|t| mentions_ident(&t, &param));
             if mentions_param {
                 add_generics(self.ctx, &mut f.sig.generics);
+            } else {
+                // Both walks meet the plain functions in the same order, and neither descends into them.
+                if let Some(original) = self.plain.pop_front() {
+                    *f = original;
+                }
+                return;
             }
         }
         syn::visit_mut::visit_stmt_mut(self, stmt);
@@ -136,7 +174,7 @@ pub fn twin_fn(ctx: &Ctx, f: &ItemFn, name: syn::Ident) -> ItemFn {
     pipeline::rewrite(ctx, &mut twin.sig);
     pipeline::rewrite(ctx, &mut *twin.block);
     add_generics(ctx, &mut twin.sig.generics);
-    NestedFns { ctx }.visit_block_mut(&mut twin.block);
+    NestedFns::fix(ctx, &f.block, &mut twin.block);
     twin
 }
 
@@ -148,7 +186,7 @@ fn twin_method(ctx: &Ctx, f: &syn::ImplItemFn, name: syn::Ident) -> syn::ImplIte
     pipeline::rewrite(ctx, &mut twin.sig);
     pipeline::rewrite(ctx, &mut twin.block);
     add_generics(ctx, &mut twin.sig.generics);
-    NestedFns { ctx }.visit_block_mut(&mut twin.block);
+    NestedFns::fix(ctx, &f.block, &mut twin.block);
     twin
 }
 
@@ -226,7 +264,7 @@ fn twin_impl_block(ctx: &mut Ctx, imp: &ItemImpl) -> syn::Result<ItemImpl> {
         ));
     }
     for f in &methods {
-        ctx.renames.insert(f.sig.ident.to_string(), twin_name(&f.sig.ident).to_string());
+        ctx.method_renames.insert(f.sig.ident.to_string(), twin_name(&f.sig.ident).to_string());
     }
     let mut twin = imp.clone();
     twin.attrs = imp.attrs.iter().filter(|a| keep_attribute(a)).cloned().collect();
@@ -372,13 +410,13 @@ fn twin_module_item(ctx: &Ctx, item: &Item) -> syn::Result<Item> {
                     *path = p.path;
                 }
             }
-            for inner in twin.items.iter_mut() {
+            for (inner, original) in twin.items.iter_mut().zip(&imp.items) {
                 if let ImplItem::Fn(f) = inner {
                     f.attrs.push(syn::parse_quote!(#[allow(non_snake_case)]));
                 }
                 pipeline::rewrite(ctx, inner);
-                if let ImplItem::Fn(f) = inner {
-                    NestedFns { ctx }.visit_block_mut(&mut f.block);
+                if let (ImplItem::Fn(f), ImplItem::Fn(original)) = (inner, original) {
+                    NestedFns::fix(ctx, &original.block, &mut f.block);
                 }
             }
             add_generics(ctx, &mut twin.generics);

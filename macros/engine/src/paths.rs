@@ -1,12 +1,17 @@
 //! Pass: paths through the float type, mathematical constants, and float constants of the module.
 //!
 //! Before: `f64::max(a, b)`, `f64::EPSILON`, `std::f64::consts::PI`, `f64::from(n)`, `DT` (a module `const`)
-//! After:  `<T as ::twinstep::Real>::max(a, b)`, `<T as ::twinstep::Real>::epsilon()`,
+//! After:  `<_ as ::twinstep::Real>::max(a, b)`, `<T as ::twinstep::Real>::epsilon()`,
 //!         `<T as ::twinstep::Real>::constant(::twinstep::Constant::PI)`, `::twinstep::twin::to_real::<T, _>(n)`,
 //!         `<T as ::twinstep::Real>::lit(DT, "0.01")`
 //!
 //! Constants are held by a lens as the real numbers they name; a module constant whose initializer is a literal
 //! keeps that literal's text, any other is taken as an exact input.
+//!
+//! A function of the float type (`f64::max`, `f64::sqrt`) leaves the implementing type to the arguments, `<_ as
+//! Real>`: the rewrite cannot see whether `f64::max(self.dt, self.dt_min)` takes two values that became `T` or two
+//! plain `f64` fields of a struct that stayed as it is, and `f64` implements `Real` too. Constants have no
+//! arguments to infer from and name `T`.
 
 use crate::context::{replace_expr, BaseFloat, Ctx};
 use quote::quote_spanned;
@@ -150,7 +155,7 @@ impl VisitMut for PathRewriter<'_> {
                     replace_expr(expr, quote_spanned!(span=> #real::#function()));
                 } else if REAL_METHODS.contains(&name_str.as_str()) {
                     let name = (*name).clone();
-                    replace_expr(expr, quote_spanned!(span=> #real::#name));
+                    replace_expr(expr, quote_spanned!(span=> <_ as ::twinstep::Real>::#name));
                 } else if name_str == "from" {
                     let t = self.ctx.param_at(span);
                     replace_expr(expr, quote_spanned!(span=> ::twinstep::twin::to_real::<#t, _>));
