@@ -223,7 +223,9 @@ fn item_name(item: &TokenStream) -> Option<String> {
 }
 
 /// Runs `case` on `cases` inputs drawn from `strategy` and fails the test with the smallest failing input.
+/// `PROPTEST_CASES=200000` in the environment runs that many instead, for a longer hunt.
 fn check<S: Strategy>(cases: u32, strategy: S, case: impl Fn(S::Value) -> Result<(), TestCaseError>) {
+    let cases = std::env::var("PROPTEST_CASES").ok().and_then(|n| n.parse().ok()).unwrap_or(cases);
     let mut runner = TestRunner::new(Config { cases, failure_persistence: None, ..Config::default() });
     if let Err(failure) = runner.run(&strategy, case) {
         panic!("{failure}");
