@@ -317,8 +317,8 @@ reproduce the original kernel, so its error figures describe another computation
                 };
                 let detail = format!(
                     "bound lost: the guaranteed bound {bound:.3e} of lens {} is no longer useful ({why}), while the \
-estimate of lens {} is {:.3e}, within tolerance; the bound grows by the dependency effect of enclosure arithmetic, not \
-because the rounding error does",
+estimate of lens {} is {:.3e}, within tolerance; the gap between the two is the overestimation of enclosure arithmetic \
+(the dependency effect), not rounding error the estimate sees",
                     self.lenses[lens].name, self.lenses[estimate_lens].name, estimate.max_err
                 );
                 let mut event = self.event(lens, EventName::BoundLost, Some(index), None, 1, detail);
