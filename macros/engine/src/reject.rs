@@ -76,9 +76,7 @@ impl<'a> Rejecter<'a> {
     /// type or a cast into it.
     fn is_visibly_float(&self, expr: &Expr) -> bool {
         match expr {
-            Expr::Lit(lit) => {
-                matches!(&lit.lit, syn::Lit::Float(f) if f.suffix().is_empty() || f.suffix() == self.ctx.base.name())
-            }
+            Expr::Lit(lit) => has_float_literal(self.ctx, lit.to_token_stream()),
             Expr::Cast(cast) => self.ctx.is_float_type(&cast.ty),
             Expr::Paren(paren) => self.is_visibly_float(&paren.expr),
             _ => false,
@@ -104,8 +102,9 @@ impl<'a> Rejecter<'a> {
     /// Walks the input of a macro invocation when it is a list of expressions separated by `,` or `;`.
     ///
     /// Why chunks and not one parse: `vec![x; n]`, `assert!(a < b, "…")` and `println!("{}", x)` all split into
-    /// plain expressions at their top-level separators; chunks that are not expressions (`azip!` bindings, format
-    /// options) are skipped, since nothing rejected can hide in them that the twin would accept silently.
+    /// plain expressions at their top-level separators. Chunks that are not expressions (`azip!` bindings, a
+    /// turbofish cut at its comma) are skipped: a rejected construct there still fails to compile in the twin, only
+    /// with the compiler's less helpful message instead of ours.
     fn visit_macro_input(&mut self, tokens: &TokenStream) {
         let mut chunk = TokenStream::new();
         let trees: Vec<TokenTree> = tokens.clone().into_iter().collect();
@@ -165,13 +164,15 @@ fn is_simd_name(name: &str) -> bool {
     intel_intrinsic || intel_vector || neon_vector || portable_vector
 }
 
-/// Whether a pattern's own tokens hold a float literal (`0.5`, `-1.0`, `0.0..=1.0`).
-fn has_float_literal(tokens: TokenStream) -> bool {
+/// Whether a pattern's own tokens hold a float literal of the kernel's type (`0.5`, `-1.0`, `0.0..=1.0`); a literal
+/// of the other float type (`0.5f32` in an `f64` kernel) matches a value the twin keeps as it is.
+fn has_float_literal(ctx: &Ctx, tokens: TokenStream) -> bool {
     tokens.into_iter().any(|tree| match tree {
-        TokenTree::Literal(literal) => {
-            matches!(syn::parse2::<syn::Lit>(literal.into_token_stream()), Ok(syn::Lit::Float(_)))
-        }
-        TokenTree::Group(group) => has_float_literal(group.stream()),
+        TokenTree::Literal(literal) => match syn::parse2::<syn::Lit>(literal.into_token_stream()) {
+            Ok(syn::Lit::Float(float)) => float.suffix().is_empty() || float.suffix() == ctx.base.name(),
+            _ => false,
+        },
+        TokenTree::Group(group) => has_float_literal(ctx, group.stream()),
         _ => false,
     })
 }
@@ -289,7 +290,7 @@ impl<'ast> Visit<'ast> for Rejecter<'_> {
 
     fn visit_pat(&mut self, pat: &'ast Pat) {
         let literal_like = matches!(pat, Pat::Lit(_) | Pat::Range(_) | Pat::Verbatim(_));
-        if literal_like && has_float_literal(pat.to_token_stream()) {
+        if literal_like && has_float_literal(self.ctx, pat.to_token_stream()) {
             self.reject(
                 pat,
                 "a float literal pattern",
@@ -372,6 +373,13 @@ mod tests {
                       let c = f64::to_be_bytes(u[1]); u[0] = b[0] as f64 + c[0] as f64; }";
         let errors = expands(kernel).expect_err("both conversions are rejected");
         assert_eq!(errors.matches("to_le_bytes").count() + errors.matches("to_be_bytes").count(), 2, "{errors}");
+    }
+
+    #[test]
+    fn patterns_on_the_other_float_type_are_accepted() {
+        // The `f32` scrutinee stays `f32` in the twin of an `f64` kernel, so its literal pattern still matches.
+        let kernel = "#[twinstep::audit]\nfn f(u: &mut [f64], s: f32) { match s { 0.5f32 => u[0] = 1.0, _ => {} } }";
+        assert!(expands(kernel).is_ok(), "{:?}", expands(kernel));
     }
 
     #[test]
