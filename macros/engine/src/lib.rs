@@ -33,6 +33,9 @@ pub use options::Options;
 /// The twins of one annotated item, built with the attribute's options.
 pub fn twins_of(options: &Options, item: &syn::Item) -> syn::Result<Vec<syn::Item>> {
     let mut ctx = Ctx::new(options.base, options.aliases.iter().cloned());
+    for name in &options.calls {
+        ctx.renames.insert(name.clone(), format!("{name}_{}", items::TWIN_SUFFIX));
+    }
     items::twin_item(&mut ctx, item)
 }
 

@@ -1,5 +1,9 @@
 //! The attribute's arguments: `#[twinstep::audit]`, `#[twinstep::audit(float = f32)]`,
-//! `#[twinstep::audit(alias = Real)]`, or both, comma-separated. A bare `f32` or `f64` is short for `float = …`.
+//! `#[twinstep::audit(alias = Real)]`, `#[twinstep::audit(calls = [flux, limiter])]`, or several, comma-separated.
+//! A bare `f32` or `f64` is short for `float = …`.
+//!
+//! `calls` names free functions annotated on their own whose twins this item's twin must call: an attribute sees
+//! only its own item, so it cannot know that `flux` has a twin `flux_twin` unless told.
 
 use crate::context::BaseFloat;
 use syn::parse::{Parse, ParseStream};
@@ -8,6 +12,7 @@ use syn::{Ident, Token};
 mod kw {
     syn::custom_keyword!(float);
     syn::custom_keyword!(alias);
+    syn::custom_keyword!(calls);
     syn::custom_keyword!(f32);
     syn::custom_keyword!(f64);
 }
@@ -19,12 +24,24 @@ pub struct Options {
     pub base: BaseFloat,
     /// Names of precision aliases (`type Real = f64;`) that mean the float type.
     pub aliases: Vec<String>,
+    /// Free functions annotated on their own, whose calls in this item go to their twins (`flux` → `flux_twin`).
+    pub calls: Vec<String>,
 }
 
 impl Default for Options {
     fn default() -> Options {
-        Options { base: BaseFloat::F64, aliases: Vec::new() }
+        Options { base: BaseFloat::F64, aliases: Vec::new(), calls: Vec::new() }
     }
+}
+
+/// `calls = [name, …]`, after the keyword.
+fn parse_calls(input: ParseStream, calls: &mut Vec<String>) -> syn::Result<()> {
+    input.parse::<Token![=]>()?;
+    let names;
+    syn::bracketed!(names in input);
+    let names = syn::punctuated::Punctuated::<Ident, Token![,]>::parse_terminated(&names)?;
+    calls.extend(names.iter().map(Ident::to_string));
+    Ok(())
 }
 
 fn parse_float(input: ParseStream) -> syn::Result<BaseFloat> {
@@ -54,6 +71,17 @@ impl Parse for Options {
     fn parse(input: ParseStream) -> syn::Result<Options> {
         let mut options = Options::default();
         while !input.is_empty() {
+            // `calls` is peeked outside the lookahead so that the "expected one of …" message of a wrong argument
+            // keeps listing the options most kernels need.
+            if input.peek(kw::calls) {
+                input.parse::<kw::calls>()?;
+                parse_calls(input, &mut options.calls)?;
+                if input.is_empty() {
+                    break;
+                }
+                input.parse::<Token![,]>()?;
+                continue;
+            }
             let lookahead = input.lookahead1();
             if lookahead.peek(kw::float) {
                 input.parse::<kw::float>()?;
