@@ -73,14 +73,12 @@ fn shapes_lengths_steps_and_lenses_are_checked() {
         Audit::new(s, tol(), steps).trace(dir.join(name)).lens::<Shadow>().run().map(|_| ())
     };
     let wrong_length = faulty(&[4, 3], vec![0.0; 11]);
-    assert!(matches!(
-        run(&wrong_length, 3, "len.jsonl"),
-        Err(Error::LengthMismatch { expected: 12, got: 11, .. })
-    ));
+    assert!(matches!(run(&wrong_length, 3, "len.jsonl"), Err(Error::LengthMismatch { expected: 12, got: 11, .. })));
     assert!(matches!(run(&faulty(&[4, 0], vec![]), 3, "zero.jsonl"), Err(Error::BadShape { .. })));
     assert!(matches!(run(&faulty(&[], vec![]), 3, "rank0.jsonl"), Err(Error::BadShape { .. })));
     assert!(matches!(run(&faulty(&[usize::MAX, 4], vec![]), 3, "huge.jsonl"), Err(Error::BadShape { .. })));
-    let twice = Faulty { fields: vec![FieldSpec::new("u", &[2]), FieldSpec::new("u", &[2])], ..faulty(&[2], vec![0.0; 2]) };
+    let twice =
+        Faulty { fields: vec![FieldSpec::new("u", &[2]), FieldSpec::new("u", &[2])], ..faulty(&[2], vec![0.0; 2]) };
     assert!(matches!(run(&twice, 3, "dup.jsonl"), Err(Error::DuplicateField { .. })));
     let none = Faulty { fields: vec![], ..faulty(&[2], vec![0.0; 2]) };
     assert!(matches!(run(&none, 3, "none.jsonl"), Err(Error::NoFields)));
@@ -108,10 +106,7 @@ fn an_unwritable_trace_path_is_an_error() {
     assert!(error.to_string().contains("cannot create trace"));
     assert!(std::error::Error::source(&error).is_some());
     // A directory is not a file either.
-    assert!(matches!(
-        Audit::new(&Fold, tol(), 5).trace(&dir).lens::<Shadow>().run(),
-        Err(Error::TraceCreate { .. })
-    ));
+    assert!(matches!(Audit::new(&Fold, tol(), 5).trace(&dir).lens::<Shadow>().run(), Err(Error::TraceCreate { .. })));
 }
 
 #[test]

@@ -116,10 +116,8 @@ impl<'s, S: Scenario> Audit<'s, S> {
     /// [`Audit::trace`] says otherwise.
     pub fn new(scenario: &'s S, tolerance: Tolerance, steps: u64) -> Audit<'s, S> {
         // `twinstep run` tells a harness where its trace goes through this variable (see the CLI's run command).
-        let trace = std::env::var_os("TWINSTEP_TRACE").map_or_else(
-            || std::env::temp_dir().join(format!("twinstep-{}.jsonl", std::process::id())),
-            PathBuf::from,
-        );
+        let trace = std::env::var_os("TWINSTEP_TRACE")
+            .map_or_else(|| std::env::temp_dir().join(format!("twinstep-{}.jsonl", std::process::id())), PathBuf::from);
         Audit { scenario, plan: Plan::new("kernel", scenario.fields(), tolerance, steps, trace), lenses: Vec::new() }
     }
 
