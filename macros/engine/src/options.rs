@@ -98,7 +98,8 @@ impl Parse for Options {
                 return Err(with_hint(
                     "unknown `#[twinstep::audit]` argument",
                     lookahead.error(),
-                    "write `#[twinstep::audit]`, `#[twinstep::audit(float = f32)]` or `#[twinstep::audit(alias = Real)]`",
+                    "write `#[twinstep::audit]`, `#[twinstep::audit(float = f32)]` or \
+                     `#[twinstep::audit(alias = Real)]`",
                 ));
             }
             if input.is_empty() {

@@ -8,6 +8,23 @@
 //! the walk goes on, so the user sees every problem of the item in one build. The caller emits the original item
 //! unchanged beside the errors, so that a rejected construct does not cascade into errors elsewhere.
 //!
+//! | rejected construct | example | compile-fail case |
+//! |---|---|---|
+//! | pointer cast | `&x as *const u64` | `pointer_cast_of_float` |
+//! | reinterpretation | `transmute::<f64, u64>(x)`, `bytemuck::cast(x)` | `transmute_of_float` |
+//! | a union holding the float | `union Packed { value: f64, bits: u64 }` | `union_with_float` |
+//! | storage access | `x.to_bits()` | `to_bits_method` |
+//! | storage access, path forms | `f64::from_bits(b)`, `<f64>::from_bits(b)`, `f64::to_le_bytes(x)` | `bits_path_forms` |
+//! | inline assembly | `asm!(…)` | `inline_asm` |
+//! | SIMD | `_mm256_add_pd`, `__m256d`, `std::simd::f64x4` | `simd_intrinsics` |
+//! | float patterns | `0.0 =>`, `0.5..=1.0 =>`, `f64::INFINITY =>` | `float_literal_pattern` |
+//! | float on the left of an operator impl | `impl Mul<Vec2> for f64` | `operator_impl_with_float_on_left` |
+//! | cast to the other float | `x as f32` in an `f64` kernel | `cast_to_other_float` |
+//! | the attribute on another item | `#[twinstep::audit] struct Grid` | `attribute_on_struct` |
+//!
+//! (`items` rejects a trait impl annotated alone and a signature without the float type; `options` rejects
+//! malformed attribute arguments. The cases live in the root crate's `tests/compile_fail/`.)
+//!
 //! The walk also looks into macro invocations whose input parses as expressions (`println!("{}", x.to_bits())`),
 //! because the token pass rewrites those too and a rejected construct there would otherwise surface as a
 //! confusing type error in the twin.
