@@ -1,0 +1,179 @@
+//! The driver's shapes and time levels beyond the two-level 1-D case: an in-place 2-D field (multi-index of the
+//! worst cell), a multi-stage Runge–Kutta step with scratch levels, and the low-level recorder in a user's own
+//! loop. Expected values come from exact rational arithmetic (dashu-ratio) and closed forms.
+
+mod audit_support;
+
+use std::any::Any;
+use std::sync::Mutex;
+
+use audit_support::kernels::{fold_step_twin, Fold};
+use audit_support::{rational, rational_to_f64, scratch};
+use dashu_ratio::RBig;
+use twinstep::audit::{Audit, Error, Field, FieldSpec, Levels, Plan, Recorder, Scenario, Scheme, Tolerance};
+use twinstep::lens::{Bound, Lens, Shadow};
+use twinstep::trace::EventName;
+use twinstep::{BaseOps, MixedOps, Real, RefOps};
+
+/// Scales one cell of a grid by a tenth and every other cell by a half, in place.
+#[twinstep::audit]
+fn scale_grid(u: &mut [f64], special: usize) {
+    for (k, v) in u.iter_mut().enumerate() {
+        if k == special {
+            *v = *v * 0.1;
+        } else {
+            *v = *v * 0.5;
+        }
+    }
+}
+
+struct Grid;
+
+impl Scenario for Grid {
+    fn fields(&self) -> Vec<FieldSpec> {
+        vec![FieldSpec::new("g", &[3, 4])]
+    }
+
+    fn scheme(&self) -> Scheme {
+        Scheme::InPlace
+    }
+
+    fn init<T>(&self, levels: &mut Levels<T>) -> Result<(), Error>
+    where
+        T: Real + BaseOps<f64>,
+        f64: MixedOps<T>,
+        for<'a> &'a T: RefOps<T>,
+    {
+        levels.current[0].set_f64(&[1.0; 12])
+    }
+
+    fn step<T>(&self, levels: &mut Levels<T>)
+    where
+        T: Real + BaseOps<f64>,
+        f64: MixedOps<T>,
+        for<'a> &'a T: RefOps<T>,
+    {
+        // Row-major: cell (2, 1) of a 3 × 4 grid is flat index 2·4 + 1 = 9.
+        scale_grid_twin::<T>(&mut levels.current[0], 9);
+    }
+}
+
+#[test]
+fn in_place_2d_field_reports_the_worst_multi_index() {
+    let trace = Audit::new(&Grid, Tolerance::absolute(1.0).unwrap(), 3)
+        .trace(scratch("audit_levels_grid").join("g.jsonl"))
+        .every_step()
+        .lens::<Shadow>()
+        .run()
+        .unwrap();
+    let first = trace.steps.iter().find(|s| s.step == 1).unwrap();
+    assert_eq!(first.fields[0].worst_cell, vec![2, 1]);
+    // After one step the error is |fl(0.1) − 1/10|: the double nearest a tenth against the tenth as written
+    // (IEEE 754-2019 round to nearest; the difference computed exactly with dashu-ratio).
+    let tenth_error = rational_to_f64(&(rational(0.1) - RBig::from(1u8) / RBig::from(10u8)));
+    let recorded = first.fields[0].max_err;
+    assert!((recorded - tenth_error.abs()).abs() <= 1e-10 * tenth_error.abs(), "{recorded:e} vs {tenth_error:e}");
+    // Halving is exact in binary (IEEE 754-2019 §4.3: a power-of-two scale of a normal double is exact), so the
+    // other eleven cells stay error-free and the mean is a twelfth of the maximum.
+    assert!((first.fields[0].mean_err - recorded / 12.0).abs() <= 1e-15 * recorded);
+}
+
+/// Heun's method (RK2) for u' = −u with step h: `k1 = −u`, `u* = u + h k1`, `k2 = −u*`, `u⁺ = u + h/2 (k1 + k2)`.
+#[twinstep::audit]
+fn heun_stage(u: &[f64], stage: &mut [f64], h: f64) {
+    stage[0] = u[0] - h * u[0];
+}
+
+#[twinstep::audit]
+fn heun_finish(u: &[f64], stage: &[f64], out: &mut [f64], h: f64) {
+    out[0] = u[0] + 0.5 * h * (-u[0] - stage[0]);
+}
+
+/// The decay u' = −u with h = 0.3, one scratch stage; keeps each lens's cells for comparison.
+struct Decay {
+    seen: Mutex<Vec<(u64, f64, f64)>>,
+}
+
+impl Scenario for Decay {
+    fn fields(&self) -> Vec<FieldSpec> {
+        vec![FieldSpec::new("u", &[1])]
+    }
+
+    fn stages(&self) -> usize {
+        1
+    }
+
+    fn init<T>(&self, levels: &mut Levels<T>) -> Result<(), Error>
+    where
+        T: Real + BaseOps<f64>,
+        f64: MixedOps<T>,
+        for<'a> &'a T: RefOps<T>,
+    {
+        levels.current[0].set_f64(&[1.0])
+    }
+
+    fn step<T>(&self, levels: &mut Levels<T>)
+    where
+        T: Real + BaseOps<f64>,
+        f64: MixedOps<T>,
+        for<'a> &'a T: RefOps<T>,
+    {
+        let h = T::from_f64(0.3);
+        heun_stage_twin::<T>(&levels.current[0], &mut levels.stages[0][0], h);
+        heun_finish_twin::<T>(&levels.current[0], &levels.stages[0][0], &mut levels.next[0], h);
+        if let Some(shadow) = (&levels.next[0] as &dyn Any).downcast_ref::<Field<Shadow>>() {
+            let cell = shadow[0];
+            self.seen.lock().unwrap().push((levels.step + 1, cell.primal(), cell.error_estimate()));
+        }
+    }
+}
+
+#[test]
+fn runge_kutta_stages_match_the_exact_amplification_factor() {
+    let decay = Decay { seen: Mutex::new(Vec::new()) };
+    let trace = Audit::new(&decay, Tolerance::relative(1e-12).unwrap(), 60)
+        .trace(scratch("audit_levels_rk").join("rk.jsonl"))
+        .lens::<Shadow>()
+        .run()
+        .unwrap();
+    assert!(trace.is_complete());
+    // Heun's method on u' = −u multiplies by g = 1 − h + h²/2 per step (closed form of an explicit RK2 on a
+    // linear ODE, common practice, no source); the step size is the double nearest 0.3, taken as exact.
+    let h = rational(0.3);
+    let g = RBig::from(1u8) - &h + &h * &h / RBig::from(2u8);
+    let mut exact = RBig::from(1u8);
+    let seen = decay.seen.lock().unwrap();
+    assert_eq!(seen.len(), 60);
+    let mut nonzero = 0;
+    for &(step, primal, estimate) in seen.iter() {
+        exact = &exact * &g;
+        assert!(step > 0);
+        let truth = rational_to_f64(&(rational(primal) - &exact)).abs();
+        if truth > 0.0 {
+            nonzero += 1;
+            assert!((estimate - truth).abs() <= 1e-10 * truth, "step {step}: {estimate:e} vs {truth:e}");
+        }
+    }
+    assert!(nonzero > 40);
+}
+
+#[test]
+fn recorder_in_a_users_own_loop() {
+    let path = scratch("audit_levels_recorder").join("fold.jsonl");
+    let plan = Plan::new("fold_step", Fold.fields(), Tolerance::absolute(1e-3).unwrap(), 30, path.clone());
+    let mut recorder = Recorder::create::<Bound>(&plan).unwrap();
+    let mut u = vec![Bound::from_f64(1.0)];
+    recorder.record_step(0, &[&u]).unwrap();
+    for step in 1..=30 {
+        u[0] = fold_step_twin::<Bound>(u[0]);
+        recorder.record_step(step, &[&u]).unwrap();
+    }
+    let trace = recorder.finish().unwrap();
+    assert_eq!(trace, twinstep::trace::read(&path).unwrap());
+    // 1 − 10 × (1/10) = 0 exactly (arithmetic), while ten subtractions of the double 0.1 leave a residue: the
+    // fold's comparison first becomes undecidable at step 10.
+    let first = trace.events.iter().find(|e| e.kind == EventName::BranchInstability).unwrap();
+    assert_eq!(first.step, 10);
+    assert!(first.site.as_ref().unwrap().file.ends_with("kernels.rs"));
+    assert_eq!(trace.steps.last().unwrap().step, 30);
+}
