@@ -9,9 +9,9 @@
 //! Facts used (IEEE 754-2019 round-to-nearest; u = 2^-53, η = 2^-1074; Higham, "Accuracy and Stability of
 //! Numerical Algorithms", 2nd ed., §2.2, from memory):
 //! - rounding: `|fl(a∘b) − a∘b| ≤ u·|fl(a∘b)| + η/2` (the η term only for × and ÷ in the subnormal range);
-//! - a sum or product of k non-negative doubles evaluated in round-to-nearest is at least `(1 − u)^k` times its
-//!   exact value, so `fl(fl(v)·(1 + 2^-49)) + 8η` bounds the exact value from above for k ≤ 14 operations — the
-//!   [`inflate`] step applied once at the end of each radius formula (each formula has ≤ 8 operations).
+//! - a formula of k operations on non-negative doubles evaluated in round-to-nearest is at least `(1 − u)^k`
+//!   times its exact value (less k·η/2 for subnormal products), so one multiplication by `1 + 16u` plus 8η
+//!   at the end makes it an upper bound for k ≤ 10 — [`radius_of`], applied once per operation.
 //!
 //! The hot operations are branch-free straight-line code (selects at most), so loops over `Bound` vectorize.
 //! Elementary functions go through [`super::elementary`] (libm plus a documented allowance).
@@ -26,15 +26,25 @@ use crate::lens::Lens;
 const U: f64 = f64::EPSILON / 2.0;
 /// The smallest positive subnormal, η = 2^-1074.
 const ETA: f64 = f64::from_bits(1);
-/// 1 + 2^-49 = 1 + 16u: with the final rounding, covers up to 14 roundings of a non-negative radius formula.
+/// 1 + 2^-49 = 1 + 16u: covers up to 14 roundings (each at most a factor 1 − u) of a non-negative formula.
 const INFLATION: f64 = 1.0 + 16.0 * U;
 
-/// The radius formula's value `v ≥ 0`, computed in round-to-nearest with at most 14 operations, made an upper
-/// bound of its exact value: `fl(fl(v·(1 + 16u)) + 8η)`.
+/// The radius of a result `c` rounded to nearest whose exact counterpart lies within `propagated` of the exact
+/// operation on the primals: an upper bound of `u·|c| + η/2 + propagated`, where `propagated` is a formula of
+/// non-negative terms evaluated in round-to-nearest with at most 10 roundings (and at most 10 subnormal
+/// products, each off by ≤ η/2). Two FMAs, one rounding each:
+/// `fl(2u·|c| + fl(propagated·(1 + 16u) + τ))` ≥ `(1 − u)²·(2u|c| + (1 − u)^10 (1 + 16u)·exact + τ)` ≥
+/// `u|c| + exact + 5η`, with τ = [`FLOOR`] ≥ 8η.
 #[inline(always)]
-fn inflate(v: f64) -> f64 {
-    v * INFLATION + 8.0 * ETA
+fn radius_of(c: f64, propagated: f64) -> f64 {
+    c.abs().mul_add(2.0 * U, propagated.mul_add(INFLATION, FLOOR))
 }
+
+/// The absolute term of every radius, 2^-1019: a *normal* number, far above the 8η the subnormal roundings need,
+/// so that radii never become subnormal — subnormal operands cost a microcode assist of about a hundred cycles
+/// per operation on x86 (measured in `benches/lenses.rs`: 30× slower with 8η). Its size, 2·10^-307, is far below
+/// any radius a report shows.
+const FLOOR: f64 = 8.0 * f64::MIN_POSITIVE;
 
 /// A value with a guaranteed error radius: the exact result of the same computation in real arithmetic lies in
 /// `[primal − radius, primal + radius]`.
@@ -96,7 +106,7 @@ impl Core for Bound {
     fn with_reference(value: f64, reference: &Reference) -> Bound {
         // |value − x| ≤ |value − hi| + |lo| + |x − hi − lo|
         let radius = (value - reference.hi).abs() + reference.lo.abs() + reference.err;
-        Bound { primal: value, radius: if radius == 0.0 { 0.0 } else { inflate(radius) } }
+        Bound { primal: value, radius: if radius == 0.0 { 0.0 } else { radius_of(0.0, radius) } }
     }
 
     #[inline(always)]
@@ -117,22 +127,22 @@ impl Core for Bound {
     fn add(self, rhs: Bound) -> Bound {
         let c = self.primal + rhs.primal;
         // |c − (X + Y)| ≤ u|c| + r + s  (addition is exact in the subnormal range, no η)
-        Bound { primal: c, radius: inflate(U * c.abs() + (self.radius + rhs.radius)) }
+        Bound { primal: c, radius: radius_of(c, self.radius + rhs.radius) }
     }
 
     #[inline(always)]
     fn sub(self, rhs: Bound) -> Bound {
         let c = self.primal - rhs.primal;
         // |c − (X − Y)| ≤ u|c| + r + s
-        Bound { primal: c, radius: inflate(U * c.abs() + (self.radius + rhs.radius)) }
+        Bound { primal: c, radius: radius_of(c, self.radius + rhs.radius) }
     }
 
     #[inline(always)]
     fn mul(self, rhs: Bound) -> Bound {
         let (x, r, y, s) = (self.primal, self.radius, rhs.primal, rhs.radius);
         let c = x * y;
-        // |XY − xy| ≤ |x|s + r(|y| + s);  |c − xy| ≤ u|c| + η/2 (η inside `inflate`)
-        Bound { primal: c, radius: inflate(U * c.abs() + (x.abs() * s + r * (y.abs() + s))) }
+        // |XY − xy| ≤ |x|s + r(|y| + s);  |c − xy| ≤ u|c| + η/2 (η inside `radius_of`)
+        Bound { primal: c, radius: radius_of(c, x.abs().mul_add(s, r * (y.abs() + s))) }
     }
 
     #[inline(always)]
@@ -144,7 +154,7 @@ impl Core for Bound {
         // fl(|y| − s)·(1 − 4u) is a lower bound of |y| − s (one rounding down at most u, Higham §2.2).
         let denominator = (y.abs() - s) * (1.0 - 4.0 * U);
         let propagated = (r + (c.abs() * (1.0 + 2.0 * U) + ETA) * s) / denominator;
-        let radius = inflate(U * c.abs() + propagated);
+        let radius = radius_of(c, propagated);
         let divisor_holds_zero = denominator.is_nan() || denominator <= 0.0;
         if divisor_holds_zero && s > 0.0 {
             record(EventKind::DivisionByZeroEnclosure);
@@ -163,7 +173,7 @@ impl Core for Bound {
         if (s > 0.0 || r > 0.0) && quotients.inf().trunc() != quotients.sup().trunc() {
             record(EventKind::BranchInstability); // the exact quotient may truncate to another integer
         }
-        Bound { primal: c, radius: inflate(r + quotient_bound * s) }
+        Bound { primal: c, radius: radius_of(0.0, r + quotient_bound * s) }
     }
 
     #[inline(always)]
@@ -176,7 +186,7 @@ impl Core for Bound {
         let (x, r, y, s) = (self.primal, self.radius, a.primal, a.radius);
         let c = x.mul_add(y, b.primal);
         // one rounding: |c − (xy + z)| ≤ u|c| + η/2;  propagated |x|s + r(|y| + s) + t
-        Bound { primal: c, radius: inflate(U * c.abs() + (x.abs() * s + r * (y.abs() + s) + b.radius)) }
+        Bound { primal: c, radius: radius_of(c, x.abs().mul_add(s, r * (y.abs() + s)) + b.radius) }
     }
 
     #[inline(always)]
@@ -192,7 +202,7 @@ impl Core for Bound {
         let c = x.sqrt(); // correctly rounded: |c − √x| ≤ u·c
                           // |√X − √x| = |X − x|/(√X + √x) ≤ r/√x, and ≤ √r always; √x ≥ c(1 − 2u).
         let propagated = (r / (c * (1.0 - 2.0 * U))).min(r.sqrt() * (1.0 + 2.0 * U));
-        Bound { primal: c, radius: inflate(U * c + propagated) }
+        Bound { primal: c, radius: radius_of(c, propagated) }
     }
 
     crate::enclosed_functions!(

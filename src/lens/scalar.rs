@@ -136,15 +136,24 @@ pub trait Core: Copy + Sized {
     fn hypot(self, other: Self) -> Self;
 }
 
-/// Records NaN or an infinity that an operation produced from finite operands (the cold path).
+/// Records NaN or an infinity that an operation produced from finite operands. The hot path is one test of the
+/// result; the operands are looked at only on the cold path.
 #[inline(always)]
 #[track_caller]
-pub fn watch<T: Core>(out: T, operands_finite: bool) -> T {
-    let value = out.primal();
-    if !value.is_finite() && operands_finite {
-        record(if value.is_nan() { EventKind::Nan } else { EventKind::Infinity });
+pub fn watch<T: Core>(out: T, operands_finite: impl FnOnce() -> bool) -> T {
+    if !out.primal().is_finite() {
+        non_finite(out.primal(), operands_finite());
     }
     out
+}
+
+#[cold]
+#[inline(never)]
+#[track_caller]
+fn non_finite(value: f64, operands_finite: bool) {
+    if operands_finite {
+        record(if value.is_nan() { EventKind::Nan } else { EventKind::Infinity });
+    }
 }
 
 /// A comparison: the primal's answer, with a branch instability recorded when the reference could answer
@@ -195,7 +204,7 @@ macro_rules! lens_scalar {
             #[track_caller]
             fn $method(self, rhs: $lens) -> $lens {
                 use $crate::lens::scalar::Core as _;
-                let finite = self.primal().is_finite() && rhs.primal().is_finite();
+                let finite = || self.primal().is_finite() && rhs.primal().is_finite();
                 $crate::lens::scalar::watch(<$lens as $crate::lens::scalar::Core>::$method(self, rhs), finite)
             }
         }
@@ -511,7 +520,7 @@ macro_rules! lens_scalar {
             #[inline]
             #[track_caller]
             fn powi(self, n: i32) -> $lens {
-                let finite = $crate::Real::primal(self).is_finite();
+                let finite = || $crate::Real::primal(self).is_finite();
                 $crate::lens::scalar::watch(<$lens as $crate::lens::scalar::Core>::powi(self, n), finite)
             }
             #[inline]
@@ -522,7 +531,7 @@ macro_rules! lens_scalar {
             #[inline(always)]
             #[track_caller]
             fn mul_add(self, a: $lens, b: $lens) -> $lens {
-                let finite = $crate::Real::primal(self).is_finite() && $crate::Real::primal(a).is_finite() && $crate::Real::primal(b).is_finite();
+                let finite = || $crate::Real::primal(self).is_finite() && $crate::Real::primal(a).is_finite() && $crate::Real::primal(b).is_finite();
                 $crate::lens::scalar::watch(<$lens as $crate::lens::scalar::Core>::mul_add(self, a, b), finite)
             }
             #[inline]
@@ -622,7 +631,7 @@ macro_rules! lens_scalar {
         #[inline]
         #[track_caller]
         fn $name(self) -> $lens {
-            let finite = $crate::Real::primal(self).is_finite();
+            let finite = || $crate::Real::primal(self).is_finite();
             $crate::lens::scalar::watch(<$lens as $crate::lens::scalar::Core>::$name(self), finite)
         }
     )*};
@@ -631,7 +640,7 @@ macro_rules! lens_scalar {
         #[inline]
         #[track_caller]
         fn $name(self, other: $lens) -> $lens {
-            let finite = $crate::Real::primal(self).is_finite() && $crate::Real::primal(other).is_finite();
+            let finite = || $crate::Real::primal(self).is_finite() && $crate::Real::primal(other).is_finite();
             $crate::lens::scalar::watch(<$lens as $crate::lens::scalar::Core>::$name(self, other), finite)
         }
     )*};
