@@ -249,13 +249,17 @@ fn the_attribute_never_panics_on_mutated_items() {
     let items: Vec<(&str, &TokenStream, &TokenStream)> =
         samples.iter().flat_map(|s| s.annotated.iter().map(|(attr, item)| (s.name.as_str(), attr, item))).collect();
     assert!(items.len() >= 10, "the corpus should hold the fixtures' annotated items, found {}", items.len());
+    // Most kernels take no arguments, so mutated arguments come from the pool of every non-empty argument list of
+    // the corpus (`float = f32`, `alias = Real`, `calls = [...]`, the malformed ones of the compile-fail cases).
+    let arguments: Vec<&TokenStream> = items.iter().map(|(_, attr, _)| *attr).filter(|a| !a.is_empty()).collect();
+    assert!(!arguments.is_empty(), "the corpus should hold attribute arguments");
     check(
         ATTRIBUTE_CASES,
-        (any::<usize>(), any::<bool>(), mutations_strategy()),
-        |(pick, mutate_arguments, mutations)| {
+        (any::<usize>(), any::<usize>(), any::<bool>(), mutations_strategy()),
+        |(pick, pick_arguments, mutate_arguments, mutations)| {
             let (name, attr, item) = items[pick % items.len()];
             let (attr, item) = if mutate_arguments {
-                (mutate(attr.clone(), &mutations), item.clone())
+                (mutate(arguments[pick_arguments % arguments.len()].clone(), &mutations), item.clone())
             } else {
                 (attr.clone(), mutate(item.clone(), &mutations))
             };
