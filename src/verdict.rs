@@ -139,7 +139,8 @@ fn crossing(e: &Evidence, steps_done: u64, horizon: u64) -> Option<(u64, bool)> 
     if let Some(step) = e.first_crossing {
         return Some((step, true));
     }
-    if horizon <= steps_done || !(e.allowed_at_end > 0.0) {
+    // A NaN allowance is no allowance: `is_nan` says so explicitly.
+    if horizon <= steps_done || e.allowed_at_end.is_nan() || e.allowed_at_end <= 0.0 {
         return None;
     }
     let growth = e.growth?;
