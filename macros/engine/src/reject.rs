@@ -332,6 +332,16 @@ impl<'ast> Visit<'ast> for Rejecter<'_> {
         visit::visit_pat(self, pat);
     }
 
+    fn visit_item_mod(&mut self, module: &'ast syn::ItemMod) {
+        // A module's own `const` and `static` items are copied into the twin module unchanged and read there as
+        // exact inputs, so how they are computed (`f64::from_bits(0x3FB9_9999_9999_999A)`) needs no twin. Constants
+        // inside function bodies are different: they become `let`s of the twin's type, and are walked.
+        let Some((_, items)) = &module.content else { return visit::visit_item_mod(self, module) };
+        for item in items.iter().filter(|item| !matches!(item, Item::Const(_) | Item::Static(_))) {
+            self.visit_item(item);
+        }
+    }
+
     fn visit_item_union(&mut self, union: &'ast syn::ItemUnion) {
         if crate::items::mentions_float(self.ctx, &union.fields) {
             self.reject(
@@ -397,6 +407,23 @@ mod tests {
         // The `f32` scrutinee stays `f32` in the twin of an `f64` kernel, so its literal pattern still matches.
         let kernel = "#[twinstep::audit]\nfn f(u: &mut [f64], s: f32) { match s { 0.5f32 => u[0] = 1.0, _ => {} } }";
         assert!(expands(kernel).is_ok(), "{:?}", expands(kernel));
+    }
+
+    #[test]
+    fn module_constants_defined_by_their_bits_are_accepted() {
+        let kernel = "#[twinstep::audit]\nmod m { const TENTH: f64 = f64::from_bits(0x3FB9_9999_9999_999A); \
+                      pub fn f(u: &mut [f64]) { u[0] *= TENTH; } }";
+        assert!(expands(kernel).is_ok(), "{:?}", expands(kernel));
+    }
+
+    #[test]
+    fn body_constants_defined_by_their_bits_are_rejected() {
+        // A body constant becomes a `let` of the twin's type, whose `from_bits` a lens does not have.
+        let kernel =
+            "#[twinstep::audit]\nfn f(u: &mut [f64]) { const TENTH: f64 = f64::from_bits(0x3FB9_9999_9999_999A); \
+                      u[0] *= TENTH; }";
+        let errors = expands(kernel).expect_err("the body constant's `from_bits` is rejected");
+        assert!(errors.contains("from_bits"), "{errors}");
     }
 
     #[test]
