@@ -3,8 +3,8 @@
 //!
 //! The shadows here are the ones real solver codes have: a precision alias, a local trait named `Add`, a local
 //! `struct Vec`, modules named `core` and `std`, a local trait named `Real`, a local function named like the
-//! engine's cast helper `to_usize`, and a type parameter named `T` on the annotated item itself (the engine must
-//! then pick another name for the twin's parameter). Generated code that said `core::…`, `Vec`, `Real` or
+//! engine's cast helper `to_usize`, the legacy `std::f64` module in scope, and a type parameter named `T` on the
+//! annotated function or `impl` block itself (the engine must then pick another name for the twin's parameter). Generated code that said `core::…`, `Vec`, `Real` or
 //! `to_usize` instead of `::core::…` and `::twinstep::…` would fail to compile here or call the user's item.
 //!
 //! Each twin then runs with its parameter set to `f64` and must reproduce the original kernel bit for bit (compared
@@ -75,6 +75,23 @@ mod relax {
         }
         let bucket = (out[n / 2] * 4.0) as usize;
         bucket + shape.add_cells(to_usize(tags.len() as u32))
+    }
+}
+
+/// An `impl` block with a type parameter named `T` of its own: the twin methods need another name for theirs.
+pub struct Tagged<T> {
+    pub tag: T,
+    pub damping: f64,
+}
+
+#[twinstep::audit]
+impl<T: Copy> Tagged<T> {
+    /// Damps every value toward zero and returns the tag, so `T` is used in the signature as well.
+    pub fn damp(&self, u: &mut [f64], dt: f64) -> T {
+        for v in u.iter_mut() {
+            *v -= self.damping * dt * *v;
+        }
+        self.tag
     }
 }
 
@@ -153,6 +170,19 @@ fn a_shadowed_free_function_twin_runs_bit_identical() {
         assert_eq!(count_original, count_twin, "index casts differ after step {step}");
         original = next_original;
         twin = next_twin;
+    }
+}
+
+#[test]
+fn a_method_twin_beside_a_type_parameter_named_t_runs_bit_identical() {
+    let tagged = Tagged { tag: 7u8, damping: 0.37 };
+    let mut original = sine_profile::<6>();
+    let mut twin = original;
+    for step in 0..25 {
+        let tag_original = tagged.damp(&mut original, 0.1);
+        let tag_twin = tagged.damp_twin(&mut twin, 0.1);
+        assert_eq!(bits(&original), bits(&twin), "fields differ after step {step}");
+        assert_eq!(tag_original, tag_twin);
     }
 }
 
