@@ -7,6 +7,7 @@ use twinstep::lens::{with_literal_mode, Bound, Interval, Lens, LiteralMode, Shad
 use twinstep::{BaseOps, Constant, MixedOps, Real, RefOps};
 
 /// A kernel-like mix of everything the rewrite emits; its f64 instance is the reference for the primals.
+#[allow(clippy::op_ref)] // `&x * &y` is what iterator chains in kernels produce: the borrowed operators are tested
 fn mix<T>(x: T, y: T) -> Vec<T>
 where
     T: Real + BaseOps<f64>,
