@@ -8,6 +8,7 @@
 //! | `impl Rod { fn step(&mut self, u: &mut [f64]) }` | `impl Rod { fn step_twin<T>(&mut self, u: &mut [T]) }` |
 //! | `impl Rod { fn r(&self) -> f64 }` (no float parameter) | none: the twins call `self.r()`, a plain `f64` |
 //! | `mod solver { struct Grid { u: Vec<f64> } fn step(g: &mut Grid) }` | `mod solver_twin { struct Grid<T> { u: Vec<T> } fn step<T>(g: &mut Grid<T>) }` |
+//! | `mod fv { trait Flux { fn f(&self, u: f64) -> f64; } impl Flux for Burgers { … } }` | `mod fv_twin { trait Flux<T> { fn f(&self, u: T) -> T; } impl<T> Flux<T> for Burgers { … } }` |
 //!
 //! Every twin carries `T: Real + BaseOps<f64>, f64: MixedOps<T> + MixedOps<f64>, for<'twin> &'twin T: RefOps<T>`
 //! (see [`Ctx::where_predicates`] for the trivial-looking `f64: MixedOps<f64>`). Items whose signature does not
@@ -302,6 +303,8 @@ fn collect_module_facts(ctx: &mut Ctx, m: &ItemMod) {
             let (ident, fields) = match item {
                 Item::Struct(s) => (&s.ident, s.fields.to_token_stream()),
                 Item::Enum(e) => (&e.ident, e.variants.to_token_stream()),
+                // A trait whose methods take or return the float type: `trait Flux { fn flux(&self, u: f64) -> f64; }`.
+                Item::Trait(t) => (&t.ident, t.items.iter().map(ToTokens::to_token_stream).collect::<TokenStream>()),
                 _ => continue,
             };
             if mentions_float(ctx, &fields) {
@@ -399,8 +402,21 @@ fn twin_module_item(ctx: &Ctx, item: &Item) -> syn::Result<Item> {
             }
             Item::Enum(twin)
         }
+        Item::Trait(t) if ctx.generic_types.contains(&t.ident.to_string()) => {
+            // `trait Flux<T>`: its methods' signatures and default bodies are rewritten like an impl's, and the
+            // trait carries the twin's `where` clause so that default bodies may compute with `T`.
+            let mut twin = t.clone();
+            for inner in twin.items.iter_mut() {
+                pipeline::rewrite(ctx, inner);
+            }
+            add_generics(ctx, &mut twin.generics);
+            Item::Trait(twin)
+        }
         Item::Fn(f) if mentions_float(ctx, &f.sig) => Item::Fn(twin_fn(ctx, f, f.sig.ident.clone())),
-        Item::Impl(imp) if mentions_float(ctx, &imp.self_ty) => {
+        Item::Impl(imp)
+            if mentions_float(ctx, &imp.self_ty)
+                || imp.trait_.as_ref().is_some_and(|(_, path, _)| mentions_float(ctx, path)) =>
+        {
             let mut twin = imp.clone();
             pipeline::rewrite(ctx, &mut *twin.self_ty);
             if let Some((_, path, _)) = &mut twin.trait_ {

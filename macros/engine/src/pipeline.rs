@@ -36,6 +36,7 @@ walk! {
     syn::Type => visit_type_mut,
     syn::Item => visit_item_mut,
     syn::ImplItem => visit_impl_item_mut,
+    syn::TraitItem => visit_trait_item_mut,
     syn::Field => visit_field_mut,
     syn::Variant => visit_variant_mut,
 }

@@ -3,8 +3,9 @@
 //! Before: `fn step(u: &[f64], out: &mut Vec<f64>, f: &dyn Fn(f64) -> f64) { let s: f64 = u.iter().sum::<f64>(); }`
 //! After:  `fn step(u: &[T], out: &mut Vec<T>, f: &dyn Fn(T) -> T) { let s: T = u.iter().sum::<T>(); }`
 //!
-//! Structs and enums of an annotated module that became generic get the parameter appended where they are named
-//! as types without arguments (`Grid` becomes `Grid<T>`).
+//! Structs, enums and traits of an annotated module that became generic get the parameter put first among their
+//! arguments where they are named as types or bounds (`Grid` becomes `Grid<T>`, `F: Flux` becomes `F: Flux<T>`,
+//! `&dyn Flux` becomes `&dyn Flux<T>`).
 
 use crate::context::Ctx;
 use syn::visit_mut::{self, VisitMut};
@@ -27,14 +28,25 @@ impl VisitMut for TypeRewriter<'_> {
         }
         visit_mut::visit_type_mut(self, ty);
         if let Type::Path(p) = ty {
-            if p.qself.is_some() {
-                return;
+            if p.qself.is_none() {
+                self.add_param_if_generic(&mut p.path);
             }
-            let single = p.path.leading_colon.is_none() && (p.path.segments.len() == 1 || is_self_path(&p.path));
-            if let Some(last) = p.path.segments.last_mut() {
-                if single && self.ctx.generic_types.contains(&last.ident.to_string()) {
-                    add_param(&mut last.arguments, self.ctx);
-                }
+        }
+    }
+
+    fn visit_trait_bound_mut(&mut self, bound: &mut syn::TraitBound) {
+        visit_mut::visit_trait_bound_mut(self, bound);
+        self.add_param_if_generic(&mut bound.path);
+    }
+}
+
+impl TypeRewriter<'_> {
+    /// Adds the parameter to a path that names a type or trait of the module which became generic.
+    fn add_param_if_generic(&self, path: &mut syn::Path) {
+        let single = path.leading_colon.is_none() && (path.segments.len() == 1 || is_self_path(path));
+        if let Some(last) = path.segments.last_mut() {
+            if single && self.ctx.generic_types.contains(&last.ident.to_string()) {
+                add_param(&mut last.arguments, self.ctx);
             }
         }
     }
