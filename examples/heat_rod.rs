@@ -1,6 +1,6 @@
 //! A copper rod warmed in the middle by a torch, cooling through its clamped ends: the explicit heat scheme on
 //! 101 points, diffusion number 0.45, audited for 2 000 steps of a planned 200 000 with the bound, interval and
-//! shadow lenses.
+//! shadow lenses, each run a second time with the literals as compiled to split off the representation error.
 //!
 //! Run: `cargo run --release --example heat_rod`.
 
@@ -78,6 +78,7 @@ fn main() -> ExitCode {
             .kernel("rod_step")
             .describe("torch-warmed rod, 101 points, r = 0.45")
             .horizon(200_000)
+            .split_representation()
             .trace(common::trace_path("heat_rod"))
             .lens::<Bound>()
             .lens::<Interval>()

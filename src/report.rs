@@ -158,12 +158,16 @@ fn worst_and_crossing(out: &mut String, trace: &Trace) {
         let _ = writeln!(
             out,
             "\nWorst field: {} (lens {lens}): largest error {} at step {step}, cell {:?}, {} of the tolerance, \
-{:.1} correct bits.",
+{:.1} correct bits{}.",
             f.name,
             number(Some(f.max_err)),
             f.worst_cell,
             ratio(f.tol_ratio),
-            f.correct_bits
+            f.correct_bits,
+            f.representation_err.map_or_else(String::new, |r| format!(
+                "; {} of it from representing the program's literals and constants, the rest arithmetic",
+                number(Some(r))
+            ))
         );
     }
     let crossings: Vec<_> = trace.events.iter().filter(|e| e.kind == EventName::ToleranceCrossed).collect();

@@ -67,6 +67,7 @@ fn in_place_2d_field_reports_the_worst_multi_index() {
     let trace = Audit::new(&Grid, Tolerance::absolute(1.0).unwrap(), 3)
         .trace(scratch("audit_levels_grid").join("g.jsonl"))
         .every_step()
+        .split_representation()
         .lens::<Shadow>()
         .run()
         .unwrap();
@@ -78,6 +79,11 @@ fn in_place_2d_field_reports_the_worst_multi_index() {
     let tenth_error = rational_to_f64(&(rational(0.1) - RBig::from(1u8) / RBig::from(10u8)));
     let recorded = first.fields[0].max_err;
     assert!((recorded - tenth_error.abs()).abs() <= 1e-10 * tenth_error.abs(), "{recorded:e} vs {tenth_error:e}");
+    // 1.0 × fl(0.1) is exact, so all of that first error is the representation of the literal: the run with the
+    // literal as compiled sees none of it.
+    let representation = first.fields[0].representation_err.expect("the split was asked for");
+    assert!((representation - recorded).abs() <= 1e-10 * recorded, "{representation:e} vs {recorded:e}");
+    assert_eq!(trace.steps.iter().find(|s| s.step == 0).unwrap().fields[0].representation_err, Some(0.0));
     // Halving is exact in binary (IEEE 754-2019 §4.3: a power-of-two scale of a normal double is exact), so the
     // other eleven cells stay error-free and the mean is a twelfth of the maximum.
     assert!((first.fields[0].mean_err - recorded / 12.0).abs() <= 1e-15 * recorded);

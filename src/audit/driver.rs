@@ -11,10 +11,10 @@ use std::path::PathBuf;
 use std::sync::mpsc::{channel, Receiver, Sender};
 use std::time::{Duration, Instant};
 
-use super::measure::{first_mismatch, measure, LensStep};
+use super::measure::{first_mismatch, measure, representation, FieldMeasure, LensStep};
 use super::recorder::{LensInfo, Plan};
 use super::{Error, FieldSpec, Levels, RecordPolicy, Recorder, Tolerance};
-use crate::lens::Lens;
+use crate::lens::{with_literal_mode, Lens, LiteralMode};
 use crate::trace::Trace;
 use crate::{BaseOps, MixedOps, Real, RefOps};
 
@@ -157,6 +157,15 @@ impl<'s, S: Scenario> Audit<'s, S> {
         self
     }
 
+    /// Runs every lens a second time with the literals and constants the compiler made (instead of the decimals
+    /// as written and the real constants), so each step record splits off `representation_err`, the part of the
+    /// error due to representing the program's constants. Doubles the cost of every lens.
+    #[must_use]
+    pub fn split_representation(mut self) -> Self {
+        self.plan.split_representation = true;
+        self
+    }
+
     /// Adds a lens; each lens runs on its own thread.
     #[must_use]
     pub fn lens<L>(mut self) -> Self
@@ -234,6 +243,9 @@ where
     let (levels, stages) = (scenario.scheme().levels(), scenario.stages());
     let mut twin = Levels::<L>::new(&plan.fields, levels, stages);
     let mut original = Levels::<f64>::new(&plan.fields, levels, stages);
+    // The same lens with literals and constants as compiled: what is left is arithmetic error only.
+    let mut compiled = plan.split_representation.then(|| Levels::<L>::new(&plan.fields, levels, stages));
+    let as_compiled = |f: &mut dyn FnMut()| with_literal_mode(LiteralMode::AsCompiled, f);
     let mut next = None::<u64>;
     for to in commands {
         let mut at = next.unwrap_or(0);
@@ -244,8 +256,13 @@ where
                 scenario.init(&mut twin)?;
                 let events = crate::events::drain();
                 scenario.init_original(&mut original)?;
+                if let Some(c) = compiled.as_mut() {
+                    let mut result = Ok(());
+                    as_compiled(&mut || result = scenario.init(c));
+                    result?;
+                }
                 let _ = crate::events::drain();
-                out.push(observe(0, &twin, &original, &plan.tolerance, events));
+                out.push(observe(0, &twin, compiled.as_ref(), &original, &plan.tolerance, events));
                 next = Some(0);
             }
             while let Some(n) = next.filter(|&n| n < to) {
@@ -254,10 +271,16 @@ where
                 scenario.step(&mut twin);
                 let events = crate::events::drain();
                 scenario.step_original(&mut original);
+                if let Some(c) = compiled.as_mut() {
+                    c.step = n;
+                    as_compiled(&mut || scenario.step(c));
+                    c.rotate();
+                }
+                // The original and the compiled-literal run record nothing of interest: their events are dropped.
                 let _ = crate::events::drain();
                 twin.rotate();
                 original.rotate();
-                out.push(observe(n + 1, &twin, &original, &plan.tolerance, events));
+                out.push(observe(n + 1, &twin, compiled.as_ref(), &original, &plan.tolerance, events));
                 next = Some(n + 1);
             }
             Ok(out)
@@ -281,11 +304,20 @@ where
 fn observe<L: Lens>(
     step: u64,
     twin: &Levels<L>,
+    compiled: Option<&Levels<L>>,
     original: &Levels<f64>,
     tolerance: &Tolerance,
     events: Vec<(crate::events::EventKind, crate::events::Site, u64)>,
 ) -> LensStep {
-    let fields = twin.current.iter().map(|f| measure(f, tolerance)).collect();
+    let fields = twin
+        .current
+        .iter()
+        .enumerate()
+        .map(|(i, f)| FieldMeasure {
+            representation_err: compiled.map(|c| representation(f, &c.current[i])),
+            ..measure(f, tolerance)
+        })
+        .collect();
     let mismatches = twin
         .current
         .iter()

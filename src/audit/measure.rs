@@ -28,6 +28,8 @@ pub(crate) struct FieldMeasure {
     pub max_abs: f64,
     pub nan: bool,
     pub infinite: bool,
+    /// The part of `max_err` due to representing literals and constants, when the audit splits it.
+    pub representation_err: Option<f64>,
 }
 
 /// A cell where the lens's primal differs from the plain f64 original.
@@ -72,6 +74,7 @@ pub(crate) fn measure<L: Lens>(cells: &[L], tolerance: &Tolerance) -> FieldMeasu
         max_abs: 0.0,
         nan: false,
         infinite: false,
+        representation_err: None,
     };
     let (mut sum_err, mut sum_rel) = (0.0, 0.0);
     for (flat, &cell) in cells.iter().enumerate() {
@@ -119,4 +122,17 @@ pub(crate) fn first_mismatch<L: Real>(field: usize, lens: &[L], original: &[f64]
         let same = p.to_bits() == o.to_bits() || (p.is_nan() && o.is_nan());
         (!same).then_some(Mismatch { field, flat, lens_primal: p, original: o })
     })
+}
+
+/// The representation part of a field's error: the largest difference between the error estimates of the run whose
+/// literals and constants are as written and the run where they are the doubles the compiler made. Both runs have
+/// the same primal `p`, so `e_written − e_compiled = x_compiled − x_written`, the effect of the constants on the
+/// exact result; from estimates of `|e|` alone, `||e_w| − |e_c||` is the part a reader can trust (it is at most that
+/// effect, by the triangle inequality).
+pub(crate) fn representation<L: Lens>(written: &[L], compiled: &[L]) -> f64 {
+    written
+        .iter()
+        .zip(compiled)
+        .map(|(w, c)| magnitude((w.error_estimate() - c.error_estimate()).abs()))
+        .fold(0.0, f64::max)
 }

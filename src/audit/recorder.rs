@@ -43,6 +43,9 @@ pub struct Plan {
     pub policy: RecordPolicy,
     /// Where the trace goes.
     pub trace: PathBuf,
+    /// Run each lens a second time with literals and constants as compiled, to split off the representation
+    /// error (`representation_err` in the step records).
+    pub split_representation: bool,
 }
 
 impl Plan {
@@ -58,6 +61,7 @@ impl Plan {
             horizon: steps,
             policy: RecordPolicy::Auto,
             trace,
+            split_representation: false,
         }
     }
 
@@ -387,7 +391,7 @@ estimate of lens {} is {:.3e}, within tolerance; the gap between the two is the 
                 correct_bits: m.correct_bits,
                 worst_cell: multi_index(m.worst_flat, &spec.shape),
                 tol_ratio: m.tol_ratio,
-                representation_err: None,
+                representation_err: m.representation_err,
                 bound_tol_ratio: m.bound_tol_ratio,
                 max_abs: m.max_abs,
             })
