@@ -165,7 +165,7 @@ fn worst_and_crossing(out: &mut String, trace: &Trace) {
             ratio(f.tol_ratio),
             f.correct_bits,
             f.representation_err.map_or_else(String::new, |r| format!(
-                "; {} of it from representing the program's literals and constants, the rest arithmetic",
+                "; representing the program's literals and constants contributes up to {} in a cell, the rest is arithmetic",
                 number(Some(r))
             ))
         );
