@@ -7,6 +7,7 @@
 //! | `fn heat(u: &[f64], out: &mut [f64], r: f64)` | `fn heat_twin<T>(u: &[T], out: &mut [T], r: T)` |
 //! | `impl Rod { fn step(&mut self, u: &mut [f64]) }` | `impl Rod { fn step_twin<T>(&mut self, u: &mut [T]) }` |
 //! | `impl Rod { fn r(&self) -> f64 }` (no float parameter) | none: the twins call `self.r()`, a plain `f64` |
+//! | `impl Rod { fn new(dx: f64) -> Self }` (returns its own type) | none: a twin could not build a `Rod` from `T` |
 //! | `mod solver { struct Grid { u: Vec<f64> } fn step(g: &mut Grid) }` | `mod solver_twin { struct Grid<T> { u: Vec<T> } fn step<T>(g: &mut Grid<T>) }` |
 //! | `mod fv { trait Flux { fn f(&self, u: f64) -> f64; } impl Flux for Burgers { … } }` | `mod fv_twin { trait Flux<T> { fn f(&self, u: T) -> T; } impl<T> Flux<T> for Burgers { … } }` |
 //!
@@ -14,7 +15,8 @@
 //! (see [`Ctx::where_predicates`] for the trivial-looking `f64: MixedOps<f64>`). Items whose signature does not
 //! mention the float type are copied unchanged: they have nothing to twin, and a type parameter they do not use
 //! could not be inferred at their call sites. For the same reason a method of a struct that stays as it is gets a
-//! twin only when a parameter mentions the float.
+//! twin only when a parameter mentions the float, and not when it returns the struct itself. Twins are never
+//! `const fn`: the operators of `T` are trait methods.
 
 use crate::context::Ctx;
 use crate::pipeline;
@@ -49,6 +51,20 @@ pub fn mentions_float(ctx: &Ctx, tokens: &impl ToTokens) -> bool {
 /// and the twins call the original, whose `f64` result mixes with `T`.
 pub fn inputs_mention_float(ctx: &Ctx, sig: &syn::Signature) -> bool {
     sig.inputs.iter().any(|input| mentions_float(ctx, input))
+}
+
+/// Whether a method of an `impl` block returns its own type (`fn new(dx: f64) -> Self`, `-> Result<Cable, E>`):
+/// the struct stays as it is, so a twin could not build one from `T` values; such a method gets no twin.
+fn returns_self(sig: &syn::Signature, self_ty: &syn::Type) -> bool {
+    let syn::ReturnType::Type(_, output) = &sig.output else { return false };
+    let self_name = match self_ty {
+        syn::Type::Path(p) => p.path.segments.last().map(|s| s.ident.to_string()),
+        _ => None,
+    };
+    output
+        .to_token_stream()
+        .into_iter()
+        .any(|t| mentions_ident(&t, "Self") || self_name.as_deref().is_some_and(|name| mentions_ident(&t, name)))
 }
 
 fn mentions_ident(tree: &TokenTree, name: &str) -> bool {
@@ -171,6 +187,8 @@ pub fn twin_fn(ctx: &Ctx, f: &ItemFn, name: syn::Ident) -> ItemFn {
     let mut twin = f.clone();
     twin.attrs = twin_attributes(&f.attrs);
     twin.sig.ident = name;
+    // Trait methods cannot run in constant evaluation, so a `const fn` twin would not compile.
+    twin.sig.constness = None;
     // The predicates name the base float, so they go in after the rewrite, which would turn it into `T`.
     pipeline::rewrite(ctx, &mut twin.sig);
     pipeline::rewrite(ctx, &mut *twin.block);
@@ -184,6 +202,7 @@ fn twin_method(ctx: &Ctx, f: &syn::ImplItemFn, name: syn::Ident) -> syn::ImplIte
     let mut twin = f.clone();
     twin.attrs = twin_attributes(&f.attrs);
     twin.sig.ident = name;
+    twin.sig.constness = None;
     pipeline::rewrite(ctx, &mut twin.sig);
     pipeline::rewrite(ctx, &mut twin.block);
     add_generics(ctx, &mut twin.sig.generics);
@@ -250,7 +269,7 @@ fn twin_impl_block(ctx: &mut Ctx, imp: &ItemImpl) -> syn::Result<ItemImpl> {
         .items
         .iter()
         .filter_map(|i| match i {
-            ImplItem::Fn(f) if inputs_mention_float(ctx, &f.sig) => Some(f),
+            ImplItem::Fn(f) if inputs_mention_float(ctx, &f.sig) && !returns_self(&f.sig, &imp.self_ty) => Some(f),
             _ => None,
         })
         .collect();
