@@ -110,3 +110,35 @@ impl Parse for Options {
         Ok(options)
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn parse(tokens: &str) -> syn::Result<Options> {
+        let stream: proc_macro2::TokenStream =
+            tokens.parse().map_err(|e| syn::Error::new(proc_macro2::Span::call_site(), e))?;
+        syn::parse2::<Options>(stream)
+    }
+
+    #[test]
+    fn calls_lists_the_functions_whose_twins_are_called() {
+        let options = parse("calls = [flux, van_leer], float = f32, calls = [minmod,]").expect("valid arguments");
+        assert_eq!(options.calls, ["flux", "van_leer", "minmod"]);
+        assert_eq!(options.base, BaseFloat::F32);
+    }
+
+    #[test]
+    fn calls_without_brackets_is_an_error_not_a_panic() {
+        assert!(parse("calls = flux").is_err());
+        assert!(parse("calls [flux]").is_err());
+        assert!(parse("calls = [flux] alias = Real").is_err());
+        assert!(parse("calls = [1.5]").is_err());
+    }
+
+    #[test]
+    fn a_wrong_argument_still_lists_the_common_options() {
+        let message = parse("precision = f32").err().map(|e| e.to_string()).unwrap_or_default();
+        assert!(message.contains("`float`") && message.contains("`alias`"), "{message}");
+    }
+}
