@@ -14,7 +14,7 @@ use twinstep::{BaseOps, MixedOps, Real, RefOps};
 
 /// One step of the explicit scheme with diffusion number `r`, ends held at their values.
 #[twinstep::audit]
-fn rod_step(u: &[f64], out: &mut [f64], r: f64) {
+pub fn rod_step(u: &[f64], out: &mut [f64], r: f64) {
     let n = u.len();
     out[0] = u[0];
     out[n - 1] = u[n - 1];

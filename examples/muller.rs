@@ -14,11 +14,12 @@ use twinstep::{BaseOps, MixedOps, Real, RefOps};
 
 /// The next term from the two before it.
 #[twinstep::audit]
-fn next_term(before: f64, now: f64) -> f64 {
+pub fn next_term(before: f64, now: f64) -> f64 {
     111.0 - 1130.0 / now + 3000.0 / (now * before)
 }
 
-struct Recurrence;
+/// The recurrence as a three-level scheme on one cell.
+pub struct Recurrence;
 
 impl Scenario for Recurrence {
     fn fields(&self) -> Vec<FieldSpec> {

@@ -17,16 +17,12 @@ use twinstep::lens::{Bound, Interval, Lens, Shadow};
 use twinstep::trace::EventName;
 use twinstep::{BaseOps, MixedOps, Real, RefOps};
 
-/// One step of the explicit scheme with diffusion number `r`.
-#[twinstep::audit]
-fn heat_step(u: &[f64], out: &mut [f64], r: f64) {
-    let n = u.len();
-    out[0] = u[0];
-    out[n - 1] = u[n - 1];
-    for i in 1..n - 1 {
-        out[i] = u[i] + r * (u[i - 1] - 2.0 * u[i] + u[i + 1]);
-    }
-}
+/// The example's rod kernel (`examples/heat_rod.rs`): the explicit scheme, ends held — so the check covers it.
+#[allow(dead_code)]
+#[path = "../examples/heat_rod.rs"]
+mod example;
+
+use example::{rod_step as heat_step, rod_step_twin as heat_step_twin};
 
 /// The initial data `sin(π i/n)`; its twin evaluates the real sine of the real π i/n in the lens.
 #[twinstep::audit]

@@ -9,53 +9,17 @@ mod audit_support;
 
 use audit_support::{rational, rational_to_f64, scratch};
 use dashu_ratio::RBig;
-use twinstep::audit::{Audit, Error, FieldSpec, Levels, Scenario, Scheme, Tolerance};
+use twinstep::audit::{Audit, Tolerance};
 use twinstep::lens::Shadow;
 use twinstep::trace::EventName;
 use twinstep::verdict::Status;
-use twinstep::{BaseOps, MixedOps, Real, RefOps};
 
-/// The next term from the two before it.
-#[twinstep::audit]
-fn muller_next(previous: f64, current: f64) -> f64 {
-    111.0 - 1130.0 / current + 3000.0 / (current * previous)
-}
+/// The example's own scenario (`examples/muller.rs`), so the check also covers what a user runs.
+#[allow(dead_code)]
+#[path = "../examples/muller.rs"]
+mod example;
 
-/// One cell, three time levels: `previous` = u_{n−1}, `current` = u_n.
-struct Muller;
-
-impl Scenario for Muller {
-    fn fields(&self) -> Vec<FieldSpec> {
-        vec![FieldSpec::new("u", &[1])]
-    }
-
-    fn scheme(&self) -> Scheme {
-        Scheme::ThreeLevel
-    }
-
-    fn init<T>(&self, levels: &mut Levels<T>) -> Result<(), Error>
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
-        levels.previous[0].set_f64(&[2.0])?;
-        levels.current[0].set_f64(&[-4.0])
-    }
-
-    fn step<T>(&self, levels: &mut Levels<T>)
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
-        levels.next[0][0] = muller_next_twin::<T>(levels.previous[0][0], levels.current[0][0]);
-    }
-
-    fn step_original(&self, levels: &mut Levels<f64>) {
-        levels.next[0][0] = muller_next(levels.previous[0][0], levels.current[0][0]);
-    }
-}
+use example::{next_term, Recurrence};
 
 #[test]
 fn first_relative_error_above_1e_minus_6_matches_exact_rationals() {
@@ -66,7 +30,7 @@ fn first_relative_error_above_1e_minus_6_matches_exact_rationals() {
         // 111 − 1130/u_n + 3000/(u_n u_{n−1}), exactly
         let next = RBig::from(111u8) - RBig::from(1130u16) / e1 + RBig::from(3000u16) / (e1 * e0);
         exact.push(next);
-        float.push(muller_next(float[k - 1], float[k]));
+        float.push(next_term(float[k - 1], float[k]));
     }
     let crossing_term = (0..exact.len())
         .find(|&k| {
@@ -80,8 +44,8 @@ fn first_relative_error_above_1e_minus_6_matches_exact_rationals() {
     assert!((float[29] - 100.0).abs() < 1e-6);
 
     let dir = scratch("muller");
-    let trace = Audit::new(&Muller, Tolerance::relative(1e-6).unwrap(), 25)
-        .kernel("muller_next")
+    let trace = Audit::new(&Recurrence, Tolerance::relative(1e-6).unwrap(), 25)
+        .kernel("next_term")
         .trace(dir.join("muller.jsonl"))
         .every_step()
         .lens::<Shadow>()
