@@ -197,3 +197,40 @@ proptest! {
         check_function!(p, k, t, tanh);
     }
 }
+
+/// The shadow of a function at a double x against the 256-bit dashu-float value: relative agreement to 2^-90
+/// (double-word evaluation, about 100 bits, documented in `src/lens/dwmath.rs`).
+fn assert_shadow_accurate(out: Shadow, value: &Big, what: &str) -> Result<(), TestCaseError> {
+    let (hi, lo) = out.shadow();
+    let shadow = big(hi) + big(lo);
+    let difference = (&shadow - value).to_f64().value().abs();
+    let magnitude = value.to_f64().value().abs();
+    prop_assert!(difference <= magnitude * 2f64.powi(-90), "{what}: shadow {out} vs {:e}", value.to_f64().value());
+    Ok(())
+}
+
+macro_rules! check_shadow {
+    ($x:expr, $name:ident) => {{
+        let value = oracle(&big($x), Big::$name);
+        assert_shadow_accurate(Shadow::from_f64($x).$name(), &value, stringify!($name))?;
+    }};
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(128))]
+
+    #[test]
+    fn shadow_functions_agree_to_90_bits(p in -30.0f64..30.0, m in 0.5f64..1.0, e in -30i32..30, q in -0.99f64..0.99) {
+        check_shadow!(p, exp);
+        check_shadow!(p, sin);
+        check_shadow!(p, cos);
+        check_shadow!(p, tanh);
+        check_shadow!(p, atan);
+        check_shadow!(p, sinh);
+        check_shadow!(m * 2f64.powi(e), ln);
+        check_shadow!(q, asin);
+        check_shadow!(q, acos);
+        check_shadow!(q * 1e-3, exp_m1);
+        check_shadow!(q * 1e-3, ln_1p);
+    }
+}

@@ -12,6 +12,7 @@
 //! the double the compiler made, so an audit can split representation error from arithmetic error.
 
 pub mod bound;
+pub mod dwmath;
 pub mod eft;
 pub mod elementary;
 pub mod interval;

@@ -11,6 +11,7 @@
 //! back to double-word: slower, but accurate far beyond the shadow's own precision.
 
 use crate::events::{record, EventKind};
+use crate::lens::dwmath;
 use crate::lens::eft::{next_down, next_up, DoubleWord};
 use crate::lens::reference::Reference;
 use crate::lens::scalar::{Core, Orders};
@@ -58,15 +59,20 @@ impl Shadow {
         }
     }
 
-    /// The result of a function evaluated on the shadow at [`BITS`] bits with `dashu-float`, or with the `f64`
-    /// fallback when the shadow leaves the function's domain or the double range (the primal records the event).
+    /// The result of a function on the shadow: the double-word evaluation `fast` of [`super::dwmath`] when it
+    /// took the argument, else the function at [`BITS`] bits with `dashu-float`, else (outside the domain or the
+    /// double range) the `f64` fallback — the primal records the event.
     fn high_precision(
         primal: f64,
         x: DoubleWord,
+        fast: Option<DoubleWord>,
         inside: bool,
         f: impl Fn(&Big) -> Big,
         fallback: fn(f64) -> f64,
     ) -> Shadow {
+        if let Some(shadow) = fast {
+            return Shadow { primal, shadow };
+        }
         let shadow = match big(x) {
             Some(value) if inside => double_word(&f(&value)),
             _ => DoubleWord::from_f64(fallback(x.to_f64())),
@@ -220,73 +226,115 @@ impl Core for Shadow {
     }
 
     fn exp(self) -> Shadow {
-        Shadow::high_precision(self.primal.exp(), self.shadow, true, Big::exp, f64::exp)
+        Shadow::high_precision(self.primal.exp(), self.shadow, dwmath::exp(self.shadow), true, Big::exp, f64::exp)
     }
 
     fn exp2(self) -> Shadow {
         // 2ˣ = e^{x ln 2}
-        Shadow::high_precision(self.primal.exp2(), self.shadow, true, |x| (x * ln_of(2)).exp(), f64::exp2)
+        Shadow::high_precision(
+            self.primal.exp2(),
+            self.shadow,
+            dwmath::exp2(self.shadow),
+            true,
+            |x| (x * ln_of(2)).exp(),
+            f64::exp2,
+        )
     }
 
     fn exp_m1(self) -> Shadow {
-        Shadow::high_precision(self.primal.exp_m1(), self.shadow, true, Big::exp_m1, f64::exp_m1)
+        Shadow::high_precision(
+            self.primal.exp_m1(),
+            self.shadow,
+            dwmath::exp_m1(self.shadow),
+            true,
+            Big::exp_m1,
+            f64::exp_m1,
+        )
     }
 
     fn ln(self) -> Shadow {
-        Shadow::high_precision(self.primal.ln(), self.shadow, self.shadow.hi > 0.0, Big::ln, f64::ln)
+        Shadow::high_precision(
+            self.primal.ln(),
+            self.shadow,
+            dwmath::ln(self.shadow),
+            self.shadow.hi > 0.0,
+            Big::ln,
+            f64::ln,
+        )
     }
 
     fn ln_1p(self) -> Shadow {
         let inside = self.shadow.hi > -1.0 || (self.shadow.hi == -1.0 && self.shadow.lo > 0.0);
-        Shadow::high_precision(self.primal.ln_1p(), self.shadow, inside, Big::ln_1p, f64::ln_1p)
+        Shadow::high_precision(
+            self.primal.ln_1p(),
+            self.shadow,
+            dwmath::ln_1p(self.shadow),
+            inside,
+            Big::ln_1p,
+            f64::ln_1p,
+        )
     }
 
     fn log2(self) -> Shadow {
         // log₂ x = ln x / ln 2
-        Shadow::high_precision(self.primal.log2(), self.shadow, self.shadow.hi > 0.0, |x| x.ln() / ln_of(2), f64::log2)
+        Shadow::high_precision(
+            self.primal.log2(),
+            self.shadow,
+            dwmath::log2(self.shadow),
+            self.shadow.hi > 0.0,
+            |x| x.ln() / ln_of(2),
+            f64::log2,
+        )
     }
 
     fn log10(self) -> Shadow {
         let inside = self.shadow.hi > 0.0;
-        Shadow::high_precision(self.primal.log10(), self.shadow, inside, |x| x.ln() / ln_of(10), f64::log10)
+        Shadow::high_precision(
+            self.primal.log10(),
+            self.shadow,
+            dwmath::log10(self.shadow),
+            inside,
+            |x| x.ln() / ln_of(10),
+            f64::log10,
+        )
     }
 
     fn sin(self) -> Shadow {
-        Shadow::high_precision(self.primal.sin(), self.shadow, true, Big::sin, f64::sin)
+        Shadow::high_precision(self.primal.sin(), self.shadow, dwmath::sin(self.shadow), true, Big::sin, f64::sin)
     }
 
     fn cos(self) -> Shadow {
-        Shadow::high_precision(self.primal.cos(), self.shadow, true, Big::cos, f64::cos)
+        Shadow::high_precision(self.primal.cos(), self.shadow, dwmath::cos(self.shadow), true, Big::cos, f64::cos)
     }
 
     fn tan(self) -> Shadow {
-        Shadow::high_precision(self.primal.tan(), self.shadow, true, Big::tan, f64::tan)
+        Shadow::high_precision(self.primal.tan(), self.shadow, dwmath::tan(self.shadow), true, Big::tan, f64::tan)
     }
 
     fn asin(self) -> Shadow {
         let inside = self.shadow.hi.abs() < 1.0;
-        Shadow::high_precision(self.primal.asin(), self.shadow, inside, Big::asin, f64::asin)
+        Shadow::high_precision(self.primal.asin(), self.shadow, dwmath::asin(self.shadow), inside, Big::asin, f64::asin)
     }
 
     fn acos(self) -> Shadow {
         let inside = self.shadow.hi.abs() < 1.0;
-        Shadow::high_precision(self.primal.acos(), self.shadow, inside, Big::acos, f64::acos)
+        Shadow::high_precision(self.primal.acos(), self.shadow, dwmath::acos(self.shadow), inside, Big::acos, f64::acos)
     }
 
     fn atan(self) -> Shadow {
-        Shadow::high_precision(self.primal.atan(), self.shadow, true, Big::atan, f64::atan)
+        Shadow::high_precision(self.primal.atan(), self.shadow, dwmath::atan(self.shadow), true, Big::atan, f64::atan)
     }
 
     fn sinh(self) -> Shadow {
-        Shadow::high_precision(self.primal.sinh(), self.shadow, true, Big::sinh, f64::sinh)
+        Shadow::high_precision(self.primal.sinh(), self.shadow, dwmath::sinh(self.shadow), true, Big::sinh, f64::sinh)
     }
 
     fn cosh(self) -> Shadow {
-        Shadow::high_precision(self.primal.cosh(), self.shadow, true, Big::cosh, f64::cosh)
+        Shadow::high_precision(self.primal.cosh(), self.shadow, dwmath::cosh(self.shadow), true, Big::cosh, f64::cosh)
     }
 
     fn tanh(self) -> Shadow {
-        Shadow::high_precision(self.primal.tanh(), self.shadow, true, Big::tanh, f64::tanh)
+        Shadow::high_precision(self.primal.tanh(), self.shadow, dwmath::tanh(self.shadow), true, Big::tanh, f64::tanh)
     }
 
     fn powi(self, n: i32) -> Shadow {
@@ -312,6 +360,9 @@ impl Core for Shadow {
             let integer = Core::powi(self, exponent.hi as i32);
             return Shadow { primal, shadow: integer.shadow };
         }
+        if let Some(shadow) = dwmath::powf(self.shadow, exponent) {
+            return Shadow { primal, shadow };
+        }
         let shadow = match (big(self.shadow), big(exponent)) {
             (Some(x), Some(y)) if self.shadow.hi > 0.0 => double_word(&x.powf(&y)),
             _ => DoubleWord::from_f64(self.shadow.to_f64().powf(exponent.to_f64())),
@@ -321,6 +372,9 @@ impl Core for Shadow {
 
     fn log(self, base: Shadow) -> Shadow {
         let primal = self.primal.log(base.primal);
+        if let Some(shadow) = dwmath::log(self.shadow, base.shadow) {
+            return Shadow { primal, shadow };
+        }
         let shadow = match (big(self.shadow), big(base.shadow)) {
             (Some(x), Some(b))
                 if self.shadow.hi > 0.0 && base.shadow.hi > 0.0 && base.shadow != DoubleWord::from_f64(1.0) =>
@@ -334,6 +388,9 @@ impl Core for Shadow {
 
     fn atan2(self, other: Shadow) -> Shadow {
         let primal = self.primal.atan2(other.primal);
+        if let Some(shadow) = dwmath::atan2(self.shadow, other.shadow) {
+            return Shadow { primal, shadow };
+        }
         let shadow = match (big(self.shadow), big(other.shadow)) {
             (Some(y), Some(x)) if self.shadow.hi != 0.0 || other.shadow.hi != 0.0 => double_word(&y.atan2(&x)),
             _ => DoubleWord::from_f64(self.shadow.to_f64().atan2(other.shadow.to_f64())),
