@@ -11,6 +11,8 @@
 //! | `mod solver { struct Grid { u: Vec<f64> } fn step(g: &mut Grid) }` | `mod solver_twin { struct Grid<T> { u: Vec<T> } fn step<T>(g: &mut Grid<T>) }` |
 //! | `mod fv { trait Flux { fn f(&self, u: f64) -> f64; } impl Flux for Burgers { … } }` | `mod fv_twin { trait Flux<T> { fn f(&self, u: T) -> T; } impl<T> Flux<T> for Burgers { … } }` |
 //!
+//! Test-only items of a module (`#[cfg(test)]`, `#[test]`) are left out of its twin.
+//!
 //! Every twin carries `T: Real + BaseOps<f64>, f64: MixedOps<T> + MixedOps<f64>, for<'twin> &'twin T: RefOps<T>`
 //! (see [`Ctx::where_predicates`] for the trivial-looking `f64: MixedOps<f64>`). Items whose signature does not
 //! mention the float type are copied unchanged: they have nothing to twin, and a type parameter they do not use
@@ -392,7 +394,7 @@ fn twin_module(ctx: &Ctx, m: &ItemMod, name: syn::Ident) -> syn::Result<ItemMod>
         ));
     };
     let mut twins = Vec::with_capacity(items.len());
-    for item in items {
+    for item in items.iter().filter(|item| !is_test_item(item)) {
         twins.push(twin_module_item(ctx, item)?);
     }
     let mut twin = m.clone();
@@ -400,6 +402,23 @@ fn twin_module(ctx: &Ctx, m: &ItemMod, name: syn::Ident) -> syn::Result<ItemMod>
     twin.ident = name;
     twin.content = Some((*brace, twins));
     Ok(twin)
+}
+
+/// Whether an item of a module exists for the tests only (`#[cfg(test)] mod tests`, a `#[test]` function): it tests
+/// the original, and a copy in the twin module would run again against the twins' types.
+fn is_test_item(item: &Item) -> bool {
+    let attrs = match item {
+        Item::Mod(m) => &m.attrs,
+        Item::Fn(f) => &f.attrs,
+        Item::Use(u) => &u.attrs,
+        Item::Impl(i) => &i.attrs,
+        _ => return false,
+    };
+    attrs.iter().any(|attr| {
+        let cfg_test = attr.path().is_ident("cfg")
+            && matches!(&attr.meta, syn::Meta::List(list) if list.tokens.to_string() == "test");
+        cfg_test || attr.path().is_ident("test")
+    })
 }
 
 /// One item of an annotated module, twinned if it has anything to twin, else as it is.
