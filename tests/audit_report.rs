@@ -1,0 +1,56 @@
+//! The terminal report tells the whole story of a trace: the table, the worst field, the first crossing, bound
+//! against estimate with both numbers, events with their source sites, the verdict and the rounding-only caution;
+//! an incomplete trace says so.
+
+mod audit_support;
+
+use audit_support::kernels::Fold;
+use audit_support::scratch;
+use twinstep::audit::{Audit, Tolerance};
+use twinstep::lens::{Bound, Shadow};
+use twinstep::report::render_text;
+use twinstep::trace::{self, EventName};
+
+#[test]
+fn report_has_every_section() {
+    let path = scratch("audit_report").join("fold.jsonl");
+    let trace = Audit::new(&Fold, Tolerance::absolute(1e-16).unwrap(), 60)
+        .kernel("fold_step")
+        .describe("one cell")
+        .trace(&path)
+        .lens::<Bound>()
+        .lens::<Shadow>()
+        .run()
+        .unwrap();
+    let text = render_text(&trace);
+    for needle in [
+        "twinstep audit of fold_step",
+        "Error by step, lens bound",
+        "Error by step, lens shadow",
+        "Worst field: u",
+        "First crossing: step",
+        "Guaranteed bound against estimate",
+        "Events:",
+        "branch_instability",
+        "Verdict:",
+        "rounding error only, not discretization or modelling error",
+        "licensed review",
+    ] {
+        assert!(text.contains(needle), "missing {needle:?} in\n{text}");
+    }
+    // Events carry the kernel's own source site (the comparison in kernels.rs).
+    let site = trace.events.iter().find(|e| e.kind == EventName::BranchInstability).unwrap().site.clone().unwrap();
+    assert!(text.contains(&site.to_string()), "{text}");
+    // The crossing step shown is the trace's.
+    let crossing = trace.events.iter().find(|e| e.kind == EventName::ToleranceCrossed && e.lens == "shadow");
+    let step = crossing.unwrap().step;
+    assert!(text.contains(&format!("First crossing: step {step}, field u, lens shadow")), "{text}");
+    // The caution is said once, at the end.
+    assert_eq!(text.matches("licensed review").count(), 1);
+
+    // A prefix of the same file: the report says the run is incomplete and gives no verdict.
+    let full = std::fs::read_to_string(&path).unwrap();
+    let prefix: String = full.lines().take(6).map(|l| format!("{l}\n")).collect();
+    let partial = render_text(&trace::parse(&prefix).unwrap());
+    assert!(partial.contains("INCOMPLETE") && partial.contains("Verdict: none"), "{partial}");
+}
