@@ -9,7 +9,7 @@
 use std::hint::black_box;
 use std::time::{Duration, Instant};
 use twinstep::lens::{Bound, Interval, Shadow};
-use twinstep::{BaseOps, MixedOps, Real, RefOps};
+use twinstep::Real;
 
 /// One explicit step of the 1-D heat equation `u_t = u_xx`, fixed ends.
 #[twinstep::audit]
@@ -52,34 +52,35 @@ fn profile<T: Real>(len: usize) -> Vec<T> {
     (0..len).map(|i| T::from_f64((i as f64 / len as f64 * 3.0).sin() + 0.5)).collect()
 }
 
-fn heat_run<T>(cells: usize, steps: usize) -> Duration
-where
-    T: Real + BaseOps<f64>,
-    f64: MixedOps<T> + MixedOps<f64>,
-    for<'a> &'a T: RefOps<T>,
-{
-    let mut u = profile::<T>(cells);
+/// Time per step of `kernel(u, out)` on a field of `len` values, buffers swapped after each step.
+fn time_kernel<T: Real>(len: usize, steps: usize, mut kernel: impl FnMut(&[T], &mut [T])) -> Duration {
+    let mut u = profile::<T>(len);
     let mut out = u.clone();
-    let r = T::from_f64(0.25);
     time_steps(steps, 5, || {
-        heat_1d_twin(black_box(&u), &mut out, r);
+        kernel(black_box(&u), &mut out);
         std::mem::swap(&mut u, &mut out);
     })
 }
 
-fn diffusion_run<T>(n: usize, steps: usize) -> Duration
-where
-    T: Real + BaseOps<f64>,
-    f64: MixedOps<T> + MixedOps<f64>,
-    for<'a> &'a T: RefOps<T>,
-{
-    let mut u = profile::<T>(n * n);
-    let mut out = u.clone();
-    let r = T::from_f64(0.2);
-    time_steps(steps, 5, || {
-        diffusion_2d_twin(black_box(&u), &mut out, n, r);
-        std::mem::swap(&mut u, &mut out);
-    })
+/// The rows of one kernel: its twin with `T = f64` and with each lens (Interval on a quarter of the steps).
+/// `$twin` is a closure body over `u`, `out` and the scalar type's diffusion number `r`.
+macro_rules! lens_rows {
+    ($len:expr, $steps:expr, $r:expr, |$u:ident, $out:ident, $rr:ident| $twin:expr) => {{
+        macro_rules! row {
+            ($t:ty, $s:expr) => {
+                time_kernel::<$t>($len, $s, |$u, $out| {
+                    let $rr = <$t as Real>::from_f64($r);
+                    $twin
+                })
+            };
+        }
+        [
+            ("twin f64", row!(f64, $steps), Some(1.05)),
+            ("Bound", row!(Bound, $steps), Some(8.0)),
+            ("Shadow", row!(Shadow, $steps), Some(15.0)),
+            ("Interval", row!(Interval, $steps / 4), None),
+        ]
+    }};
 }
 
 fn report(name: &str, original: Duration, rows: &[(&str, Duration, Option<f64>)]) {
@@ -98,44 +99,13 @@ fn report(name: &str, original: Duration, rows: &[(&str, Duration, Option<f64>)]
 fn main() {
     const CELLS: usize = 100_000;
     const GRID: usize = 512;
-    let heat_steps = 200;
-    let diffusion_steps = 20;
+    let (heat_steps, diffusion_steps) = (200, 20);
 
-    let original = {
-        let mut u = profile::<f64>(CELLS);
-        let mut out = u.clone();
-        time_steps(heat_steps, 5, || {
-            heat_1d(black_box(&u), &mut out, 0.25);
-            std::mem::swap(&mut u, &mut out);
-        })
-    };
-    report(
-        "1-D heat, 10^5 cells",
-        original,
-        &[
-            ("twin f64", heat_run::<f64>(CELLS, heat_steps), Some(1.05)),
-            ("Bound", heat_run::<Bound>(CELLS, heat_steps), Some(8.0)),
-            ("Shadow", heat_run::<Shadow>(CELLS, heat_steps), Some(15.0)),
-            ("Interval", heat_run::<Interval>(CELLS, heat_steps / 4), None),
-        ],
-    );
+    let original = time_kernel::<f64>(CELLS, heat_steps, |u, out| heat_1d(u, out, 0.25));
+    let rows = lens_rows!(CELLS, heat_steps, 0.25, |u, out, r| heat_1d_twin(u, out, r));
+    report("1-D heat, 10^5 cells", original, &rows);
 
-    let original = {
-        let mut u = profile::<f64>(GRID * GRID);
-        let mut out = u.clone();
-        time_steps(diffusion_steps, 5, || {
-            diffusion_2d(black_box(&u), &mut out, GRID, 0.2);
-            std::mem::swap(&mut u, &mut out);
-        })
-    };
-    report(
-        "2-D diffusion, 512×512",
-        original,
-        &[
-            ("twin f64", diffusion_run::<f64>(GRID, diffusion_steps), Some(1.05)),
-            ("Bound", diffusion_run::<Bound>(GRID, diffusion_steps), Some(8.0)),
-            ("Shadow", diffusion_run::<Shadow>(GRID, diffusion_steps), Some(15.0)),
-            ("Interval", diffusion_run::<Interval>(GRID, diffusion_steps / 4), None),
-        ],
-    );
+    let original = time_kernel::<f64>(GRID * GRID, diffusion_steps, |u, out| diffusion_2d(u, out, GRID, 0.2));
+    let rows = lens_rows!(GRID * GRID, diffusion_steps, 0.2, |u, out, r| diffusion_2d_twin(u, out, GRID, r));
+    report("2-D diffusion, 512×512", original, &rows);
 }

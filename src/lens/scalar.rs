@@ -171,6 +171,31 @@ pub fn compare<T: Core>(a: T, b: T, predicate: fn(Ordering) -> bool) -> bool {
     answer
 }
 
+/// `partial_cmp`: the primal's ordering, with a branch instability recorded when the reference allows another.
+#[inline(always)]
+#[track_caller]
+pub fn order<T: Core>(a: T, b: T) -> Option<Ordering> {
+    let order = a.primal().partial_cmp(&b.primal())?;
+    if !a.orders(b).all_give(|o| o == order, true) {
+        record(EventKind::BranchInstability);
+    }
+    Some(order)
+}
+
+/// `max`/`min`: `f64`'s answer on the primals, then the operand that carries it (bit-identical primal); the
+/// comparison records a branch instability when the reference could choose the other operand.
+#[inline]
+#[track_caller]
+pub fn select<T: Core>(a: T, b: T, choose: fn(f64, f64) -> f64) -> T {
+    let chosen = choose(a.primal(), b.primal());
+    let _ = order(a, b);
+    if chosen.to_bits() == a.primal().to_bits() {
+        a
+    } else {
+        b
+    }
+}
+
 /// A step function of the value (floor, sign, integer conversion): the primal's result, with `kind` recorded when
 /// the reference range allows another result.
 #[inline(always)]
@@ -320,12 +345,7 @@ macro_rules! lens_scalar {
             #[inline(always)]
             #[track_caller]
             fn partial_cmp(&self, rhs: &$lens) -> Option<::core::cmp::Ordering> {
-                use $crate::lens::scalar::Core as _;
-                let order = self.primal().partial_cmp(&rhs.primal())?;
-                if !self.orders(*rhs).all_give(|o| o == order, true) {
-                    $crate::events::record($crate::events::EventKind::BranchInstability);
-                }
-                Some(order)
+                $crate::lens::scalar::order(*self, *rhs)
             }
             #[inline(always)]
             #[track_caller]
@@ -537,17 +557,12 @@ macro_rules! lens_scalar {
             #[inline]
             #[track_caller]
             fn max(self, other: $lens) -> $lens {
-                // f64::max's answer, then the operand that carries it; the comparison records an instability.
-                let chosen = $crate::Real::primal(self).max($crate::Real::primal(other));
-                let _ = <$lens as ::core::cmp::PartialOrd>::partial_cmp(&self, &other);
-                if chosen.to_bits() == $crate::Real::primal(self).to_bits() { self } else { other }
+                $crate::lens::scalar::select(self, other, f64::max)
             }
             #[inline]
             #[track_caller]
             fn min(self, other: $lens) -> $lens {
-                let chosen = $crate::Real::primal(self).min($crate::Real::primal(other));
-                let _ = <$lens as ::core::cmp::PartialOrd>::partial_cmp(&self, &other);
-                if chosen.to_bits() == $crate::Real::primal(self).to_bits() { self } else { other }
+                $crate::lens::scalar::select(self, other, f64::min)
             }
             #[inline]
             #[track_caller]
@@ -613,9 +628,8 @@ macro_rules! lens_scalar {
             #[inline]
             #[track_caller]
             fn total_cmp(&self, other: &$lens) -> ::core::cmp::Ordering {
-                let order = $crate::Real::primal(*self).total_cmp(&$crate::Real::primal(*other));
-                let _ = <$lens as ::core::cmp::PartialOrd>::partial_cmp(self, other);
-                order
+                let _ = $crate::lens::scalar::order(*self, *other); // the instability, if any
+                $crate::Real::primal(*self).total_cmp(&$crate::Real::primal(*other))
             }
         }
     };

@@ -109,6 +109,17 @@ fn ln_of(n: u32) -> Big {
     Big::from(n).with_precision(BITS).value().ln()
 }
 
+/// The unary elementary functions of the shadow: `name: |x| domain test on the shadow x, 160-bit evaluation;`.
+/// Each tries the double-word function of [`dwmath`] first (see [`Shadow::high_precision`]).
+macro_rules! shadow_functions {
+    ($($name:ident: |$x:ident| $inside:expr, $big:expr;)*) => {$(
+        fn $name(self) -> Shadow {
+            let $x = self.shadow;
+            Shadow::high_precision(self.primal.$name(), $x, dwmath::$name($x), $inside, $big, f64::$name)
+        }
+    )*};
+}
+
 impl Core for Shadow {
     #[inline(always)]
     fn primal(self) -> f64 {
@@ -225,116 +236,23 @@ impl Core for Shadow {
         Shadow { primal: self.primal.cbrt(), shadow }
     }
 
-    fn exp(self) -> Shadow {
-        Shadow::high_precision(self.primal.exp(), self.shadow, dwmath::exp(self.shadow), true, Big::exp, f64::exp)
-    }
-
-    fn exp2(self) -> Shadow {
-        // 2ˣ = e^{x ln 2}
-        Shadow::high_precision(
-            self.primal.exp2(),
-            self.shadow,
-            dwmath::exp2(self.shadow),
-            true,
-            |x| (x * ln_of(2)).exp(),
-            f64::exp2,
-        )
-    }
-
-    fn exp_m1(self) -> Shadow {
-        Shadow::high_precision(
-            self.primal.exp_m1(),
-            self.shadow,
-            dwmath::exp_m1(self.shadow),
-            true,
-            Big::exp_m1,
-            f64::exp_m1,
-        )
-    }
-
-    fn ln(self) -> Shadow {
-        Shadow::high_precision(
-            self.primal.ln(),
-            self.shadow,
-            dwmath::ln(self.shadow),
-            self.shadow.hi > 0.0,
-            Big::ln,
-            f64::ln,
-        )
-    }
-
-    fn ln_1p(self) -> Shadow {
-        let inside = self.shadow.hi > -1.0 || (self.shadow.hi == -1.0 && self.shadow.lo > 0.0);
-        Shadow::high_precision(
-            self.primal.ln_1p(),
-            self.shadow,
-            dwmath::ln_1p(self.shadow),
-            inside,
-            Big::ln_1p,
-            f64::ln_1p,
-        )
-    }
-
-    fn log2(self) -> Shadow {
-        // log₂ x = ln x / ln 2
-        Shadow::high_precision(
-            self.primal.log2(),
-            self.shadow,
-            dwmath::log2(self.shadow),
-            self.shadow.hi > 0.0,
-            |x| x.ln() / ln_of(2),
-            f64::log2,
-        )
-    }
-
-    fn log10(self) -> Shadow {
-        let inside = self.shadow.hi > 0.0;
-        Shadow::high_precision(
-            self.primal.log10(),
-            self.shadow,
-            dwmath::log10(self.shadow),
-            inside,
-            |x| x.ln() / ln_of(10),
-            f64::log10,
-        )
-    }
-
-    fn sin(self) -> Shadow {
-        Shadow::high_precision(self.primal.sin(), self.shadow, dwmath::sin(self.shadow), true, Big::sin, f64::sin)
-    }
-
-    fn cos(self) -> Shadow {
-        Shadow::high_precision(self.primal.cos(), self.shadow, dwmath::cos(self.shadow), true, Big::cos, f64::cos)
-    }
-
-    fn tan(self) -> Shadow {
-        Shadow::high_precision(self.primal.tan(), self.shadow, dwmath::tan(self.shadow), true, Big::tan, f64::tan)
-    }
-
-    fn asin(self) -> Shadow {
-        let inside = self.shadow.hi.abs() < 1.0;
-        Shadow::high_precision(self.primal.asin(), self.shadow, dwmath::asin(self.shadow), inside, Big::asin, f64::asin)
-    }
-
-    fn acos(self) -> Shadow {
-        let inside = self.shadow.hi.abs() < 1.0;
-        Shadow::high_precision(self.primal.acos(), self.shadow, dwmath::acos(self.shadow), inside, Big::acos, f64::acos)
-    }
-
-    fn atan(self) -> Shadow {
-        Shadow::high_precision(self.primal.atan(), self.shadow, dwmath::atan(self.shadow), true, Big::atan, f64::atan)
-    }
-
-    fn sinh(self) -> Shadow {
-        Shadow::high_precision(self.primal.sinh(), self.shadow, dwmath::sinh(self.shadow), true, Big::sinh, f64::sinh)
-    }
-
-    fn cosh(self) -> Shadow {
-        Shadow::high_precision(self.primal.cosh(), self.shadow, dwmath::cosh(self.shadow), true, Big::cosh, f64::cosh)
-    }
-
-    fn tanh(self) -> Shadow {
-        Shadow::high_precision(self.primal.tanh(), self.shadow, dwmath::tanh(self.shadow), true, Big::tanh, f64::tanh)
+    shadow_functions! {
+        exp: |x| true, Big::exp;
+        exp2: |x| true, |b: &Big| (b * ln_of(2)).exp(); // 2ˣ = e^{x ln 2}
+        exp_m1: |x| true, Big::exp_m1;
+        ln: |x| x.hi > 0.0, Big::ln;
+        ln_1p: |x| x.hi > -1.0 || (x.hi == -1.0 && x.lo > 0.0), Big::ln_1p;
+        log2: |x| x.hi > 0.0, |b: &Big| b.ln() / ln_of(2); // log₂ x = ln x / ln 2
+        log10: |x| x.hi > 0.0, |b: &Big| b.ln() / ln_of(10);
+        sin: |x| true, Big::sin;
+        cos: |x| true, Big::cos;
+        tan: |x| true, Big::tan;
+        asin: |x| x.hi.abs() < 1.0, Big::asin;
+        acos: |x| x.hi.abs() < 1.0, Big::acos;
+        atan: |x| true, Big::atan;
+        sinh: |x| true, Big::sinh;
+        cosh: |x| true, Big::cosh;
+        tanh: |x| true, Big::tanh;
     }
 
     fn powi(self, n: i32) -> Shadow {
