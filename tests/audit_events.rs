@@ -111,4 +111,5 @@ fn a_twin_that_departs_from_the_original_is_reported() {
     assert!(mismatch.detail.contains("cell [0]"));
     let text = twinstep::report::render_text(&trace);
     assert!(text.contains("primal_mismatch"), "{text}");
+    assert!(trace.summary.unwrap().verdict.text.starts_with("Warning: the primal of lens shadow differs"));
 }

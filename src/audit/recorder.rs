@@ -456,7 +456,18 @@ estimate of lens {} is {:.3e}, within tolerance; the gap between the two is the 
                 });
             }
         }
-        let verdict = verdict::decide(&evidence, steps_done, horizon, &self.plan.tolerance.describe());
+        let mut verdict = verdict::decide(&evidence, steps_done, horizon, &self.plan.tolerance.describe());
+        if let Some(m) = self.totals.values().find(|t| t.kind == EventName::PrimalMismatch) {
+            // Said first: every number after it describes the twin's computation, not the original program's.
+            verdict.text = format!(
+                "Warning: the primal of lens {} differs from the plain f64 original (field {}, from step {}), so these \
+figures describe the twin's computation, not the original program's. {}",
+                m.lens,
+                m.field.as_deref().unwrap_or("?"),
+                m.first_step,
+                verdict.text
+            );
+        }
         let summary = Summary {
             steps_done,
             complete: true,
