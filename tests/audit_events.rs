@@ -83,6 +83,9 @@ fn a_field_turning_nan_is_an_event_and_a_crossing() {
     for lens in ["bound", "shadow"] {
         let nan = trace.events.iter().find(|e| e.kind == EventName::Nan && e.lens == lens && e.field.is_some());
         assert_eq!(nan.map(|e| e.step), Some(1), "lens {lens}");
+        // The site is the square root in the kernel, as the lens reported it (this file, line of `root_step`).
+        let site = nan.and_then(|e| e.site.as_ref()).expect("the lens names the operation");
+        assert!(site.file.ends_with("audit_events.rs"), "{site}");
     }
     let summary = trace.summary.as_ref().unwrap();
     assert!(summary.results.iter().all(|r| r.first_crossing == Some(1)));

@@ -270,7 +270,10 @@ impl Recorder {
             }
             track.last = Some((s.step, m.clone()));
             for (kind, detail) in found {
-                events.push(self.event(lens, kind, Some(index), None, 1, detail));
+                // A NaN or infinity the lens saw arise at this step names the operation that made it.
+                let site =
+                    s.events.iter().find(|(k, _, _)| EventName::from(*k) == kind).map(|(_, site, _)| (*site).into());
+                events.push(self.event(lens, kind, Some(index), site, 1, detail));
             }
         }
         for mismatch in &s.mismatches {
