@@ -3,12 +3,13 @@
 //! 2-D diffusion on 512×512. For each, the original f64 kernel, its twin with `T = f64`, and the twin with each
 //! lens run the same number of steps; the report prints time per step and the ratio to the original.
 //!
-//! Targets (issue 3): twin f64 ≤ 1.05×, Bound ≤ 8×, Shadow ≤ 15×, Interval reported.
+//! Targets (issue 3): twin f64 ≤ 1.05×, Bound ≤ 8×, Shadow ≤ 15×, Interval reported; the unwatched variants
+//! (no per-operation NaN/∞ test) are measured beside them.
 //! Run with `cargo bench --bench lenses`.
 
 use std::hint::black_box;
 use std::time::{Duration, Instant};
-use twinstep::lens::{Bound, Interval, Shadow};
+use twinstep::lens::{Bound, BoundUnwatched, Interval, Shadow, ShadowUnwatched};
 use twinstep::Real;
 
 /// One explicit step of the 1-D heat equation `u_t = u_xx`, fixed ends.
@@ -77,7 +78,9 @@ macro_rules! lens_rows {
         [
             ("twin f64", row!(f64, $steps), Some(1.05)),
             ("Bound", row!(Bound, $steps), Some(8.0)),
+            ("Bound unw.", row!(BoundUnwatched, $steps), Some(8.0)),
             ("Shadow", row!(Shadow, $steps), Some(15.0)),
+            ("Shadow unw.", row!(ShadowUnwatched, $steps), Some(15.0)),
             ("Interval", row!(Interval, $steps / 4), None),
         ]
     }};

@@ -3,7 +3,7 @@
 //! the literal modes switch what a literal's reference holds.
 
 use twinstep::events::{drain, EventKind};
-use twinstep::lens::{with_literal_mode, Bound, Interval, Lens, LiteralMode, Shadow};
+use twinstep::lens::{with_literal_mode, Bound, BoundUnwatched, Interval, Lens, LiteralMode, Shadow, ShadowUnwatched};
 use twinstep::{BaseOps, Constant, MixedOps, Real, RefOps};
 
 /// A kernel-like mix of everything the rewrite emits; its f64 instance is the reference for the primals.
@@ -121,4 +121,18 @@ fn pi_as_written_is_pi() {
     let gap = shadow.shadow().1;
     assert!((gap - 1.224_646_799_147_353_2e-16).abs() < 1e-31, "{gap:e}");
     assert!((gap - std::f64::consts::PI.sin()).abs() < 1e-31);
+}
+
+#[test]
+fn unwatched_lenses_skip_only_the_non_finite_events() {
+    let _ = drain();
+    let nan = BoundUnwatched::from_f64(0.0) / BoundUnwatched::from_f64(0.0);
+    assert!(nan.primal().is_nan());
+    let _ = ShadowUnwatched::from_f64(f64::MAX) * 2.0;
+    assert!(drain().is_empty());
+    // Branch instabilities are still recorded.
+    let _ = BoundUnwatched::new(1.0, 1e-9) < BoundUnwatched::from_f64(1.0);
+    let kinds: Vec<EventKind> = drain().into_iter().map(|(k, _, _)| k).collect();
+    assert_eq!(kinds, vec![EventKind::BranchInstability]);
+    assert_eq!(<BoundUnwatched as Lens>::NAME, "bound-unwatched");
 }

@@ -49,16 +49,24 @@ const FLOOR: f64 = 8.0 * f64::MIN_POSITIVE;
 /// A value with a guaranteed error radius: the exact result of the same computation in real arithmetic lies in
 /// `[primal − radius, primal + radius]`.
 #[derive(Clone, Copy, Debug)]
-pub struct Bound {
+pub struct BoundOf<const WATCH: bool> {
     primal: f64,
     radius: f64,
 }
 
-impl Bound {
+/// The lens as audits use it: every operation watches for NaN/∞ and records the event at the caller's line.
+pub type Bound = BoundOf<true>;
+
+/// The same lens without the per-operation NaN/∞ test: the reference and every other event are the same, a
+/// non-finite value still propagates (and shows in the field), but the operation producing it is not recorded.
+/// Loops over it can vectorize; see the benchmark in `docs/lenses.md`.
+pub type BoundUnwatched = BoundOf<false>;
+
+impl<const W: bool> BoundOf<W> {
     /// A value `primal` whose exact counterpart is known to lie within `radius` of it.
     #[must_use]
-    pub fn new(primal: f64, radius: f64) -> Bound {
-        Bound { primal, radius: radius.abs() }
+    pub fn new(primal: f64, radius: f64) -> Self {
+        Self { primal, radius: radius.abs() }
     }
 
     /// The guaranteed radius (infinite once the bound is lost, e.g. after a division by an enclosure of zero).
@@ -83,30 +91,32 @@ impl Bound {
 
     /// The primal with the smallest radius whose ball contains the enclosure `out`: `max|out − primal|`,
     /// computed outward by inari. An empty `out` (a domain error) loses the bound.
-    fn around(primal: f64, out: inari::Interval) -> Bound {
+    fn around(primal: f64, out: inari::Interval) -> Self {
         if out.is_empty() || !primal.is_finite() {
-            return Bound { primal, radius: f64::INFINITY };
+            return Self { primal, radius: f64::INFINITY };
         }
-        Bound { primal, radius: (out - interval(primal, primal)).mag() }
+        Self { primal, radius: (out - interval(primal, primal)).mag() }
     }
 }
 
-impl Core for Bound {
+impl<const W: bool> Core for BoundOf<W> {
+    const WATCH: bool = W;
+
     #[inline(always)]
     fn primal(self) -> f64 {
         self.primal
     }
 
     #[inline(always)]
-    fn exact(value: f64) -> Bound {
-        Bound { primal: value, radius: 0.0 }
+    fn exact(value: f64) -> Self {
+        Self { primal: value, radius: 0.0 }
     }
 
     #[inline]
-    fn with_reference(value: f64, reference: &Reference) -> Bound {
+    fn with_reference(value: f64, reference: &Reference) -> Self {
         // |value − x| ≤ |value − hi| + |lo| + |x − hi − lo|
         let radius = (value - reference.hi).abs() + reference.lo.abs() + reference.err;
-        Bound { primal: value, radius: if radius == 0.0 { 0.0 } else { radius_of(0.0, radius) } }
+        Self { primal: value, radius: if radius == 0.0 { 0.0 } else { radius_of(0.0, radius) } }
     }
 
     #[inline(always)]
@@ -117,37 +127,37 @@ impl Core for Bound {
     }
 
     #[inline(always)]
-    fn orders(self, rhs: Bound) -> Orders {
+    fn orders(self, rhs: Self) -> Orders {
         let (a_lo, a_hi) = self.range();
         let (b_lo, b_hi) = rhs.range();
         Orders::of_ranges(a_lo, a_hi, b_lo, b_hi)
     }
 
     #[inline(always)]
-    fn add(self, rhs: Bound) -> Bound {
+    fn add(self, rhs: Self) -> Self {
         let c = self.primal + rhs.primal;
         // |c − (X + Y)| ≤ u|c| + r + s  (addition is exact in the subnormal range, no η)
-        Bound { primal: c, radius: radius_of(c, self.radius + rhs.radius) }
+        Self { primal: c, radius: radius_of(c, self.radius + rhs.radius) }
     }
 
     #[inline(always)]
-    fn sub(self, rhs: Bound) -> Bound {
+    fn sub(self, rhs: Self) -> Self {
         let c = self.primal - rhs.primal;
         // |c − (X − Y)| ≤ u|c| + r + s
-        Bound { primal: c, radius: radius_of(c, self.radius + rhs.radius) }
+        Self { primal: c, radius: radius_of(c, self.radius + rhs.radius) }
     }
 
     #[inline(always)]
-    fn mul(self, rhs: Bound) -> Bound {
+    fn mul(self, rhs: Self) -> Self {
         let (x, r, y, s) = (self.primal, self.radius, rhs.primal, rhs.radius);
         let c = x * y;
         // |XY − xy| ≤ |x|s + r(|y| + s);  |c − xy| ≤ u|c| + η/2 (η inside `radius_of`)
-        Bound { primal: c, radius: radius_of(c, x.abs().mul_add(s, r * (y.abs() + s))) }
+        Self { primal: c, radius: radius_of(c, x.abs().mul_add(s, r * (y.abs() + s))) }
     }
 
     #[inline(always)]
     #[track_caller]
-    fn div(self, rhs: Bound) -> Bound {
+    fn div(self, rhs: Self) -> Self {
         let (r, y, s) = (self.radius, rhs.primal, rhs.radius);
         let c = self.primal / y;
         // |X/Y − x/y| ≤ (r + |x/y|·s)/(|y| − s) for |y| > s, with |x/y| ≤ |c|(1 + 2u) + η;
@@ -159,12 +169,12 @@ impl Core for Bound {
         if divisor_holds_zero && s > 0.0 {
             record(EventKind::DivisionByZeroEnclosure);
         }
-        Bound { primal: c, radius: if divisor_holds_zero { f64::INFINITY } else { radius } }
+        Self { primal: c, radius: if divisor_holds_zero { f64::INFINITY } else { radius } }
     }
 
     #[inline]
     #[track_caller]
-    fn rem(self, rhs: Bound) -> Bound {
+    fn rem(self, rhs: Self) -> Self {
         let (x, r, y, s) = (self.primal, self.radius, rhs.primal, rhs.radius);
         let c = x % y; // exact in IEEE 754 (fmod): c = x − q·y with q = trunc(x/y)
                        // Along the primal's path the quotient q stays: |(X − qY) − c| ≤ r + |q|·s with |q| ≤ |x/y|.
@@ -173,36 +183,36 @@ impl Core for Bound {
         if (s > 0.0 || r > 0.0) && quotients.inf().trunc() != quotients.sup().trunc() {
             record(EventKind::BranchInstability); // the exact quotient may truncate to another integer
         }
-        Bound { primal: c, radius: radius_of(0.0, r + quotient_bound * s) }
+        Self { primal: c, radius: radius_of(0.0, r + quotient_bound * s) }
     }
 
     #[inline(always)]
-    fn neg(self) -> Bound {
-        Bound { primal: -self.primal, radius: self.radius }
+    fn neg(self) -> Self {
+        Self { primal: -self.primal, radius: self.radius }
     }
 
     #[inline(always)]
-    fn mul_add(self, a: Bound, b: Bound) -> Bound {
+    fn mul_add(self, a: Self, b: Self) -> Self {
         let (x, r, y, s) = (self.primal, self.radius, a.primal, a.radius);
         let c = x.mul_add(y, b.primal);
         // one rounding: |c − (xy + z)| ≤ u|c| + η/2;  propagated |x|s + r(|y| + s) + t
-        Bound { primal: c, radius: radius_of(c, x.abs().mul_add(s, r * (y.abs() + s)) + b.radius) }
+        Self { primal: c, radius: radius_of(c, x.abs().mul_add(s, r * (y.abs() + s)) + b.radius) }
     }
 
     #[inline(always)]
-    fn abs(self) -> Bound {
+    fn abs(self) -> Self {
         // | |X| − |x| | ≤ |X − x|: the radius carries over.
-        Bound { primal: self.primal.abs(), radius: self.radius }
+        Self { primal: self.primal.abs(), radius: self.radius }
     }
 
     #[inline(always)]
     #[track_caller]
-    fn sqrt(self) -> Bound {
+    fn sqrt(self) -> Self {
         let (x, r) = (self.primal, self.radius);
         let c = x.sqrt(); // correctly rounded: |c − √x| ≤ u·c
                           // |√X − √x| = |X − x|/(√X + √x) ≤ r/√x, and ≤ √r always; √x ≥ c(1 − 2u).
         let propagated = (r / (c * (1.0 - 2.0 * U))).min(r.sqrt() * (1.0 + 2.0 * U));
-        Bound { primal: c, radius: radius_of(c, propagated) }
+        Self { primal: c, radius: radius_of(c, propagated) }
     }
 
     crate::enclosed_functions!(
@@ -211,16 +221,16 @@ impl Core for Bound {
     );
 }
 
-crate::lens_scalar!(Bound);
+crate::lens_scalar!(BoundOf);
 
-impl core::fmt::Display for Bound {
+impl<const W: bool> core::fmt::Display for BoundOf<W> {
     fn fmt(&self, f: &mut core::fmt::Formatter<'_>) -> core::fmt::Result {
         write!(f, "{} ± {:e}", self.primal, self.radius())
     }
 }
 
-impl Lens for Bound {
-    const NAME: &'static str = "bound";
+impl<const W: bool> Lens for BoundOf<W> {
+    const NAME: &'static str = if W { "bound" } else { "bound-unwatched" };
     const GUARANTEED: bool = true;
 
     fn error_estimate(self) -> f64 {

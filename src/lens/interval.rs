@@ -18,16 +18,24 @@ use crate::lens::Lens;
 
 /// A value with a guaranteed enclosure `[inf, sup]` of its exact counterpart.
 #[derive(Clone, Copy, Debug)]
-pub struct Interval {
+pub struct IntervalOf<const WATCH: bool> {
     primal: f64,
     enclosure: inari::Interval,
 }
 
-impl Interval {
+/// The lens as audits use it: every operation watches for NaN/∞ and records the event at the caller's line.
+pub type Interval = IntervalOf<true>;
+
+/// The same lens without the per-operation NaN/∞ test: the reference and every other event are the same, a
+/// non-finite value still propagates (and shows in the field), but the operation producing it is not recorded.
+/// Loops over it can vectorize; see the benchmark in `docs/lenses.md`.
+pub type IntervalUnwatched = IntervalOf<false>;
+
+impl<const W: bool> IntervalOf<W> {
     /// A primal with an enclosure (the enclosure is widened to hold the primal).
     #[must_use]
-    pub fn new(primal: f64, enclosure: inari::Interval) -> Interval {
-        Interval::around(primal, enclosure)
+    pub fn new(primal: f64, enclosure: inari::Interval) -> Self {
+        Self::around(primal, enclosure)
     }
 
     /// The enclosure of the exact value.
@@ -37,8 +45,8 @@ impl Interval {
     }
 
     /// The primal with `out` widened to hold it.
-    fn around(primal: f64, out: inari::Interval) -> Interval {
-        Interval { primal, enclosure: out.convex_hull(point(primal)) }
+    fn around(primal: f64, out: inari::Interval) -> Self {
+        Self { primal, enclosure: out.convex_hull(point(primal)) }
     }
 }
 
@@ -48,20 +56,22 @@ fn point(x: f64) -> inari::Interval {
     interval(x, x)
 }
 
-impl Core for Interval {
+impl<const W: bool> Core for IntervalOf<W> {
+    const WATCH: bool = W;
+
     #[inline(always)]
     fn primal(self) -> f64 {
         self.primal
     }
 
     #[inline(always)]
-    fn exact(value: f64) -> Interval {
-        Interval { primal: value, enclosure: point(value) }
+    fn exact(value: f64) -> Self {
+        Self { primal: value, enclosure: point(value) }
     }
 
     #[inline]
-    fn with_reference(value: f64, reference: &Reference) -> Interval {
-        Interval::around(value, interval(reference.down, reference.up))
+    fn with_reference(value: f64, reference: &Reference) -> Self {
+        Self::around(value, interval(reference.down, reference.up))
     }
 
     #[inline(always)]
@@ -70,7 +80,7 @@ impl Core for Interval {
     }
 
     #[inline(always)]
-    fn orders(self, rhs: Interval) -> Orders {
+    fn orders(self, rhs: Self) -> Orders {
         if self.enclosure.is_empty() || rhs.enclosure.is_empty() {
             return Orders::NONE;
         }
@@ -78,36 +88,36 @@ impl Core for Interval {
     }
 
     #[inline(always)]
-    fn add(self, rhs: Interval) -> Interval {
-        Interval { primal: self.primal + rhs.primal, enclosure: self.enclosure + rhs.enclosure }
+    fn add(self, rhs: Self) -> Self {
+        Self { primal: self.primal + rhs.primal, enclosure: self.enclosure + rhs.enclosure }
         // [a+c↓, b+d↑]
     }
 
     #[inline(always)]
-    fn sub(self, rhs: Interval) -> Interval {
-        Interval { primal: self.primal - rhs.primal, enclosure: self.enclosure - rhs.enclosure }
+    fn sub(self, rhs: Self) -> Self {
+        Self { primal: self.primal - rhs.primal, enclosure: self.enclosure - rhs.enclosure }
         // [a−d↓, b−c↑]
     }
 
     #[inline(always)]
-    fn mul(self, rhs: Interval) -> Interval {
+    fn mul(self, rhs: Self) -> Self {
         // [min(ac, ad, bc, bd)↓, max(…)↑] (inari's case table)
-        Interval { primal: self.primal * rhs.primal, enclosure: self.enclosure * rhs.enclosure }
+        Self { primal: self.primal * rhs.primal, enclosure: self.enclosure * rhs.enclosure }
     }
 
     #[inline(always)]
     #[track_caller]
-    fn div(self, rhs: Interval) -> Interval {
+    fn div(self, rhs: Self) -> Self {
         if rhs.enclosure.contains(0.0) && rhs.primal.is_finite() {
             record(EventKind::DivisionByZeroEnclosure);
         }
         // IEEE 1788 division: [a, b]/[c, d] with 0 ∉ [c, d] by the case table; half-lines or ℝ when 0 ∈ [c, d].
-        Interval::around(self.primal / rhs.primal, self.enclosure / rhs.enclosure)
+        Self::around(self.primal / rhs.primal, self.enclosure / rhs.enclosure)
     }
 
     #[inline]
     #[track_caller]
-    fn rem(self, rhs: Interval) -> Interval {
+    fn rem(self, rhs: Self) -> Self {
         let c = self.primal % rhs.primal; // exact: c = x − q·y
         let q = ((self.primal - c) / rhs.primal).round();
         let quotients = self.enclosure / rhs.enclosure;
@@ -115,23 +125,23 @@ impl Core for Interval {
             record(EventKind::BranchInstability); // the exact quotient may truncate to another integer
         }
         // Along the primal's path: X − q·Y.
-        Interval::around(c, self.enclosure - point(q) * rhs.enclosure)
+        Self::around(c, self.enclosure - point(q) * rhs.enclosure)
     }
 
     #[inline(always)]
-    fn neg(self) -> Interval {
-        Interval { primal: -self.primal, enclosure: -self.enclosure }
+    fn neg(self) -> Self {
+        Self { primal: -self.primal, enclosure: -self.enclosure }
     }
 
     #[inline(always)]
-    fn mul_add(self, a: Interval, b: Interval) -> Interval {
+    fn mul_add(self, a: Self, b: Self) -> Self {
         let primal = self.primal.mul_add(a.primal, b.primal);
-        Interval::around(primal, self.enclosure.mul_add(a.enclosure, b.enclosure))
+        Self::around(primal, self.enclosure.mul_add(a.enclosure, b.enclosure))
     }
 
     #[inline(always)]
-    fn abs(self) -> Interval {
-        Interval { primal: self.primal.abs(), enclosure: self.enclosure.abs() }
+    fn abs(self) -> Self {
+        Self { primal: self.primal.abs(), enclosure: self.enclosure.abs() }
     }
 
     crate::enclosed_functions!(
@@ -140,16 +150,16 @@ impl Core for Interval {
     );
 }
 
-crate::lens_scalar!(Interval);
+crate::lens_scalar!(IntervalOf);
 
-impl core::fmt::Display for Interval {
+impl<const W: bool> core::fmt::Display for IntervalOf<W> {
     fn fmt(&self, f: &mut core::fmt::Formatter<'_>) -> core::fmt::Result {
         write!(f, "{} ∈ [{:e}, {:e}]", self.primal, self.enclosure.inf(), self.enclosure.sup())
     }
 }
 
-impl Lens for Interval {
-    const NAME: &'static str = "interval";
+impl<const W: bool> Lens for IntervalOf<W> {
+    const NAME: &'static str = if W { "interval" } else { "interval-unwatched" };
     const GUARANTEED: bool = true;
 
     fn error_estimate(self) -> f64 {

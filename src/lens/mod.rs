@@ -21,10 +21,10 @@ pub mod reference;
 pub mod scalar;
 pub mod shadow;
 
-pub use bound::Bound;
-pub use interval::Interval;
+pub use bound::{Bound, BoundOf, BoundUnwatched};
+pub use interval::{Interval, IntervalOf, IntervalUnwatched};
 pub use reference::{literal_mode, set_literal_mode, with_literal_mode, LiteralMode, Reference};
-pub use shadow::Shadow;
+pub use shadow::{Shadow, ShadowOf, ShadowUnwatched};
 
 /// A scalar that tracks the rounding error of its primal.
 pub trait Lens: crate::Real {

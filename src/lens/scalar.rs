@@ -65,6 +65,9 @@ impl Orders {
 /// Each operation computes the primal exactly as the float program would (`a + b`, `x.exp()` in `f64`) and the
 /// lens's reference side alongside.
 pub trait Core: Copy + Sized {
+    /// Whether operations test their result for NaN/∞ and record the event at the caller (one predicted branch
+    /// per operation, which keeps loops from vectorizing; see `docs/lenses.md`).
+    const WATCH: bool = true;
     /// The number the float program computes.
     fn primal(self) -> f64;
     /// A double taken as exact (inputs, `f64` operands).
@@ -141,7 +144,7 @@ pub trait Core: Copy + Sized {
 #[inline(always)]
 #[track_caller]
 pub fn watch<T: Core>(out: T, operands_finite: impl FnOnce() -> bool) -> T {
-    if !out.primal().is_finite() {
+    if T::WATCH && !out.primal().is_finite() {
         non_finite(out.primal(), operands_finite());
     }
     out
@@ -223,87 +226,87 @@ macro_rules! lens_scalar {
     };
 
     (@binary $lens:ident; $($trait:ident $method:ident $assign_trait:ident $assign:ident),*) => {$(
-        impl ::core::ops::$trait for $lens {
-            type Output = $lens;
+        impl<const W: bool> ::core::ops::$trait for $lens<W> {
+            type Output = $lens<W>;
             #[inline(always)]
             #[track_caller]
-            fn $method(self, rhs: $lens) -> $lens {
+            fn $method(self, rhs: $lens<W>) -> $lens<W> {
                 use $crate::lens::scalar::Core as _;
                 let finite = || self.primal().is_finite() && rhs.primal().is_finite();
-                $crate::lens::scalar::watch(<$lens as $crate::lens::scalar::Core>::$method(self, rhs), finite)
+                $crate::lens::scalar::watch(<$lens<W> as $crate::lens::scalar::Core>::$method(self, rhs), finite)
             }
         }
-        impl<'a> ::core::ops::$trait<&'a $lens> for $lens {
-            type Output = $lens;
+        impl<'a, const W: bool> ::core::ops::$trait<&'a $lens<W>> for $lens<W> {
+            type Output = $lens<W>;
             #[inline(always)]
             #[track_caller]
-            fn $method(self, rhs: &'a $lens) -> $lens {
+            fn $method(self, rhs: &'a $lens<W>) -> $lens<W> {
                 ::core::ops::$trait::$method(self, *rhs)
             }
         }
-        impl<'a> ::core::ops::$trait<$lens> for &'a $lens {
-            type Output = $lens;
+        impl<'a, const W: bool> ::core::ops::$trait<$lens<W>> for &'a $lens<W> {
+            type Output = $lens<W>;
             #[inline(always)]
             #[track_caller]
-            fn $method(self, rhs: $lens) -> $lens {
+            fn $method(self, rhs: $lens<W>) -> $lens<W> {
                 ::core::ops::$trait::$method(*self, rhs)
             }
         }
-        impl<'a, 'b> ::core::ops::$trait<&'b $lens> for &'a $lens {
-            type Output = $lens;
+        impl<'a, 'b, const W: bool> ::core::ops::$trait<&'b $lens<W>> for &'a $lens<W> {
+            type Output = $lens<W>;
             #[inline(always)]
             #[track_caller]
-            fn $method(self, rhs: &'b $lens) -> $lens {
+            fn $method(self, rhs: &'b $lens<W>) -> $lens<W> {
                 ::core::ops::$trait::$method(*self, *rhs)
             }
         }
-        impl ::core::ops::$trait<f64> for $lens {
-            type Output = $lens;
+        impl<const W: bool> ::core::ops::$trait<f64> for $lens<W> {
+            type Output = $lens<W>;
             #[inline(always)]
             #[track_caller]
-            fn $method(self, rhs: f64) -> $lens {
-                ::core::ops::$trait::$method(self, <$lens as $crate::lens::scalar::Core>::exact(rhs))
+            fn $method(self, rhs: f64) -> $lens<W> {
+                ::core::ops::$trait::$method(self, <$lens<W> as $crate::lens::scalar::Core>::exact(rhs))
             }
         }
-        impl<'a> ::core::ops::$trait<f64> for &'a $lens {
-            type Output = $lens;
+        impl<'a, const W: bool> ::core::ops::$trait<f64> for &'a $lens<W> {
+            type Output = $lens<W>;
             #[inline(always)]
             #[track_caller]
-            fn $method(self, rhs: f64) -> $lens {
-                ::core::ops::$trait::$method(*self, <$lens as $crate::lens::scalar::Core>::exact(rhs))
+            fn $method(self, rhs: f64) -> $lens<W> {
+                ::core::ops::$trait::$method(*self, <$lens<W> as $crate::lens::scalar::Core>::exact(rhs))
             }
         }
-        impl ::core::ops::$trait<$lens> for f64 {
-            type Output = $lens;
+        impl<const W: bool> ::core::ops::$trait<$lens<W>> for f64 {
+            type Output = $lens<W>;
             #[inline(always)]
             #[track_caller]
-            fn $method(self, rhs: $lens) -> $lens {
-                ::core::ops::$trait::$method(<$lens as $crate::lens::scalar::Core>::exact(self), rhs)
+            fn $method(self, rhs: $lens<W>) -> $lens<W> {
+                ::core::ops::$trait::$method(<$lens<W> as $crate::lens::scalar::Core>::exact(self), rhs)
             }
         }
-        impl<'a> ::core::ops::$trait<&'a $lens> for f64 {
-            type Output = $lens;
+        impl<'a, const W: bool> ::core::ops::$trait<&'a $lens<W>> for f64 {
+            type Output = $lens<W>;
             #[inline(always)]
             #[track_caller]
-            fn $method(self, rhs: &'a $lens) -> $lens {
-                ::core::ops::$trait::$method(<$lens as $crate::lens::scalar::Core>::exact(self), *rhs)
+            fn $method(self, rhs: &'a $lens<W>) -> $lens<W> {
+                ::core::ops::$trait::$method(<$lens<W> as $crate::lens::scalar::Core>::exact(self), *rhs)
             }
         }
-        impl ::core::ops::$assign_trait for $lens {
+        impl<const W: bool> ::core::ops::$assign_trait for $lens<W> {
             #[inline(always)]
             #[track_caller]
-            fn $assign(&mut self, rhs: $lens) {
+            fn $assign(&mut self, rhs: $lens<W>) {
                 *self = ::core::ops::$trait::$method(*self, rhs);
             }
         }
-        impl<'a> ::core::ops::$assign_trait<&'a $lens> for $lens {
+        impl<'a, const W: bool> ::core::ops::$assign_trait<&'a $lens<W>> for $lens<W> {
             #[inline(always)]
             #[track_caller]
-            fn $assign(&mut self, rhs: &'a $lens) {
+            fn $assign(&mut self, rhs: &'a $lens<W>) {
                 *self = ::core::ops::$trait::$method(*self, *rhs);
             }
         }
-        impl ::core::ops::$assign_trait<f64> for $lens {
+        impl<const W: bool> ::core::ops::$assign_trait<f64> for $lens<W> {
             #[inline(always)]
             #[track_caller]
             fn $assign(&mut self, rhs: f64) {
@@ -311,207 +314,207 @@ macro_rules! lens_scalar {
             }
         }
     )*
-        impl ::core::ops::Neg for $lens {
-            type Output = $lens;
+        impl<const W: bool> ::core::ops::Neg for $lens<W> {
+            type Output = $lens<W>;
             #[inline(always)]
-            fn neg(self) -> $lens {
-                <$lens as $crate::lens::scalar::Core>::neg(self)
+            fn neg(self) -> $lens<W> {
+                <$lens<W> as $crate::lens::scalar::Core>::neg(self)
             }
         }
-        impl<'a> ::core::ops::Neg for &'a $lens {
-            type Output = $lens;
+        impl<'a, const W: bool> ::core::ops::Neg for &'a $lens<W> {
+            type Output = $lens<W>;
             #[inline(always)]
-            fn neg(self) -> $lens {
-                <$lens as $crate::lens::scalar::Core>::neg(*self)
+            fn neg(self) -> $lens<W> {
+                <$lens<W> as $crate::lens::scalar::Core>::neg(*self)
             }
         }
     };
 
     (@compare $lens:ident) => {
-        impl ::core::cmp::PartialEq for $lens {
+        impl<const W: bool> ::core::cmp::PartialEq for $lens<W> {
             #[inline(always)]
             #[track_caller]
-            fn eq(&self, rhs: &$lens) -> bool {
+            fn eq(&self, rhs: &$lens<W>) -> bool {
                 $crate::lens::scalar::compare(*self, *rhs, ::core::cmp::Ordering::is_eq)
             }
             #[allow(clippy::partialeq_ne_impl)]
             #[inline(always)]
             #[track_caller]
-            fn ne(&self, rhs: &$lens) -> bool {
+            fn ne(&self, rhs: &$lens<W>) -> bool {
                 !self.eq(rhs)
             }
         }
-        impl ::core::cmp::PartialOrd for $lens {
+        impl<const W: bool> ::core::cmp::PartialOrd for $lens<W> {
             #[inline(always)]
             #[track_caller]
-            fn partial_cmp(&self, rhs: &$lens) -> Option<::core::cmp::Ordering> {
+            fn partial_cmp(&self, rhs: &$lens<W>) -> Option<::core::cmp::Ordering> {
                 $crate::lens::scalar::order(*self, *rhs)
             }
             #[inline(always)]
             #[track_caller]
-            fn lt(&self, rhs: &$lens) -> bool {
+            fn lt(&self, rhs: &$lens<W>) -> bool {
                 $crate::lens::scalar::compare(*self, *rhs, ::core::cmp::Ordering::is_lt)
             }
             #[inline(always)]
             #[track_caller]
-            fn le(&self, rhs: &$lens) -> bool {
+            fn le(&self, rhs: &$lens<W>) -> bool {
                 $crate::lens::scalar::compare(*self, *rhs, ::core::cmp::Ordering::is_le)
             }
             #[inline(always)]
             #[track_caller]
-            fn gt(&self, rhs: &$lens) -> bool {
+            fn gt(&self, rhs: &$lens<W>) -> bool {
                 $crate::lens::scalar::compare(*self, *rhs, ::core::cmp::Ordering::is_gt)
             }
             #[inline(always)]
             #[track_caller]
-            fn ge(&self, rhs: &$lens) -> bool {
+            fn ge(&self, rhs: &$lens<W>) -> bool {
                 $crate::lens::scalar::compare(*self, *rhs, ::core::cmp::Ordering::is_ge)
             }
         }
-        $crate::lens_scalar!(@compare_mixed $lens, $lens, f64, |x: &f64| <$lens as $crate::lens::scalar::Core>::exact(*x), |x: &$lens| *x);
-        $crate::lens_scalar!(@compare_mixed $lens, f64, $lens, |x: &$lens| *x, |x: &f64| <$lens as $crate::lens::scalar::Core>::exact(*x));
+        $crate::lens_scalar!(@compare_mixed $lens, $lens<W>, f64, |x: &f64| <$lens<W> as $crate::lens::scalar::Core>::exact(*x), |x: &$lens<W>| *x);
+        $crate::lens_scalar!(@compare_mixed $lens, f64, $lens<W>, |x: &$lens<W>| *x, |x: &f64| <$lens<W> as $crate::lens::scalar::Core>::exact(*x));
     };
 
     (@compare_mixed $lens:ident, $left:ty, $right:ty, $lift_right:expr, $lift_left:expr) => {
-        impl ::core::cmp::PartialEq<$right> for $left {
+        impl<const W: bool> ::core::cmp::PartialEq<$right> for $left {
             #[inline(always)]
             #[track_caller]
             fn eq(&self, rhs: &$right) -> bool {
-                let (a, b): ($lens, $lens) = (($lift_left)(self), ($lift_right)(rhs));
+                let (a, b): ($lens<W>, $lens<W>) = (($lift_left)(self), ($lift_right)(rhs));
                 a == b
             }
         }
-        impl ::core::cmp::PartialOrd<$right> for $left {
+        impl<const W: bool> ::core::cmp::PartialOrd<$right> for $left {
             #[inline(always)]
             #[track_caller]
             fn partial_cmp(&self, rhs: &$right) -> Option<::core::cmp::Ordering> {
-                let (a, b): ($lens, $lens) = (($lift_left)(self), ($lift_right)(rhs));
+                let (a, b): ($lens<W>, $lens<W>) = (($lift_left)(self), ($lift_right)(rhs));
                 a.partial_cmp(&b)
             }
             #[inline(always)]
             #[track_caller]
             fn lt(&self, rhs: &$right) -> bool {
-                let (a, b): ($lens, $lens) = (($lift_left)(self), ($lift_right)(rhs));
+                let (a, b): ($lens<W>, $lens<W>) = (($lift_left)(self), ($lift_right)(rhs));
                 a < b
             }
             #[inline(always)]
             #[track_caller]
             fn le(&self, rhs: &$right) -> bool {
-                let (a, b): ($lens, $lens) = (($lift_left)(self), ($lift_right)(rhs));
+                let (a, b): ($lens<W>, $lens<W>) = (($lift_left)(self), ($lift_right)(rhs));
                 a <= b
             }
             #[inline(always)]
             #[track_caller]
             fn gt(&self, rhs: &$right) -> bool {
-                let (a, b): ($lens, $lens) = (($lift_left)(self), ($lift_right)(rhs));
+                let (a, b): ($lens<W>, $lens<W>) = (($lift_left)(self), ($lift_right)(rhs));
                 a > b
             }
             #[inline(always)]
             #[track_caller]
             fn ge(&self, rhs: &$right) -> bool {
-                let (a, b): ($lens, $lens) = (($lift_left)(self), ($lift_right)(rhs));
+                let (a, b): ($lens<W>, $lens<W>) = (($lift_left)(self), ($lift_right)(rhs));
                 a >= b
             }
         }
     };
 
     (@identities $lens:ident) => {
-        impl ::core::default::Default for $lens {
+        impl<const W: bool> ::core::default::Default for $lens<W> {
             #[inline(always)]
-            fn default() -> $lens {
-                <$lens as $crate::lens::scalar::Core>::exact(0.0)
+            fn default() -> $lens<W> {
+                <$lens<W> as $crate::lens::scalar::Core>::exact(0.0)
             }
         }
-        impl ::num_traits::Zero for $lens {
+        impl<const W: bool> ::num_traits::Zero for $lens<W> {
             #[inline(always)]
-            fn zero() -> $lens {
-                <$lens as $crate::lens::scalar::Core>::exact(0.0)
+            fn zero() -> $lens<W> {
+                <$lens<W> as $crate::lens::scalar::Core>::exact(0.0)
             }
             #[inline(always)]
             fn is_zero(&self) -> bool {
-                <$lens as $crate::lens::scalar::Core>::primal(*self) == 0.0
+                <$lens<W> as $crate::lens::scalar::Core>::primal(*self) == 0.0
             }
         }
-        impl ::num_traits::One for $lens {
+        impl<const W: bool> ::num_traits::One for $lens<W> {
             #[inline(always)]
-            fn one() -> $lens {
-                <$lens as $crate::lens::scalar::Core>::exact(1.0)
+            fn one() -> $lens<W> {
+                <$lens<W> as $crate::lens::scalar::Core>::exact(1.0)
             }
         }
         // The folds start where `f64`'s do, so the primal of a sum is bit-identical to the float program's.
-        impl ::core::iter::Sum for $lens {
+        impl<const W: bool> ::core::iter::Sum for $lens<W> {
             #[track_caller]
-            fn sum<I: Iterator<Item = $lens>>(iter: I) -> $lens {
-                let start = <$lens as $crate::lens::scalar::Core>::exact(::core::iter::empty::<f64>().sum());
+            fn sum<I: Iterator<Item = $lens<W>>>(iter: I) -> $lens<W> {
+                let start = <$lens<W> as $crate::lens::scalar::Core>::exact(::core::iter::empty::<f64>().sum());
                 iter.fold(start, |acc, x| acc + x)
             }
         }
-        impl<'a> ::core::iter::Sum<&'a $lens> for $lens {
+        impl<'a, const W: bool> ::core::iter::Sum<&'a $lens<W>> for $lens<W> {
             #[track_caller]
-            fn sum<I: Iterator<Item = &'a $lens>>(iter: I) -> $lens {
+            fn sum<I: Iterator<Item = &'a $lens<W>>>(iter: I) -> $lens<W> {
                 iter.copied().sum()
             }
         }
-        impl ::core::iter::Product for $lens {
+        impl<const W: bool> ::core::iter::Product for $lens<W> {
             #[track_caller]
-            fn product<I: Iterator<Item = $lens>>(iter: I) -> $lens {
-                let start = <$lens as $crate::lens::scalar::Core>::exact(::core::iter::empty::<f64>().product());
+            fn product<I: Iterator<Item = $lens<W>>>(iter: I) -> $lens<W> {
+                let start = <$lens<W> as $crate::lens::scalar::Core>::exact(::core::iter::empty::<f64>().product());
                 iter.fold(start, |acc, x| acc * x)
             }
         }
-        impl<'a> ::core::iter::Product<&'a $lens> for $lens {
+        impl<'a, const W: bool> ::core::iter::Product<&'a $lens<W>> for $lens<W> {
             #[track_caller]
-            fn product<I: Iterator<Item = &'a $lens>>(iter: I) -> $lens {
+            fn product<I: Iterator<Item = &'a $lens<W>>>(iter: I) -> $lens<W> {
                 iter.copied().product()
             }
         }
     };
 
     (@real $lens:ident) => {
-        impl $crate::Real for $lens {
+        impl<const W: bool> $crate::Real for $lens<W> {
             #[inline(always)]
-            fn lit(value: f64, text: &'static str) -> $lens {
+            fn lit(value: f64, text: &'static str) -> $lens<W> {
                 use $crate::lens::reference as r;
                 if r::is_exact_integer_literal(value, text) || r::literal_mode() == r::LiteralMode::AsCompiled {
-                    <$lens as $crate::lens::scalar::Core>::exact(value)
+                    <$lens<W> as $crate::lens::scalar::Core>::exact(value)
                 } else {
-                    <$lens as $crate::lens::scalar::Core>::with_reference(value, &r::literal_reference(value, text))
+                    <$lens<W> as $crate::lens::scalar::Core>::with_reference(value, &r::literal_reference(value, text))
                 }
             }
             #[inline(always)]
-            fn lit_f32(value: f32, text: &'static str) -> $lens {
-                <$lens as $crate::Real>::lit(f64::from(value), text)
+            fn lit_f32(value: f32, text: &'static str) -> $lens<W> {
+                <$lens<W> as $crate::Real>::lit(f64::from(value), text)
             }
             #[inline(always)]
-            fn from_f64(value: f64) -> $lens {
-                <$lens as $crate::lens::scalar::Core>::exact(value)
+            fn from_f64(value: f64) -> $lens<W> {
+                <$lens<W> as $crate::lens::scalar::Core>::exact(value)
             }
             #[inline(always)]
-            fn from_f32(value: f32) -> $lens {
-                <$lens as $crate::lens::scalar::Core>::exact(f64::from(value))
+            fn from_f32(value: f32) -> $lens<W> {
+                <$lens<W> as $crate::lens::scalar::Core>::exact(f64::from(value))
             }
             #[inline]
-            fn from_i128(value: i128) -> $lens {
+            fn from_i128(value: i128) -> $lens<W> {
                 let reference = $crate::lens::reference::integer_reference(value);
-                <$lens as $crate::lens::scalar::Core>::with_reference(value as f64, &reference)
+                <$lens<W> as $crate::lens::scalar::Core>::with_reference(value as f64, &reference)
             }
             #[inline]
-            fn from_u128(value: u128) -> $lens {
+            fn from_u128(value: u128) -> $lens<W> {
                 let reference = $crate::lens::reference::unsigned_reference(value);
-                <$lens as $crate::lens::scalar::Core>::with_reference(value as f64, &reference)
+                <$lens<W> as $crate::lens::scalar::Core>::with_reference(value as f64, &reference)
             }
             #[inline]
-            fn constant(c: $crate::Constant) -> $lens {
+            fn constant(c: $crate::Constant) -> $lens<W> {
                 use $crate::lens::reference as r;
                 if r::literal_mode() == r::LiteralMode::AsCompiled {
-                    <$lens as $crate::lens::scalar::Core>::exact(c.f64_value())
+                    <$lens<W> as $crate::lens::scalar::Core>::exact(c.f64_value())
                 } else {
-                    <$lens as $crate::lens::scalar::Core>::with_reference(c.f64_value(), &r::constant_reference(c))
+                    <$lens<W> as $crate::lens::scalar::Core>::with_reference(c.f64_value(), &r::constant_reference(c))
                 }
             }
             #[inline(always)]
             fn primal(self) -> f64 {
-                <$lens as $crate::lens::scalar::Core>::primal(self)
+                <$lens<W> as $crate::lens::scalar::Core>::primal(self)
             }
             #[inline]
             #[track_caller]
@@ -529,78 +532,78 @@ macro_rules! lens_scalar {
                 atan sinh cosh tanh);
             $crate::lens_scalar!(@binary_fn $lens: powf log atan2 hypot);
             #[inline(always)]
-            fn abs(self) -> $lens {
-                <$lens as $crate::lens::scalar::Core>::abs(self)
+            fn abs(self) -> $lens<W> {
+                <$lens<W> as $crate::lens::scalar::Core>::abs(self)
             }
             #[inline]
             #[track_caller]
-            fn recip(self) -> $lens {
-                <$lens as ::num_traits::One>::one() / self // f64::recip is 1/x
+            fn recip(self) -> $lens<W> {
+                <$lens<W> as ::num_traits::One>::one() / self // f64::recip is 1/x
             }
             #[inline]
             #[track_caller]
-            fn powi(self, n: i32) -> $lens {
+            fn powi(self, n: i32) -> $lens<W> {
                 let finite = || $crate::Real::primal(self).is_finite();
-                $crate::lens::scalar::watch(<$lens as $crate::lens::scalar::Core>::powi(self, n), finite)
+                $crate::lens::scalar::watch(<$lens<W> as $crate::lens::scalar::Core>::powi(self, n), finite)
             }
             #[inline]
             #[track_caller]
-            fn sin_cos(self) -> ($lens, $lens) {
-                (<$lens as $crate::Real>::sin(self), <$lens as $crate::Real>::cos(self))
+            fn sin_cos(self) -> ($lens<W>, $lens<W>) {
+                (<$lens<W> as $crate::Real>::sin(self), <$lens<W> as $crate::Real>::cos(self))
             }
             #[inline(always)]
             #[track_caller]
-            fn mul_add(self, a: $lens, b: $lens) -> $lens {
+            fn mul_add(self, a: $lens<W>, b: $lens<W>) -> $lens<W> {
                 let finite = || $crate::Real::primal(self).is_finite() && $crate::Real::primal(a).is_finite() && $crate::Real::primal(b).is_finite();
-                $crate::lens::scalar::watch(<$lens as $crate::lens::scalar::Core>::mul_add(self, a, b), finite)
+                $crate::lens::scalar::watch(<$lens<W> as $crate::lens::scalar::Core>::mul_add(self, a, b), finite)
             }
             #[inline]
             #[track_caller]
-            fn max(self, other: $lens) -> $lens {
+            fn max(self, other: $lens<W>) -> $lens<W> {
                 $crate::lens::scalar::select(self, other, f64::max)
             }
             #[inline]
             #[track_caller]
-            fn min(self, other: $lens) -> $lens {
+            fn min(self, other: $lens<W>) -> $lens<W> {
                 $crate::lens::scalar::select(self, other, f64::min)
             }
             #[inline]
             #[track_caller]
-            fn clamp(self, min: $lens, max: $lens) -> $lens {
+            fn clamp(self, min: $lens<W>, max: $lens<W>) -> $lens<W> {
                 // f64::clamp without its panic on min > max or NaN bounds: no panics on bad input.
                 let low = if self < min { min } else { self };
                 if low > max { max } else { low }
             }
             #[inline]
             #[track_caller]
-            fn signum(self) -> $lens {
+            fn signum(self) -> $lens<W> {
                 let s = $crate::lens::scalar::decide(self, |x| x.signum().to_bits(),
                     $crate::events::EventKind::BranchInstability);
-                <$lens as $crate::lens::scalar::Core>::exact(f64::from_bits(s))
+                <$lens<W> as $crate::lens::scalar::Core>::exact(f64::from_bits(s))
             }
             #[inline]
             #[track_caller]
-            fn copysign(self, sign: $lens) -> $lens {
-                let negative = <$lens as $crate::Real>::is_sign_negative(sign);
-                let magnitude = <$lens as $crate::lens::scalar::Core>::abs(self);
+            fn copysign(self, sign: $lens<W>) -> $lens<W> {
+                let negative = <$lens<W> as $crate::Real>::is_sign_negative(sign);
+                let magnitude = <$lens<W> as $crate::lens::scalar::Core>::abs(self);
                 if negative { -magnitude } else { magnitude }
             }
             $crate::lens_scalar!(@step $lens: floor ceil round trunc);
             #[inline]
             #[track_caller]
-            fn fract(self) -> $lens {
+            fn fract(self) -> $lens<W> {
                 // x.fract() = x − x.trunc(), exact in f64 (the subtraction of the integer part cannot round).
-                self - <$lens as $crate::Real>::trunc(self)
+                self - <$lens<W> as $crate::Real>::trunc(self)
             }
             #[inline]
-            fn to_degrees(self) -> $lens {
+            fn to_degrees(self) -> $lens<W> {
                 // f64::to_degrees multiplies by fl(180/π); the reference multiplies by 180/π itself.
-                self * <$lens as $crate::lens::scalar::Core>::with_reference(
+                self * <$lens<W> as $crate::lens::scalar::Core>::with_reference(
                     180.0f64 / ::core::f64::consts::PI, &$crate::lens::reference::degrees_per_radian())
             }
             #[inline]
-            fn to_radians(self) -> $lens {
-                self * <$lens as $crate::lens::scalar::Core>::with_reference(
+            fn to_radians(self) -> $lens<W> {
+                self * <$lens<W> as $crate::lens::scalar::Core>::with_reference(
                     ::core::f64::consts::PI / 180.0f64, &$crate::lens::reference::radians_per_degree())
             }
             #[inline(always)]
@@ -627,7 +630,7 @@ macro_rules! lens_scalar {
             }
             #[inline]
             #[track_caller]
-            fn total_cmp(&self, other: &$lens) -> ::core::cmp::Ordering {
+            fn total_cmp(&self, other: &$lens<W>) -> ::core::cmp::Ordering {
                 let _ = $crate::lens::scalar::order(*self, *other); // the instability, if any
                 $crate::Real::primal(*self).total_cmp(&$crate::Real::primal(*other))
             }
@@ -636,26 +639,26 @@ macro_rules! lens_scalar {
 
     (@constants $lens:ident: $($name:ident $value:ident),*) => {$(
         #[inline(always)]
-        fn $name() -> $lens {
-            <$lens as $crate::lens::scalar::Core>::exact(f64::$value)
+        fn $name() -> $lens<W> {
+            <$lens<W> as $crate::lens::scalar::Core>::exact(f64::$value)
         }
     )*};
 
     (@unary $lens:ident: $($name:ident)*) => {$(
         #[inline]
         #[track_caller]
-        fn $name(self) -> $lens {
+        fn $name(self) -> $lens<W> {
             let finite = || $crate::Real::primal(self).is_finite();
-            $crate::lens::scalar::watch(<$lens as $crate::lens::scalar::Core>::$name(self), finite)
+            $crate::lens::scalar::watch(<$lens<W> as $crate::lens::scalar::Core>::$name(self), finite)
         }
     )*};
 
     (@binary_fn $lens:ident: $($name:ident)*) => {$(
         #[inline]
         #[track_caller]
-        fn $name(self, other: $lens) -> $lens {
+        fn $name(self, other: $lens<W>) -> $lens<W> {
             let finite = || $crate::Real::primal(self).is_finite() && $crate::Real::primal(other).is_finite();
-            $crate::lens::scalar::watch(<$lens as $crate::lens::scalar::Core>::$name(self, other), finite)
+            $crate::lens::scalar::watch(<$lens<W> as $crate::lens::scalar::Core>::$name(self, other), finite)
         }
     )*};
 
@@ -663,10 +666,10 @@ macro_rules! lens_scalar {
     (@step $lens:ident: $($name:ident)*) => {$(
         #[inline]
         #[track_caller]
-        fn $name(self) -> $lens {
+        fn $name(self) -> $lens<W> {
             let n = $crate::lens::scalar::decide(self, |x| x.$name().to_bits(),
                 $crate::events::EventKind::BranchInstability);
-            <$lens as $crate::lens::scalar::Core>::exact(f64::from_bits(n))
+            <$lens<W> as $crate::lens::scalar::Core>::exact(f64::from_bits(n))
         }
     )*};
 }

@@ -22,16 +22,24 @@ use dashu_float::FBig;
 
 /// A value with a double-word shadow of the same computation.
 #[derive(Clone, Copy, Debug)]
-pub struct Shadow {
+pub struct ShadowOf<const WATCH: bool> {
     primal: f64,
     shadow: DoubleWord,
 }
 
-impl Shadow {
+/// The lens as audits use it: every operation watches for NaN/∞ and records the event at the caller's line.
+pub type Shadow = ShadowOf<true>;
+
+/// The same lens without the per-operation NaN/∞ test: the reference and every other event are the same, a
+/// non-finite value still propagates (and shows in the field), but the operation producing it is not recorded.
+/// Loops over it can vectorize; see the benchmark in `docs/lenses.md`.
+pub type ShadowUnwatched = ShadowOf<false>;
+
+impl<const W: bool> ShadowOf<W> {
     /// A primal with an explicit shadow `hi + lo`.
     #[must_use]
-    pub fn new(primal: f64, hi: f64, lo: f64) -> Shadow {
-        Shadow { primal, shadow: DoubleWord { hi, lo } }
+    pub fn new(primal: f64, hi: f64, lo: f64) -> Self {
+        Self { primal, shadow: DoubleWord { hi, lo } }
     }
 
     /// The shadow as the pair `(hi, lo)`.
@@ -69,15 +77,15 @@ impl Shadow {
         inside: bool,
         f: impl Fn(&Big) -> Big,
         fallback: fn(f64) -> f64,
-    ) -> Shadow {
+    ) -> Self {
         if let Some(shadow) = fast {
-            return Shadow { primal, shadow };
+            return Self { primal, shadow };
         }
         let shadow = match big(x) {
             Some(value) if inside => double_word(&f(&value)),
             _ => DoubleWord::from_f64(fallback(x.to_f64())),
         };
-        Shadow { primal, shadow }
+        Self { primal, shadow }
     }
 }
 
@@ -113,27 +121,29 @@ fn ln_of(n: u32) -> Big {
 /// Each tries the double-word function of [`dwmath`] first (see [`Shadow::high_precision`]).
 macro_rules! shadow_functions {
     ($($name:ident: |$x:ident| $inside:expr, $big:expr;)*) => {$(
-        fn $name(self) -> Shadow {
+        fn $name(self) -> Self {
             let $x = self.shadow;
-            Shadow::high_precision(self.primal.$name(), $x, dwmath::$name($x), $inside, $big, f64::$name)
+            Self::high_precision(self.primal.$name(), $x, dwmath::$name($x), $inside, $big, f64::$name)
         }
     )*};
 }
 
-impl Core for Shadow {
+impl<const W: bool> Core for ShadowOf<W> {
+    const WATCH: bool = W;
+
     #[inline(always)]
     fn primal(self) -> f64 {
         self.primal
     }
 
     #[inline(always)]
-    fn exact(value: f64) -> Shadow {
-        Shadow { primal: value, shadow: DoubleWord::from_f64(value) }
+    fn exact(value: f64) -> Self {
+        Self { primal: value, shadow: DoubleWord::from_f64(value) }
     }
 
     #[inline(always)]
-    fn with_reference(value: f64, reference: &Reference) -> Shadow {
-        Shadow { primal: value, shadow: DoubleWord { hi: reference.hi, lo: reference.lo } }
+    fn with_reference(value: f64, reference: &Reference) -> Self {
+        Self { primal: value, shadow: DoubleWord { hi: reference.hi, lo: reference.lo } }
     }
 
     #[inline(always)]
@@ -150,37 +160,37 @@ impl Core for Shadow {
     }
 
     #[inline(always)]
-    fn orders(self, rhs: Shadow) -> Orders {
+    fn orders(self, rhs: Self) -> Orders {
         self.shadow.partial_cmp(rhs.shadow).map_or(Orders::NONE, Orders::only)
     }
 
     #[inline(always)]
-    fn add(self, rhs: Shadow) -> Shadow {
-        Shadow { primal: self.primal + rhs.primal, shadow: self.shadow.add(rhs.shadow) }
+    fn add(self, rhs: Self) -> Self {
+        Self { primal: self.primal + rhs.primal, shadow: self.shadow.add(rhs.shadow) }
     }
 
     #[inline(always)]
-    fn sub(self, rhs: Shadow) -> Shadow {
-        Shadow { primal: self.primal - rhs.primal, shadow: self.shadow.sub(rhs.shadow) }
+    fn sub(self, rhs: Self) -> Self {
+        Self { primal: self.primal - rhs.primal, shadow: self.shadow.sub(rhs.shadow) }
     }
 
     #[inline(always)]
-    fn mul(self, rhs: Shadow) -> Shadow {
-        Shadow { primal: self.primal * rhs.primal, shadow: self.shadow.mul(rhs.shadow) }
+    fn mul(self, rhs: Self) -> Self {
+        Self { primal: self.primal * rhs.primal, shadow: self.shadow.mul(rhs.shadow) }
     }
 
     #[inline(always)]
     #[track_caller]
-    fn div(self, rhs: Shadow) -> Shadow {
+    fn div(self, rhs: Self) -> Self {
         if rhs.shadow.hi == 0.0 && rhs.primal != 0.0 {
             record(EventKind::DivisionByZeroEnclosure); // the shadow divides by zero where the primal does not
         }
-        Shadow { primal: self.primal / rhs.primal, shadow: self.shadow.div(rhs.shadow) }
+        Self { primal: self.primal / rhs.primal, shadow: self.shadow.div(rhs.shadow) }
     }
 
     #[inline]
     #[track_caller]
-    fn rem(self, rhs: Shadow) -> Shadow {
+    fn rem(self, rhs: Self) -> Self {
         let c = self.primal % rhs.primal; // exact: c = x − q·y with q = trunc(x/y)
         let q = ((self.primal - c) / rhs.primal).round();
         // Along the primal's path: X − q·Y in double-word arithmetic.
@@ -198,31 +208,31 @@ impl Core for Shadow {
         if q.is_finite() && quotient.is_finite() && truncated != q {
             record(EventKind::BranchInstability);
         }
-        Shadow { primal: c, shadow }
+        Self { primal: c, shadow }
     }
 
     #[inline(always)]
-    fn neg(self) -> Shadow {
-        Shadow { primal: -self.primal, shadow: self.shadow.neg() }
+    fn neg(self) -> Self {
+        Self { primal: -self.primal, shadow: self.shadow.neg() }
     }
 
     #[inline(always)]
-    fn mul_add(self, a: Shadow, b: Shadow) -> Shadow {
-        Shadow { primal: self.primal.mul_add(a.primal, b.primal), shadow: self.shadow.mul_add(a.shadow, b.shadow) }
+    fn mul_add(self, a: Self, b: Self) -> Self {
+        Self { primal: self.primal.mul_add(a.primal, b.primal), shadow: self.shadow.mul_add(a.shadow, b.shadow) }
     }
 
     #[inline(always)]
-    fn abs(self) -> Shadow {
+    fn abs(self) -> Self {
         let shadow = if self.shadow.hi < 0.0 { self.shadow.neg() } else { self.shadow };
-        Shadow { primal: self.primal.abs(), shadow }
+        Self { primal: self.primal.abs(), shadow }
     }
 
     #[inline]
-    fn sqrt(self) -> Shadow {
-        Shadow { primal: self.primal.sqrt(), shadow: self.shadow.sqrt() }
+    fn sqrt(self) -> Self {
+        Self { primal: self.primal.sqrt(), shadow: self.shadow.sqrt() }
     }
 
-    fn cbrt(self) -> Shadow {
+    fn cbrt(self) -> Self {
         // One Newton step y + (x − y³)/(3y²) from the double cube root, in double-word arithmetic.
         let x = self.shadow;
         let y = x.hi.cbrt();
@@ -233,7 +243,7 @@ impl Core for Shadow {
             let residual = x.sub(yy.mul(yy).mul(yy));
             yy.add(residual.div(yy.mul(yy).mul_f64(3.0)))
         };
-        Shadow { primal: self.primal.cbrt(), shadow }
+        Self { primal: self.primal.cbrt(), shadow }
     }
 
     shadow_functions! {
@@ -255,7 +265,7 @@ impl Core for Shadow {
         tanh: |x| true, Big::tanh;
     }
 
-    fn powi(self, n: i32) -> Shadow {
+    fn powi(self, n: i32) -> Self {
         // Binary powering in double-word arithmetic; x⁻ⁿ = 1/xⁿ.
         let mut base = self.shadow;
         let mut result = DoubleWord::from_f64(1.0);
@@ -268,30 +278,30 @@ impl Core for Shadow {
             k >>= 1;
         }
         let shadow = if n < 0 { DoubleWord::from_f64(1.0).div(result) } else { result };
-        Shadow { primal: self.primal.powi(n), shadow }
+        Self { primal: self.primal.powi(n), shadow }
     }
 
-    fn powf(self, n: Shadow) -> Shadow {
+    fn powf(self, n: Self) -> Self {
         let primal = self.primal.powf(n.primal);
         let exponent = n.shadow;
         if exponent.lo == 0.0 && exponent.hi.fract() == 0.0 && exponent.hi.abs() <= f64::from(i32::MAX) {
             let integer = Core::powi(self, exponent.hi as i32);
-            return Shadow { primal, shadow: integer.shadow };
+            return Self { primal, shadow: integer.shadow };
         }
         if let Some(shadow) = dwmath::powf(self.shadow, exponent) {
-            return Shadow { primal, shadow };
+            return Self { primal, shadow };
         }
         let shadow = match (big(self.shadow), big(exponent)) {
             (Some(x), Some(y)) if self.shadow.hi > 0.0 => double_word(&x.powf(&y)),
             _ => DoubleWord::from_f64(self.shadow.to_f64().powf(exponent.to_f64())),
         };
-        Shadow { primal, shadow }
+        Self { primal, shadow }
     }
 
-    fn log(self, base: Shadow) -> Shadow {
+    fn log(self, base: Self) -> Self {
         let primal = self.primal.log(base.primal);
         if let Some(shadow) = dwmath::log(self.shadow, base.shadow) {
-            return Shadow { primal, shadow };
+            return Self { primal, shadow };
         }
         let shadow = match (big(self.shadow), big(base.shadow)) {
             (Some(x), Some(b))
@@ -301,22 +311,22 @@ impl Core for Shadow {
             }
             _ => DoubleWord::from_f64(self.shadow.to_f64().log(base.shadow.to_f64())),
         };
-        Shadow { primal, shadow }
+        Self { primal, shadow }
     }
 
-    fn atan2(self, other: Shadow) -> Shadow {
+    fn atan2(self, other: Self) -> Self {
         let primal = self.primal.atan2(other.primal);
         if let Some(shadow) = dwmath::atan2(self.shadow, other.shadow) {
-            return Shadow { primal, shadow };
+            return Self { primal, shadow };
         }
         let shadow = match (big(self.shadow), big(other.shadow)) {
             (Some(y), Some(x)) if self.shadow.hi != 0.0 || other.shadow.hi != 0.0 => double_word(&y.atan2(&x)),
             _ => DoubleWord::from_f64(self.shadow.to_f64().atan2(other.shadow.to_f64())),
         };
-        Shadow { primal, shadow }
+        Self { primal, shadow }
     }
 
-    fn hypot(self, other: Shadow) -> Shadow {
+    fn hypot(self, other: Self) -> Self {
         let primal = self.primal.hypot(other.primal);
         // √(x² + y²) in double-word arithmetic; at the edges of the range, 160-bit dashu-float.
         let (x, y) = (self.shadow, other.shadow);
@@ -329,20 +339,20 @@ impl Core for Shadow {
                 _ => DoubleWord::from_f64(x.to_f64().hypot(y.to_f64())),
             }
         };
-        Shadow { primal, shadow }
+        Self { primal, shadow }
     }
 }
 
-crate::lens_scalar!(Shadow);
+crate::lens_scalar!(ShadowOf);
 
-impl core::fmt::Display for Shadow {
+impl<const W: bool> core::fmt::Display for ShadowOf<W> {
     fn fmt(&self, f: &mut core::fmt::Formatter<'_>) -> core::fmt::Result {
         write!(f, "{} (shadow {:e} {:+e})", self.primal, self.shadow.hi, self.shadow.lo)
     }
 }
 
-impl Lens for Shadow {
-    const NAME: &'static str = "shadow";
+impl<const W: bool> Lens for ShadowOf<W> {
+    const NAME: &'static str = if W { "shadow" } else { "shadow-unwatched" };
     const GUARANTEED: bool = false;
 
     fn error_estimate(self) -> f64 {
