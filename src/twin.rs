@@ -4,9 +4,10 @@
 //! through [`IndexCast`]: integers convert exactly as `as` would, and a [`Real`] converts its primal (Rust's
 //! saturating `as`) while a lens records an index instability when its reference rounds to another integer. A cast
 //! into the float type, `n as f64`, goes through [`IntoReal`]: integers round as `as` would in the primal format
-//! and are exact in the reference.
+//! and are exact in the reference. A bare constant name whose origin the rewrite cannot see (`PI` after a
+//! file-level `use std::f64::consts::PI`) goes through [`math_constant`].
 
-use crate::Real;
+use crate::{Constant, Real};
 
 /// A value a kernel converts into its float type with `as f64` (or `as f32`).
 pub trait IntoReal {
@@ -129,4 +130,46 @@ index_targets! {
     to_i32: i32, index_i128, i128;
     to_i64: i64, index_i128, i128;
     to_i128: i128, index_i128, i128;
+}
+
+/// A value that a bare constant name in a kernel may hold (`PI`, brought in by a `use` the attribute cannot see).
+pub trait ConstantValue: Copy {
+    /// Whether the value is, bit for bit, the constant as `std::f64::consts` (or `std::f32::consts`) has it.
+    fn is_constant(self, c: Constant) -> bool;
+    /// The value as an exact input.
+    fn exact<T: Real>(self) -> T;
+}
+
+impl ConstantValue for f64 {
+    #[inline(always)]
+    fn is_constant(self, c: Constant) -> bool {
+        self.to_bits() == c.f64_value().to_bits()
+    }
+    #[inline(always)]
+    fn exact<T: Real>(self) -> T {
+        T::from_f64(self)
+    }
+}
+
+impl ConstantValue for f32 {
+    #[inline(always)]
+    fn is_constant(self, c: Constant) -> bool {
+        self.to_bits() == c.f32_value().to_bits()
+    }
+    #[inline(always)]
+    fn exact<T: Real>(self) -> T {
+        T::from_f32(self)
+    }
+}
+
+/// A bare `PI` (or another constant's name) in a twin, where the rewrite cannot see where the name comes from:
+/// the constant itself (π, held exactly by a lens) when the value is the rounded constant bit for bit, otherwise the
+/// value as an exact input (a user's own `const PI: f64 = 3.14;`). With `T = f64` both give the value unchanged.
+#[inline(always)]
+pub fn math_constant<T: Real, V: ConstantValue>(value: V, c: Constant) -> T {
+    if value.is_constant(c) {
+        T::constant(c)
+    } else {
+        value.exact()
+    }
 }

@@ -49,6 +49,9 @@ pub struct Ctx {
     pub const_imports: BTreeMap<String, String>,
     /// Names of modules that stand for `std::f64::consts` (`use std::f64::consts;` or `use ... as c;`).
     pub const_modules: BTreeSet<String>,
+    /// Every name the item binds (`let` and closure patterns, parameters, `const` and `static` items): a bare
+    /// constant name such as `PI` that the item binds itself is the item's own value, not a math constant.
+    pub bound_names: BTreeSet<String>,
     /// Free functions whose plain calls (`heat(u)`) go to a twin of another name.
     pub renames: BTreeMap<String, String>,
     /// Methods whose calls through `self.` or `Self::` go to a twin of another name.
@@ -68,6 +71,7 @@ impl Ctx {
             module_consts: BTreeMap::new(),
             const_imports: BTreeMap::new(),
             const_modules: BTreeSet::new(),
+            bound_names: BTreeSet::new(),
             renames: BTreeMap::new(),
             method_renames: BTreeMap::new(),
         }

@@ -220,9 +220,30 @@ pub fn twin_name(ident: &syn::Ident) -> syn::Ident {
     format_ident!("{}_{}", ident, TWIN_SUFFIX, span = ident.span())
 }
 
+/// Records every name the item binds, for [`Ctx::bound_names`].
+fn collect_bound_names(ctx: &mut Ctx, item: &Item) {
+    struct Bindings<'a>(&'a mut BTreeSet<String>);
+    impl<'ast> Visit<'ast> for Bindings<'_> {
+        fn visit_pat_ident(&mut self, pat: &'ast syn::PatIdent) {
+            self.0.insert(pat.ident.to_string());
+            syn::visit::visit_pat_ident(self, pat);
+        }
+        fn visit_item_const(&mut self, item: &'ast syn::ItemConst) {
+            self.0.insert(item.ident.to_string());
+            syn::visit::visit_item_const(self, item);
+        }
+        fn visit_item_static(&mut self, item: &'ast syn::ItemStatic) {
+            self.0.insert(item.ident.to_string());
+            syn::visit::visit_item_static(self, item);
+        }
+    }
+    Bindings(&mut ctx.bound_names).visit_item(item);
+}
+
 /// Rejects what cannot be twinned, then builds the twins of one annotated item.
 pub fn twin_item(ctx: &mut Ctx, item: &Item) -> syn::Result<Vec<Item>> {
     choose_param(ctx, item);
+    collect_bound_names(ctx, item);
     if let Item::Mod(m) = item {
         collect_module_facts(ctx, m);
     }

@@ -8,6 +8,11 @@
 //! Constants are held by a lens as the real numbers they name; a module constant whose initializer is a literal
 //! keeps that literal's text, any other is taken as an exact input.
 //!
+//! A bare constant name the item neither binds nor imports (`PI` after a file-level `use std::f64::consts::PI`,
+//! which an attribute cannot see) becomes `::twinstep::twin::math_constant::<T, _>(PI, ::twinstep::Constant::PI)`:
+//! π itself when the value is bit for bit `std::f64::consts::PI`, the value as an exact input otherwise. `E` is
+//! left alone: as a bare name it is too often something else (a field, an energy, a compass point).
+//!
 //! A function of the float type (`f64::max`, `f64::sqrt`) leaves the implementing type to the arguments, `<_ as
 //! Real>`: the rewrite cannot see whether `f64::max(self.dt, self.dt_min)` takes two values that became `T` or two
 //! plain `f64` fields of a struct that stayed as it is, and `f64` implements `Real` too. Constants have no
@@ -129,6 +134,17 @@ impl PathRewriter<'_> {
     }
 }
 
+impl PathRewriter<'_> {
+    /// A bare constant name whose origin the rewrite cannot see: not bound by the item, not a module constant.
+    fn unseen_math_const(&self, path: &Path) -> Option<syn::Ident> {
+        let ident = path.get_ident()?;
+        let name = ident.to_string();
+        let candidate = MATH_CONSTS.contains(&name.as_str()) && name != "E";
+        let known = self.ctx.bound_names.contains(&name) || self.ctx.module_consts.contains_key(&name);
+        (candidate && !known).then(|| ident.clone())
+    }
+}
+
 impl VisitMut for PathRewriter<'_> {
     fn visit_expr_mut(&mut self, expr: &mut Expr) {
         let Expr::Path(p) = expr else {
@@ -144,6 +160,14 @@ impl VisitMut for PathRewriter<'_> {
         if let Some(name) = self.math_const(&p.path) {
             let name = syn::Ident::new(&name, span);
             replace_expr(expr, quote_spanned!(span=> #real::constant(::twinstep::Constant::#name)));
+            return;
+        }
+        if let Some(name) = self.unseen_math_const(&p.path) {
+            let t = self.ctx.param_at(span);
+            replace_expr(
+                expr,
+                quote_spanned!(span=> ::twinstep::twin::math_constant::<#t, _>(#name, ::twinstep::Constant::#name)),
+            );
             return;
         }
         let segments: Vec<&syn::Ident> = p.path.segments.iter().map(|s| &s.ident).collect();
