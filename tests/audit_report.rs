@@ -45,6 +45,8 @@ fn report_has_every_section() {
     let crossing = trace.events.iter().find(|e| e.kind == EventName::ToleranceCrossed && e.lens == "shadow");
     let step = crossing.unwrap().step;
     assert!(text.contains(&format!("First crossing: step {step}, field u, lens shadow")), "{text}");
+    // The verdict says the figures follow the f64 program's path past an unstable branch.
+    assert!(trace.summary.as_ref().unwrap().verdict.text.contains("another path"));
     // The caution is said once, at the end.
     assert_eq!(text.matches("licensed review").count(), 1);
 

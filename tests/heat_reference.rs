@@ -265,4 +265,6 @@ fn bound_lost_is_reported_with_both_numbers() {
     assert!(bound > 1e3 * estimate, "the bound should be far above the estimate when lost");
     let text = twinstep::report::render_text(&trace);
     assert!(text.contains("BOUND LOST"), "{text}");
+    let verdict = &trace.summary.as_ref().unwrap().verdict.text;
+    assert!(verdict.contains("rests on the estimate, not on a guarantee"), "{verdict}");
 }

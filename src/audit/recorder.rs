@@ -460,6 +460,39 @@ estimate of lens {} is {:.3e}, within tolerance; the gap between the two is the 
             }
         }
         let mut verdict = verdict::decide(&evidence, steps_done, horizon, &self.plan.tolerance.describe());
+        let mut notes = Vec::new();
+        if let Some(lost) = self.trace.events.iter().find(|e| e.kind == EventName::BoundLost) {
+            // Never hide it: an `enough` resting on an estimate is not a guarantee.
+            let note = format!(
+                "The guaranteed bound of lens {} for field {} was lost at step {} (bound {:.3e} against an estimate \
+of {:.3e}), so this verdict rests on the estimate, not on a guarantee.",
+                lost.lens,
+                lost.field.as_deref().unwrap_or("?"),
+                lost.step,
+                lost.bound.unwrap_or(f64::NAN),
+                lost.estimate.unwrap_or(f64::NAN)
+            );
+            notes.push(note);
+        }
+        let unstable: Vec<&EventTotal> = self
+            .totals
+            .values()
+            .filter(|t| matches!(t.kind, EventName::BranchInstability | EventName::IndexInstability))
+            .collect();
+        if let Some(first) = unstable.iter().min_by_key(|t| t.first_step) {
+            let sites: std::collections::BTreeSet<_> = unstable.iter().filter_map(|t| t.site.as_ref()).collect();
+            notes.push(format!(
+                "Branch or index instabilities at {} source site(s), first at step {} ({}): exact arithmetic could \
+have taken another path there, while the figures follow the path the f64 program took.",
+                sites.len(),
+                first.first_step,
+                first.site.as_ref().map_or_else(|| "no site".to_string(), ToString::to_string)
+            ));
+        }
+        if !notes.is_empty() {
+            // Before the closing caution, which stays last.
+            verdict.text = verdict.text.replace(verdict::CAUTION, &format!("{} {}", notes.join(" "), verdict::CAUTION));
+        }
         if let Some(m) = self.totals.values().find(|t| t.kind == EventName::PrimalMismatch) {
             // Said first: every number after it describes the twin's computation, not the original program's.
             verdict.text = format!(
