@@ -147,11 +147,11 @@ impl core::ops::Div for DoubleWord {
 }
 
 /// Keeps a non-finite result from dragging a NaN into `lo` (∞ − ∞ in the correction terms): an infinite `hi`
-/// carries `lo = 0`.
+/// carries `lo = 0`. Written with a bit mask rather than a branch, so that loops stay straight-line code.
 #[inline(always)]
 fn normal(hi: f64, lo: f64) -> DoubleWord {
-    let lo = if hi.is_finite() { lo } else { 0.0 };
-    DoubleWord { hi, lo }
+    let keep = u64::from(hi.abs() < f64::INFINITY).wrapping_neg(); // all ones when hi is finite, else 0
+    DoubleWord { hi, lo: f64::from_bits(lo.to_bits() & keep) }
 }
 
 /// TwoSum (Knuth, TAOCP vol. 2, §4.2.2; Møller 1965): `s = fl(a + b)` and `e` with `s + e = a + b` exactly.
