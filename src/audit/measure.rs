@@ -85,7 +85,9 @@ pub(crate) fn measure<L: Lens>(cells: &[L], tolerance: &Tolerance) -> FieldMeasu
         let err = magnitude(cell.error_estimate());
         let reference = cell.reference_value().abs();
         // relative error = |primal − exact| / |exact|, with the reference's value standing in for the exact one
-        let rel = if err == 0.0 {
+        // A cell that is 0 in the primal and in the reference has no relative error to speak of: its absolute
+        // error is only the slack of the lens's bound (a few subnormals), which would read as "no correct bit".
+        let rel = if err == 0.0 || (reference == 0.0 && primal == 0.0) {
             0.0
         } else if reference > 0.0 && reference.is_finite() {
             err / reference
