@@ -45,6 +45,19 @@ impl IntoReal for bool {
     }
 }
 
+/// `x as f64` where `x` already is a float: a no-op cast in the original (`(h * 0.5) as f64`), or a plain `f64`
+/// value (a struct field that stays `f64`) entering a twin. The identity when the value already is the twin's
+/// scalar type, else the primal taken as an exact input.
+impl<R: Real> IntoReal for R {
+    #[inline(always)]
+    fn into_real<T: Real>(self) -> T {
+        match (&self as &dyn core::any::Any).downcast_ref::<T>() {
+            Some(same) => *same,
+            None => T::from_f64(self.primal()),
+        }
+    }
+}
+
 /// `x as f64` where `x` is already of the twin's scalar type: the identity (the original cast was a no-op).
 #[inline(always)]
 pub fn same<T: Real>(x: T) -> T {
