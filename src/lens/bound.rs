@@ -10,10 +10,11 @@
 //! Numerical Algorithms", 2nd ed., §2.2, from memory):
 //! - rounding: `|fl(a∘b) − a∘b| ≤ u·|fl(a∘b)| + η/2` (the η term only for × and ÷ in the subnormal range);
 //! - a formula of k operations on non-negative doubles evaluated in round-to-nearest is at least `(1 − u)^k`
-//!   times its exact value (less k·η/2 for subnormal products), so one multiplication by `1 + 16u` plus 8η
-//!   at the end makes it an upper bound for k ≤ 10 — [`radius_of`], applied once per operation.
+//!   times its exact value (less k·η/2 for subnormal products), so scaling it by `1 + 16u` and adding a small
+//!   normal floor at the end makes it an upper bound for k ≤ 10 — [`radius_of`], two FMAs per operation.
 //!
-//! The hot operations are branch-free straight-line code (selects at most), so loops over `Bound` vectorize.
+//! The hot operations are branch-free straight-line code (selects at most); with the per-operation NaN/∞ watch
+//! switched off ([`BoundUnwatched`]) loops over them can vectorize.
 //! Elementary functions go through [`super::elementary`] (libm plus a documented allowance).
 
 use crate::events::{record, EventKind};
