@@ -234,3 +234,79 @@ proptest! {
         check_shadow!(q * 1e-3, ln_1p);
     }
 }
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(96))]
+
+    #[test]
+    fn more_functions_enclose(p in -3.0f64..3.0, q in -0.95f64..0.95, k in 10i32..60, t in position()) {
+        check_function!(p, k, t, atan);
+        check_function!(p, k, t, sinh);
+        check_function!(p, k, t, cosh);
+        check_function!(p * 0.5, k, t, tan);
+        check_function!(q, k, t, asin);
+        check_function!(q, k, t, acos);
+        check_function!(q * 1e-3, k, t, exp_m1);
+        check_function!(q * 1e-3, k, t, ln_1p);
+    }
+
+    #[test]
+    fn binary_functions_enclose(a in 0.1f64..10.0, b in -3.0f64..3.0, k in 10i32..60, t in position()) {
+        let (x, y) = (uncertain(a, k, t), uncertain(b, k + 5, 4 - t));
+        let (xb, yb) = (big_exact(a, k, t), big_exact(b, k + 5, 4 - t));
+        let at = |v: &Big| v.clone().with_precision(256).value();
+        assert_encloses(x.bound.powf(y.bound), x.interval.powf(y.interval), &at(&xb).powf(&at(&yb)), "powf")?;
+        assert_encloses(x.bound.hypot(y.bound), x.interval.hypot(y.interval), &at(&xb).hypot(&at(&yb)), "hypot")?;
+        assert_encloses(y.bound.atan2(x.bound), y.interval.atan2(x.interval), &at(&yb).atan2(&at(&xb)), "atan2")?;
+        let n = (b * 3.0) as i32;
+        assert_encloses(x.bound.powi(n), x.interval.powi(n), &at(&xb).powi(n.into()), "powi")?;
+    }
+
+    #[test]
+    fn integers_convert_exactly(v in any::<i64>(), w in any::<u64>()) {
+        // `n as f64` rounds; the reference holds the integer itself (dashu-ratio exact comparison).
+        let b = Bound::from_i128(i128::from(v) << 40);
+        assert_bound_holds(b, &(RBig::from(v) * RBig::from(1u64 << 40)), "from_i128")?;
+        let i = Interval::from_u128(u128::from(w));
+        assert_interval_holds(i, &RBig::from(w), "from_u128")?;
+    }
+}
+
+#[test]
+fn constants_match_inaris_enclosures() {
+    use twinstep::Constant;
+    // inari ships tight enclosures of the std constants (inari::Interval::PI etc.), an independent source.
+    let inari_value = |c: Constant| -> inari::Interval {
+        macro_rules! table {
+            ($($name:ident),*) => { match c { $(Constant::$name => inari::Interval::$name),* } };
+        }
+        table!(
+            PI,
+            TAU,
+            E,
+            SQRT_2,
+            LN_2,
+            LN_10,
+            LOG2_E,
+            LOG10_E,
+            LOG2_10,
+            LOG10_2,
+            FRAC_PI_2,
+            FRAC_PI_3,
+            FRAC_PI_4,
+            FRAC_PI_6,
+            FRAC_PI_8,
+            FRAC_1_PI,
+            FRAC_2_PI,
+            FRAC_2_SQRT_PI,
+            FRAC_1_SQRT_2
+        )
+    };
+    for c in Constant::ALL {
+        let ours = Interval::constant(c).enclosure();
+        let theirs = inari_value(c);
+        assert_eq!((ours.inf(), ours.sup()), (theirs.inf(), theirs.sup()), "{}", c.name());
+        let ball = Bound::constant(c);
+        assert!(ball.radius() < ball.primal().abs() * f64::EPSILON, "{}: {ball}", c.name());
+    }
+}
