@@ -6,11 +6,13 @@
 //! trace may hold only log-spaced ones. Without a summary (an incomplete run) the numbers come from the recorded
 //! steps and the report says so.
 
-use crate::trace::{Growth, Trace, Verdict};
+use crate::trace::{known, Growth, Trace, Verdict};
 
-/// The rounding-only caution every report carries.
-pub const CAUTION: &str = "twinstep judges rounding error only, not discretization or modelling error. Results that \
-feed safety-relevant engineering decisions go through local V&V practice and licensed review.";
+/// The rounding-only caution every report carries (the verdict module's wording).
+pub use twinstep::verdict::CAUTION;
+
+/// The float type of the kernels twinstep audits against: every lens's primal is binary64.
+pub const FLOAT: &str = "f64";
 
 /// One recorded point of an error history.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -26,6 +28,8 @@ pub struct Point {
 pub struct FieldLens {
     pub field: String,
     pub lens: String,
+    /// The lens gives guaranteed bounds (its records carry a `bound`); its `max_err` is then that bound too.
+    pub guaranteed: bool,
     pub points: Vec<Point>,
     pub first_crossing: Option<u64>,
     pub final_max_err: Option<f64>,
@@ -42,6 +46,14 @@ pub struct Analysis<'a> {
     pub trace: &'a Trace,
     /// Field-major, then lens in header order.
     pub outcomes: Vec<FieldLens>,
+}
+
+/// The outcomes that judge among `outcomes`: estimates when there are any (a guaranteed bound may grow by the
+/// dependency effect of enclosure arithmetic while the error does not), else the bounds. The verdict module
+/// judges the same way.
+pub fn judging(outcomes: &[FieldLens]) -> impl Iterator<Item = &FieldLens> {
+    let has_estimates = outcomes.iter().any(|o| !o.guaranteed);
+    outcomes.iter().filter(move |o| !has_estimates || !o.guaranteed)
 }
 
 /// The larger of two optional numbers; NaN never wins.
@@ -74,13 +86,14 @@ impl<'a> Analysis<'a> {
             .flat_map(|s| {
                 s.fields.iter().filter(|f| f.name == field).map(|f| Point {
                     step: s.step,
-                    max_err: f.max_err,
+                    max_err: known(f.max_err),
                     bound: f.bound,
-                    tol_ratio: f.tol_ratio,
+                    tol_ratio: known(f.tol_ratio),
                 })
             })
             .collect();
         points.sort_by_key(|p| p.step);
+        let guaranteed = points.iter().any(|p| p.bound.is_some());
         let peak_tol_ratio = points.iter().fold(None, |acc, p| max_opt(acc, p.tol_ratio));
         let crossing_in_steps = points.iter().find(|p| p.tol_ratio.is_some_and(|r| r > 1.0)).map(|p| p.step);
         let last = points.last().copied();
@@ -89,17 +102,19 @@ impl<'a> Analysis<'a> {
             Some(r) => FieldLens {
                 field: field.to_owned(),
                 lens: lens.to_owned(),
+                guaranteed,
                 first_crossing: r.first_crossing.or(crossing_in_steps),
-                final_max_err: r.final_max_err.or(last.and_then(|p| p.max_err)),
+                final_max_err: known(r.final_max_err).or(last.and_then(|p| p.max_err)),
                 final_bound: r.final_bound.or(last.and_then(|p| p.bound)),
                 peak_tol_ratio,
-                growth: r.growth.clone(),
+                growth: r.growth,
                 extrapolated_err: r.extrapolated_err,
                 points,
             },
             None => FieldLens {
                 field: field.to_owned(),
                 lens: lens.to_owned(),
+                guaranteed,
                 first_crossing: crossing_in_steps,
                 final_max_err: last.and_then(|p| p.max_err),
                 final_bound: last.and_then(|p| p.bound),
@@ -117,19 +132,19 @@ impl<'a> Analysis<'a> {
         self.trace.summary.as_ref().map(|s| &s.verdict)
     }
 
-    /// The float type the kernel computes in (the header's optional `float` member; f64 when absent).
-    #[must_use]
-    pub fn float_name(&self) -> &'a str {
-        self.trace.header.float.as_deref().unwrap_or("f64")
-    }
-
-    /// The outcome that drifts furthest towards (or past) the tolerance: the largest peak `err / allowed`.
+    /// The outcome that drifts furthest towards (or past) the tolerance: the largest peak `err / allowed`. The
+    /// estimates judge when the audit has a lens without a guarantee (a guaranteed bound may grow by the
+    /// dependency effect of enclosure arithmetic while the error does not), as the verdict does.
     #[must_use]
     pub fn worst(&self) -> Option<&FieldLens> {
-        self.outcomes
-            .iter()
+        self.judging()
             .filter(|o| o.peak_tol_ratio.is_some_and(f64::is_finite))
             .max_by(|a, b| a.peak_tol_ratio.partial_cmp(&b.peak_tol_ratio).unwrap_or(std::cmp::Ordering::Equal))
+    }
+
+    /// The outcomes that judge: those of lenses without a guarantee when the audit has any, else all.
+    pub fn judging(&self) -> impl Iterator<Item = &FieldLens> {
+        judging(&self.outcomes)
     }
 
     /// The sentence that answers "which field drifts, from which step, by how much".
@@ -157,8 +172,8 @@ impl<'a> Analysis<'a> {
     /// The verdict in one sentence.
     #[must_use]
     pub fn verdict_line(&self) -> String {
-        use crate::trace::VerdictStatus::{Enough, EnoughUntil, NotEnough};
-        let float = self.float_name();
+        use crate::trace::Status::{Enough, EnoughUntil, NotEnough};
+        let float = FLOAT;
         let Some(verdict) = self.verdict() else {
             return format!("none yet: the run is incomplete, so whether {float} is enough is not known.");
         };
@@ -182,13 +197,14 @@ impl<'a> Analysis<'a> {
         }
         let trace = self.trace;
         let reached = trace.last_step().map_or_else(|| "no step".to_owned(), |s| format!("step {s}"));
-        let planned = trace.header.steps_planned.map_or_else(String::new, |p| format!(" of {p} planned"));
+        let planned = trace.header.steps_audited.unwrap_or(trace.header.steps_planned);
+        let planned = format!(" of {planned} to audit");
         let why = if trace.summary.is_some() {
             "its summary says the run did not complete"
         } else {
             "it has no closing summary (the run was killed, failed, or is still going)"
         };
-        let cut = if trace.cut_last_line { " Its last line was cut off mid-write and is skipped." } else { "" };
+        let cut = if trace.truncated_tail { " Its last line was cut off mid-write and is skipped." } else { "" };
         Some(format!(
             "Incomplete run: the trace reaches {reached}{planned}; {why}. The numbers below cover the recorded steps \
              only.{cut}"

@@ -3,7 +3,7 @@
 //! cannot drift apart.
 
 use crate::analysis::{Analysis, FieldLens, CAUTION};
-use crate::trace::{Event, VerdictStatus};
+use crate::trace::{EventName, EventRecord, Status};
 
 /// How a cell or line should stand out, where the format can show it.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -70,7 +70,7 @@ pub fn sci(value: Option<f64>) -> String {
 #[must_use]
 pub fn ratio(value: Option<f64>) -> String {
     match value {
-        Some(r) if r >= 1e-3 && r.is_finite() => format!("{r:.3}"),
+        Some(r) if (1e-3..1e4).contains(&r) => format!("{r:.3}"),
         other => sci(other),
     }
 }
@@ -105,9 +105,9 @@ fn non_empty<'a>(text: &'a str, fallback: &'a str) -> &'a str {
 
 fn verdict_block(analysis: &Analysis<'_>) -> Block {
     let tone = match analysis.verdict().map(|v| v.status) {
-        Some(VerdictStatus::Enough) => Tone::Good,
-        Some(VerdictStatus::EnoughUntil) | None => Tone::Warn,
-        Some(VerdictStatus::NotEnough) => Tone::Bad,
+        Some(Status::Enough) => Tone::Good,
+        Some(Status::EnoughUntil) | None => Tone::Warn,
+        Some(Status::NotEnough) => Tone::Bad,
     };
     let explanation = analysis.verdict().map(|v| v.text.clone()).unwrap_or_default();
     Block::Verdict { line: analysis.verdict_line(), tone, explanation }
@@ -116,19 +116,24 @@ fn verdict_block(analysis: &Analysis<'_>) -> Block {
 fn facts(analysis: &Analysis<'_>) -> Vec<(String, String)> {
     let trace = analysis.trace;
     let header = &trace.header;
-    let steps = match (trace.summary.as_ref().map(|s| s.steps_done), header.steps_planned) {
-        (Some(done), Some(planned)) => format!("{done} of {planned} planned"),
-        (Some(done), None) => format!("{done}"),
-        (None, Some(planned)) => {
-            format!("{} recorded of {planned} planned", trace.last_step().map_or("none".to_owned(), |s| s.to_string()))
-        }
-        (None, None) => trace.last_step().map_or("none recorded".to_owned(), |s| format!("{s} recorded")),
+    let audited = header.steps_audited.unwrap_or(header.steps_planned);
+    let horizon = if audited < header.steps_planned {
+        format!(" (horizon {} planned)", header.steps_planned)
+    } else {
+        String::new()
+    };
+    let steps = match trace.summary.as_ref().map(|s| s.steps_done) {
+        Some(done) => format!("{done} of {audited} audited{horizon}"),
+        None => format!(
+            "{} recorded of {audited} to audit{horizon}",
+            trace.last_step().map_or("none".to_owned(), |s| format!("up to step {s}"))
+        ),
     };
     let fields: Vec<String> = header
         .fields
         .iter()
         .map(|f| {
-            let shape: Vec<String> = f.shape.iter().map(u64::to_string).collect();
+            let shape: Vec<String> = f.shape.iter().map(usize::to_string).collect();
             format!("{} [{}]", f.name, shape.join(" × "))
         })
         .collect();
@@ -136,10 +141,10 @@ fn facts(analysis: &Analysis<'_>) -> Vec<(String, String)> {
         ("scenario".to_owned(), non_empty(&header.scenario, "—").to_owned()),
         ("fields".to_owned(), fields.join(", ")),
         ("lenses".to_owned(), header.lenses.join(", ")),
-        ("tolerance".to_owned(), header.tolerance.to_string()),
+        ("tolerance".to_owned(), header.tolerance.describe()),
         ("steps".to_owned(), steps),
     ];
-    if let Some(wall) = trace.summary.as_ref().and_then(|s| s.wall_s) {
+    if let Some(wall) = trace.summary.as_ref().and_then(|s| crate::trace::known(s.wall_s)) {
         facts.push(("wall time".to_owned(), format!("{wall:.2} s")));
     }
     facts
@@ -147,11 +152,12 @@ fn facts(analysis: &Analysis<'_>) -> Vec<(String, String)> {
 
 fn outcome_table(analysis: &Analysis<'_>) -> Block {
     let head = ["field", "lens", "final error", "guaranteed bound", "peak err/allowed", "first crossing", "growth"];
-    let rows = analysis.outcomes.iter().map(outcome_row).collect();
+    let complete = analysis.trace.is_complete();
+    let rows = analysis.outcomes.iter().map(|o| outcome_row(o, complete)).collect();
     Block::Table { head: head.iter().map(|h| (*h).to_owned()).collect(), rows }
 }
 
-fn outcome_row(outcome: &FieldLens) -> Vec<Cell> {
+fn outcome_row(outcome: &FieldLens, complete: bool) -> Vec<Cell> {
     let crossed = outcome.first_crossing.is_some();
     let ratio_tone = match outcome.peak_tol_ratio {
         Some(r) if r > 1.0 => Tone::Bad,
@@ -166,14 +172,18 @@ fn outcome_row(outcome: &FieldLens) -> Vec<Cell> {
         Cell::plain(sci(outcome.final_bound)),
         Cell { text: ratio(outcome.peak_tol_ratio), tone: ratio_tone },
         Cell {
-            text: outcome.first_crossing.map_or("never".to_owned(), |s| format!("step {s}")),
+            text: match (outcome.first_crossing, complete) {
+                (Some(step), _) => format!("step {step}"),
+                (None, true) => "never".to_owned(),
+                (None, false) => "none so far".to_owned(),
+            },
             tone: if crossed { Tone::Bad } else { Tone::Good },
         },
-        Cell::plain(outcome.growth.as_ref().map_or("—".to_owned(), ToString::to_string)),
+        Cell::plain(outcome.growth.as_ref().map_or("—".to_owned(), crate::trace::Growth::describe)),
     ]
 }
 
-fn event_blocks(events: &[Event]) -> Vec<Block> {
+fn event_blocks(events: &[EventRecord]) -> Vec<Block> {
     if events.is_empty() {
         return vec![Block::Paragraph("No events: no NaN, infinity, undecided branch or index.".to_owned())];
     }
@@ -183,19 +193,19 @@ fn event_blocks(events: &[Event]) -> Vec<Block> {
         .take(MAX_LISTED_EVENTS)
         .map(|e| {
             let tone = match e.kind {
-                crate::trace::EventKind::Nan
-                | crate::trace::EventKind::Infinity
-                | crate::trace::EventKind::ToleranceCrossed => Tone::Bad,
+                EventName::Nan | EventName::Infinity | EventName::ToleranceCrossed | EventName::PrimalMismatch => {
+                    Tone::Bad
+                }
                 _ => Tone::Warn,
             };
             vec![
                 Cell::plain(e.step.to_string()),
-                Cell::plain(e.lens.clone().unwrap_or_else(|| "—".to_owned())),
-                Cell { text: e.kind.describe().to_owned(), tone },
+                Cell::plain(e.lens.clone()),
+                Cell { text: crate::trace::describe(e.kind).to_owned(), tone },
                 Cell::plain(e.field.clone().unwrap_or_else(|| "—".to_owned())),
                 Cell::plain(e.site.as_ref().map_or("—".to_owned(), ToString::to_string)),
                 Cell::plain(e.count.to_string()),
-                Cell::plain(e.detail.clone().unwrap_or_default()),
+                Cell::plain(e.detail.clone()),
             ]
         })
         .collect();

@@ -15,8 +15,7 @@
 //! A NaN or infinity event, a step without a number, or an incomplete run fails the gate too: none of them shows
 //! the whole run within tolerance.
 
-use crate::analysis::Analysis;
-use crate::trace::{EventKind, FieldStats, Tolerance, Trace};
+use crate::trace::{known, EventName, FieldStep, Tolerance, Trace};
 
 /// What the gate concluded: pass or not, and the lines that say why (first crossing first).
 #[derive(Clone, Debug, PartialEq, Eq)]
@@ -26,25 +25,25 @@ pub struct GateOutcome {
 }
 
 /// Why one step of one field fails, or `None` when it passes.
-fn step_failure(stats: &FieldStats, tolerance: Option<Tolerance>, precision: i32) -> Option<String> {
+fn step_failure(stats: &FieldStep, tolerance: Option<Tolerance>, precision: i32) -> Option<String> {
     let missing = |what: &str| Some(format!("no {what} recorded (NaN or missing)"));
     match tolerance {
-        None => match stats.tol_ratio {
+        None => match known(stats.tol_ratio) {
             Some(r) if r > 1.0 => Some(format!("err/allowed = {r:.3} > 1")),
             Some(r) if r.is_finite() => None,
             _ => missing("err/allowed"),
         },
-        Some(Tolerance::Absolute { atol }) => match stats.max_err {
+        Some(Tolerance::Absolute { atol }) => match known(stats.max_err) {
             Some(e) if e <= atol => None,
             Some(e) => Some(format!("max error {e:.3e} > atol {atol:.3e}")),
             None => missing("max error"),
         },
-        Some(Tolerance::Relative { rtol }) => match stats.max_rel_err {
+        Some(Tolerance::Relative { rtol }) => match known(stats.max_rel_err) {
             Some(e) if e <= rtol => None,
             Some(e) => Some(format!("max relative error {e:.3e} > rtol {rtol:.3e}")),
             None => missing("max relative error"),
         },
-        Some(Tolerance::Mixed { atol, rtol }) => match (stats.max_err, stats.max_rel_err) {
+        Some(Tolerance::Mixed { atol, rtol }) => match (known(stats.max_err), known(stats.max_rel_err)) {
             (Some(e), _) if e <= atol => None,
             (_, Some(r)) if r <= rtol => None,
             (Some(e), Some(r)) => Some(format!(
@@ -56,7 +55,7 @@ fn step_failure(stats: &FieldStats, tolerance: Option<Tolerance>, precision: i32
         Some(Tolerance::Ulps { ulps }) => {
             // Within k ulps whenever the relative error is at most k·2^-p (see the module comment).
             let limit = ulps * 2f64.powi(-precision);
-            match stats.max_rel_err {
+            match known(stats.max_rel_err) {
                 Some(r) if r <= limit => None,
                 Some(r) => Some(format!(
                     "max relative error {r:.3e} > {ulps}·2^-{precision} = {limit:.3e}: not shown within {ulps} ulps"
@@ -71,9 +70,8 @@ fn step_failure(stats: &FieldStats, tolerance: Option<Tolerance>, precision: i32
 /// empty).
 #[must_use]
 pub fn gate(trace: &Trace, tolerance: Option<Tolerance>, lenses: &[String]) -> GateOutcome {
-    let analysis = Analysis::of(trace);
-    // Precision p of the kernel's float type (IEEE 754-2019, table 3.2: binary64 p = 53, binary32 p = 24).
-    let precision = if analysis.float_name() == "f32" { 24 } else { 53 };
+    // Precision of the primal, binary64: p = 53 (IEEE 754-2019, table 3.2).
+    let precision = 53;
     let judged = |lens: &str| lenses.is_empty() || lenses.iter().any(|l| l == lens);
     let mut crossings: Vec<(u64, String)> = Vec::new();
     for field in &trace.header.fields {
@@ -104,10 +102,11 @@ pub fn gate(trace: &Trace, tolerance: Option<Tolerance>, lenses: &[String]) -> G
             }
         }
     }
-    for event in trace.events.iter().filter(|e| matches!(e.kind, EventKind::Nan | EventKind::Infinity)) {
-        if event.lens.as_deref().is_none_or(judged) {
+    for event in trace.events.iter().filter(|e| matches!(e.kind, EventName::Nan | EventName::Infinity)) {
+        if judged(&event.lens) {
             let site = event.site.as_ref().map_or_else(String::new, |s| format!(" at {s}"));
-            crossings.push((event.step, format!("{} at step {}{site}", event.kind.describe(), event.step)));
+            let what = crate::trace::describe(event.kind);
+            crossings.push((event.step, format!("{what} at step {} ({} lens){site}", event.step, event.lens)));
         }
     }
     crossings.sort_by_key(|(step, _)| *step);
@@ -117,7 +116,7 @@ pub fn gate(trace: &Trace, tolerance: Option<Tolerance>, lenses: &[String]) -> G
         lines.push(format!("incomplete run (the trace reaches {reached} and has no closing summary): the whole run is not shown within tolerance"));
     }
     if lines.is_empty() {
-        let tolerance = tolerance.unwrap_or(trace.header.tolerance);
+        let tolerance = tolerance.unwrap_or(trace.header.tolerance).describe();
         let steps = trace.summary.as_ref().map_or(0, |s| s.steps_done);
         lines.push(format!("pass: every field stays within tolerance ({tolerance}) for all {steps} steps"));
         GateOutcome { passed: true, lines }

@@ -45,7 +45,7 @@ pub fn plain(error: &std::io::Error) -> String {
 }
 
 /// Parses a trace held in memory (what [`read_trace`] does after opening the file); the error is the reader's,
-/// without a file name.
+/// without the file name.
 pub fn parse_trace(bytes: &[u8]) -> Result<Trace, trace::TraceError> {
     trace::parse(bytes)
 }

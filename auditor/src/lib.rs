@@ -3,6 +3,7 @@
 //! drive the reader and renderers in memory.
 
 pub mod analysis;
+pub mod demo;
 pub mod document;
 pub mod failure;
 pub mod gate;

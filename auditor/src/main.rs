@@ -57,6 +57,22 @@ Exit codes: 0 within tolerance, 1 a field crosses it (the first crossing is prin
         #[arg(long = "lens", value_name = "LENS")]
         lenses: Vec<String>,
     },
+    /// Run the built-in kiln-wall scenario through the audit driver and print its report.
+    #[command(after_help = "The kiln wall: conduction through a 48-cell wall at about 1300 K during a slow firing \
+ramp, two fields (T in kelvin, and rise = T - 1300 K, the same physics as an offset), lenses bound and shadow, \
+absolute rounding budget 1 nK.\n\
+Exit codes: 0 the report was written, 2 unwritable output, 3 the audit failed.")]
+    Demo {
+        /// Also write the HTML report to this file.
+        #[arg(long, value_name = "FILE")]
+        html: Option<PathBuf>,
+        /// Steps to run.
+        #[arg(long, value_name = "N", default_value_t = twinstep_cli::demo::DEFAULT_STEPS)]
+        steps: u64,
+        /// Where the trace goes [default: twinstep-demo.jsonl in the system's temporary directory].
+        #[arg(long, value_name = "FILE")]
+        trace: Option<PathBuf>,
+    },
     /// Build and run your audit harness through cargo, then print its report.
     #[command(after_help = "The harness (an example, binary or test of your crate) must write its trace to the path \
 in the TWINSTEP_TRACE environment variable, e.g. `Audit::new(..).trace(std::env::var(\"TWINSTEP_TRACE\")?)`.\n\
@@ -215,12 +231,29 @@ fn run(request: RunRequest, format: Format, output: Option<&Path>) -> Result<(),
     harness_failure.map_or(Ok(()), Err)
 }
 
+fn demo(html: Option<&Path>, steps: u64, trace: Option<&Path>) -> Result<(), Failure> {
+    if steps == 0 {
+        return Err(Failure::input("--steps must be at least 1"));
+    }
+    let trace_path = trace.map_or_else(|| std::env::temp_dir().join("twinstep-demo.jsonl"), Path::to_path_buf);
+    twinstep_cli::demo::run_with_progress(&trace_path, steps, std::io::stderr().is_terminal())?;
+    let trace = twinstep_cli::input::read_trace(&trace_path)?;
+    report_to(&trace, Format::Text, None)?;
+    if let Some(html) = html {
+        report_to(&trace, Format::Html, Some(html))?;
+        eprintln!("twinstep demo: HTML report written to {}", html.display());
+    }
+    eprintln!("twinstep demo: trace written to {}", trace_path.display());
+    Ok(())
+}
+
 fn main() -> ExitCode {
     let cli = Cli::parse();
     let result = match &cli.command {
         Command::Expand { file, item } => expand(file, item.as_deref()),
         Command::Report { trace, format, output } => report(trace, *format, output.as_deref()),
         Command::Gate { trace, tolerance, lenses } => gate(trace, tolerance, lenses),
+        Command::Demo { html, steps, trace } => demo(html.as_deref(), *steps, trace.as_deref()),
         Command::Run { harness, manifest_path, features, profile, target_dir, trace, format, output, args } => {
             let request = RunRequest {
                 harness: harness.resolve(),

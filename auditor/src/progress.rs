@@ -76,16 +76,21 @@ impl Progress {
 }
 
 /// Waits for the child, redrawing the bar on stderr from the trace at `path` as it grows.
-pub fn follow(path: &Path, child: &mut Child) -> std::io::Result<ExitStatus> {
+pub fn follow_child(path: &Path, child: &mut Child) -> std::io::Result<ExitStatus> {
+    follow(path, || child.try_wait())
+}
+
+/// Polls `finished` until it gives a result, redrawing the bar on stderr from the trace at `path` meanwhile.
+pub fn follow<R>(path: &Path, mut finished: impl FnMut() -> std::io::Result<Option<R>>) -> std::io::Result<R> {
     let mut progress = Progress::default();
     let mut offset = 0u64;
     let mut started: Option<Instant> = None;
     let mut stderr = std::io::stderr();
     loop {
-        if let Some(status) = child.try_wait()? {
+        if let Some(result) = finished()? {
             // Clear the bar's line (ECMA-48 EL, "erase in line", parameter 2).
             let _ = write!(stderr, "\r\x1b[2K");
-            return Ok(status);
+            return Ok(result);
         }
         if let Ok(mut file) = std::fs::File::open(path) {
             let mut fresh = Vec::new();

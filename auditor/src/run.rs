@@ -171,7 +171,7 @@ pub fn run(plan: &RunPlan, progress: bool) -> Result<(PathBuf, Option<Failure>),
     }
     let mut child =
         command(plan).spawn().map_err(|e| Failure::harness(format!("cannot start cargo: {}", plain(&e))))?;
-    let status = if progress { crate::progress::follow(&plan.trace, &mut child) } else { child.wait() }
+    let status = if progress { crate::progress::follow_child(&plan.trace, &mut child) } else { child.wait() }
         .map_err(|e| Failure::harness(format!("waiting for the harness: {}", plain(&e))))?;
     let name = plan.harness.name();
     let failed = (!status.success()).then(|| {

@@ -20,38 +20,46 @@ fn assert_input_error(args: &[&str], file: &str, wording: &str) {
 #[test]
 fn empty_trace() {
     let path = fixture("bad_empty.jsonl");
-    assert_input_error(&["report", path.to_str().unwrap()], "bad_empty.jsonl", "empty trace");
+    assert_input_error(&["report", path.to_str().unwrap()], "bad_empty.jsonl", "the trace is empty");
 }
 
 #[test]
 fn wrong_version() {
     let path = fixture("bad_wrong_version.jsonl");
-    assert_input_error(&["report", path.to_str().unwrap()], "bad_wrong_version.jsonl:1", "version 7 is not supported");
+    assert_input_error(&["report", path.to_str().unwrap()], "bad_wrong_version.jsonl", "version 7 is not known");
 }
 
 #[test]
 fn unknown_field() {
     let path = fixture("bad_unknown_field.jsonl");
-    assert_input_error(&["report", path.to_str().unwrap()], "bad_unknown_field.jsonl:2", "unknown field \"pressure\"");
+    assert_input_error(
+        &["report", path.to_str().unwrap()],
+        "bad_unknown_field.jsonl: step 0 of lens bound",
+        "unknown field \"pressure\"",
+    );
 }
 
 #[test]
 fn unknown_record_kind() {
     let path = fixture("bad_unknown_record.jsonl");
-    assert_input_error(&["report", path.to_str().unwrap()], "bad_unknown_record.jsonl:2", "unknown record kind");
+    assert_input_error(
+        &["report", path.to_str().unwrap()],
+        "bad_unknown_record.jsonl: line 2",
+        "unknown variant `checkpoint`",
+    );
 }
 
 #[test]
 fn corrupted_line() {
     let path = fixture("bad_corrupted.jsonl");
-    assert_input_error(&["gate", path.to_str().unwrap()], "bad_corrupted.jsonl:4", "record");
+    assert_input_error(&["gate", path.to_str().unwrap()], "bad_corrupted.jsonl: line 4", "not a valid trace record");
 }
 
 #[test]
 fn not_json_at_all() {
     let path = scratch("garbage.jsonl");
     std::fs::write(&path, b"\x00\xff\xfe this is not a trace\n").unwrap();
-    assert_input_error(&["report", path.to_str().unwrap()], "garbage.jsonl:1", "not valid JSON");
+    assert_input_error(&["report", path.to_str().unwrap()], "garbage.jsonl", "not a twinstep trace");
 }
 
 #[test]
@@ -63,7 +71,7 @@ fn enormous_line() {
     text.push('\n');
     let path = scratch("enormous.jsonl");
     std::fs::write(&path, text).unwrap();
-    assert_input_error(&["report", path.to_str().unwrap()], "enormous.jsonl:2", "line longer than 8 MiB");
+    assert_input_error(&["report", path.to_str().unwrap()], "enormous.jsonl: line 2", "longer than 8 MiB");
 }
 
 #[test]

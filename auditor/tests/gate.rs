@@ -53,12 +53,11 @@ fn lens_selection_and_unknown_lens() {
 
 /// A one-step trace whose field has the given max relative error.
 fn trace_with_relative_error(name: &str, rel: f64) -> std::path::PathBuf {
-    let header = r#"{"record":"header","format":"twinstep-trace","version":1,"kernel":"k","scenario":"s","lenses":["shadow"],"fields":[{"name":"u","shape":[4]}],"tolerance":{"kind":"absolute","atol":1.0},"steps_planned":1}"#;
+    let header = r#"{"record":"header","format":"twinstep-trace","version":1,"kernel":"k","scenario":"s","lenses":["shadow"],"fields":[{"name":"u","shape":[4]}],"tolerance":{"kind":"absolute","atol":1.0},"steps_planned":1,"record_policy":"every","machine":{"os":"linux","arch":"x86_64","cpus":2},"build":{"twinstep":"0.1.0","profile":"release","target_features":[]},"started_unix_s":0}"#;
     let step = format!(
         r#"{{"record":"step","step":1,"lens":"shadow","fields":[{{"name":"u","max_err":{rel:e},"mean_err":0,"max_rel_err":{rel:e},"mean_rel_err":0,"bound":null,"correct_bits":50,"worst_cell":[0],"tol_ratio":0}}]}}"#
     );
-    let summary =
-        r#"{"record":"summary","steps_done":1,"complete":true,"results":[],"verdict":{"status":"enough","text":""}}"#;
+    let summary = r#"{"record":"summary","steps_done":1,"complete":true,"wall_s":0.0,"results":[],"verdict":{"status":"enough","text":""}}"#;
     let path = scratch(name);
     std::fs::write(&path, format!("{header}\n{step}\n{summary}\n")).unwrap();
     path

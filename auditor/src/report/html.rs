@@ -75,7 +75,7 @@ fn figures(analysis: &Analysis<'_>, out: &mut String) {
         out,
     );
     for field in &analysis.trace.header.fields {
-        let outcomes: Vec<&FieldLens> = analysis.outcomes.iter().filter(|o| o.field == field.name).collect();
+        let outcomes: Vec<FieldLens> = analysis.outcomes.iter().filter(|o| o.field == field.name).cloned().collect();
         figure(
             plots::field_errors(&field.name, &outcomes, analysis.trace.header.tolerance),
             format!(

@@ -6,7 +6,7 @@
 //! A log axis cannot show zero or negative values, and a plot of nothing is no help: points without a positive
 //! finite value are left out, and a plot with no point left is not drawn (the caller says so in words).
 
-use crate::analysis::FieldLens;
+use crate::analysis::{judging, FieldLens};
 use crate::trace::{Profile, Tolerance};
 use plotters::coord::Shift;
 use plotters::prelude::*;
@@ -17,6 +17,8 @@ const HEIGHT: u32 = 380;
 /// Heat-map resolution cap: cells and snapshots beyond this are binned (max per bin), which keeps the SVG small.
 const MAX_HEAT_COLUMNS: usize = 160;
 const MAX_HEAT_ROWS: usize = 120;
+/// Decades a log axis spans at most: enough for an error history from 1e-17 to far past any tolerance.
+const MAX_DECADES: i32 = 24;
 
 /// Line colours, one per lens, distinguishable for the common colour-vision deficiencies (Okabe & Ito's palette,
 /// "Color Universal Design", 2008; from memory).
@@ -80,6 +82,10 @@ fn line_chart(
 ) -> Result<Option<String>, String> {
     let ys = lines.iter().flat_map(|l| l.points.iter().map(|p| p.1)).chain(reference.map(|r| r.0));
     let Some((y_lo, y_hi)) = log_range(ys) else { return Ok(None) };
+    // At most MAX_DECADES on the axis: a bound that ran away to 1e300 would otherwise squash everything else and
+    // make the log mesh enormous. Points above the top are drawn at the top.
+    let y_hi = y_hi.min(y_lo * 10f64.powi(MAX_DECADES));
+    let clamp = |points: &[(f64, f64)]| -> Vec<(f64, f64)> { points.iter().map(|&(x, y)| (x, y.min(y_hi))).collect() };
     let (x_lo, x_hi) = step_range(lines.iter().flat_map(|l| l.points.iter().map(|p| p.0 as u64)));
     let mut svg = String::new();
     {
@@ -94,6 +100,8 @@ fn line_chart(
             .map_err(failed)?;
         chart
             .configure_mesh()
+            .label_style(("sans-serif", 14))
+            .axis_desc_style(("sans-serif", 15))
             .x_desc("step")
             .y_desc(y_name)
             .y_label_formatter(&|v| format!("{v:.0e}"))
@@ -103,10 +111,11 @@ fn line_chart(
         for line in lines {
             let style = line.colour.stroke_width(2);
             let colour = line.colour;
+            let points = clamp(&line.points);
             let series = if line.dashed {
-                chart.draw_series(DashedLineSeries::new(line.points.iter().copied(), 6, 4, style))
+                chart.draw_series(DashedLineSeries::new(points, 6, 4, style))
             } else {
-                chart.draw_series(LineSeries::new(line.points.iter().copied(), style))
+                chart.draw_series(LineSeries::new(points, style))
             };
             series
                 .map_err(failed)?
@@ -123,6 +132,7 @@ fn line_chart(
         }
         chart
             .configure_series_labels()
+            .label_font(("sans-serif", 14))
             .background_style(WHITE.mix(0.85))
             .border_style(BLACK)
             .position(SeriesLabelPosition::UpperLeft)
@@ -135,32 +145,52 @@ fn line_chart(
 
 /// The error history of one field: per lens the estimate (solid) and the guaranteed bound (dashed), with the
 /// absolute part of the tolerance as a red line where the tolerance has one.
-pub fn field_errors(field: &str, outcomes: &[&FieldLens], tolerance: Tolerance) -> Result<Option<String>, String> {
-    let mut lines = Vec::new();
-    for (index, outcome) in outcomes.iter().enumerate() {
-        let estimate: Vec<(f64, f64)> =
-            outcome.points.iter().filter_map(|p| positive(p.max_err).map(|e| (p.step as f64, e))).collect();
-        let bound: Vec<(f64, f64)> =
-            outcome.points.iter().filter_map(|p| positive(p.bound).map(|b| (p.step as f64, b))).collect();
-        if !estimate.is_empty() {
-            let label = format!("{}: max error (estimate)", outcome.lens);
-            lines.push(Line { label, colour: colour(index), dashed: false, points: estimate });
-        }
-        if !bound.is_empty() {
-            let label = format!("{}: guaranteed bound", outcome.lens);
-            lines.push(Line { label, colour: colour(index), dashed: true, points: bound });
-        }
-    }
+pub fn field_errors(field: &str, outcomes: &[FieldLens], tolerance: Tolerance) -> Result<Option<String>, String> {
     let reference = match tolerance {
         Tolerance::Absolute { atol } => positive(Some(atol)).map(|a| (a, "tolerance (atol)")),
         Tolerance::Mixed { atol, .. } => positive(Some(atol)).map(|a| (a, "tolerance, absolute part (atol)")),
         Tolerance::Relative { .. } | Tolerance::Ulps { .. } => None,
     };
+    // A bound that has run away (the dependency effect) would squash the estimates into one line at the
+    // bottom: the axis stops three decades above the largest estimate and tolerance, and the bound is drawn
+    // clipped there, its label saying so.
+    let focus = judging(outcomes)
+        .flat_map(|o| o.points.iter().filter_map(|p| positive(p.max_err)))
+        .chain(reference.map(|r| r.0))
+        .fold(0.0_f64, f64::max);
+    let ceiling = if focus > 0.0 { focus * 1e3 } else { f64::INFINITY };
+    let mut lines = Vec::new();
+    for (index, outcome) in outcomes.iter().enumerate() {
+        let estimate: Vec<(f64, f64)> = outcome
+            .points
+            .iter()
+            .filter_map(|p| positive(p.max_err).map(|e| (p.step as f64, e.min(ceiling))))
+            .collect();
+        // A bound that overflowed to infinity is as lost as one above the ceiling: both are drawn at the ceiling.
+        let bound: Vec<(f64, f64)> = outcome
+            .points
+            .iter()
+            .filter_map(|p| p.bound.filter(|b| *b > 0.0).map(|b| (p.step as f64, b.min(ceiling))))
+            .collect();
+        if !estimate.is_empty() {
+            let label = format!("{}: max error (estimate)", outcome.lens);
+            lines.push(Line { label, colour: colour(index), dashed: false, points: estimate });
+        }
+        if !bound.is_empty() {
+            let clipped = bound.iter().any(|p| p.1 >= ceiling);
+            let label =
+                format!("{}: guaranteed bound{}", outcome.lens, if clipped { " (clipped at the top)" } else { "" });
+            lines.push(Line { label, colour: colour(index), dashed: true, points: bound });
+        }
+    }
     line_chart(&format!("rounding error in `{field}`"), "|primal − exact| (max over cells)", &lines, reference)
 }
 
 /// Every field and lens as `err / allowed`, against the tolerance line at 1: which field crosses, and when.
 pub fn tolerance_ratios(outcomes: &[FieldLens]) -> Result<Option<String>, String> {
+    // As in `field_errors`: three decades above what the judging lenses reach (and above the line at 1).
+    let ceiling =
+        1e3 * judging(outcomes).flat_map(|o| o.points.iter().filter_map(|p| positive(p.tol_ratio))).fold(1.0, f64::max);
     let lines: Vec<Line> = outcomes
         .iter()
         .enumerate()
@@ -168,7 +198,11 @@ pub fn tolerance_ratios(outcomes: &[FieldLens]) -> Result<Option<String>, String
             label: format!("{} ({})", o.field, o.lens),
             colour: colour(index),
             dashed: false,
-            points: o.points.iter().filter_map(|p| positive(p.tol_ratio).map(|r| (p.step as f64, r))).collect(),
+            points: o
+                .points
+                .iter()
+                .filter_map(|p| positive(p.tol_ratio).map(|r| (p.step as f64, r.min(ceiling))))
+                .collect(),
         })
         .filter(|l| !l.points.is_empty())
         .collect();
@@ -254,25 +288,31 @@ pub fn heat_map(field: &str, lens: &str, profiles: &[&Profile]) -> Result<Option
             .margin(12)
             .x_label_area_size(40)
             .y_label_area_size(70)
-            .build_cartesian_2d(0.0..width as f64, 0.0..rows as f64)
+            .build_cartesian_2d(0.0..width as f64, (0..rows as u32).into_segmented())
             .map_err(failed)?;
+        // One label per row at most a dozen times: each names the last step the row covers.
         chart
             .configure_mesh()
             .disable_mesh()
+            .label_style(("sans-serif", 14))
+            .axis_desc_style(("sans-serif", 15))
             .x_desc("cell")
             .y_desc("step")
+            .y_labels(rows.min(12))
             .x_label_formatter(&|v| format!("{v:.0}"))
-            .y_label_formatter(&|v| {
-                let row = (*v as usize).min(steps.len().saturating_sub(1));
-                steps.get(row).map_or_else(String::new, u64::to_string)
+            .y_label_formatter(&|v| match v {
+                SegmentValue::CenterOf(row) | SegmentValue::Exact(row) => {
+                    steps.get(*row as usize).map_or_else(String::new, u64::to_string)
+                }
+                SegmentValue::Last => String::new(),
             })
             .draw()
             .map_err(failed)?;
         let rectangles = grid.iter().enumerate().flat_map(|(row, (_, values))| {
             column_bins.iter().zip(values).filter_map(move |(cols, value)| {
                 value.map(|v| {
-                    let corner_a = (cols.start as f64, row as f64);
-                    let corner_b = (cols.end as f64, row as f64 + 1.0);
+                    let corner_a = (cols.start as f64, SegmentValue::Exact(row as u32));
+                    let corner_b = (cols.end as f64, SegmentValue::Exact(row as u32 + 1));
                     Rectangle::new([corner_a, corner_b], ramp((v - lo) / span).filled())
                 })
             })
@@ -289,6 +329,8 @@ pub fn heat_map(field: &str, lens: &str, profiles: &[&Profile]) -> Result<Option
         bar.configure_mesh()
             .disable_mesh()
             .disable_x_axis()
+            .label_style(("sans-serif", 13))
+            .axis_desc_style(("sans-serif", 14))
             .y_desc("log10 error")
             .y_label_formatter(&|v| format!("{v:.1}"))
             .draw()

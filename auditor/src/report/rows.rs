@@ -3,7 +3,7 @@
 //! through their JSON form, so the two formats cannot disagree.
 
 use crate::analysis::Analysis;
-use crate::trace::Trace;
+use crate::trace::{known, Trace};
 use serde::Serialize;
 
 /// The columns, in order.
@@ -54,15 +54,15 @@ pub fn rows(trace: &Trace) -> Vec<Row<'_>> {
                 step: step.step,
                 lens: &step.lens,
                 field: &f.name,
-                max_err: f.max_err,
-                mean_err: f.mean_err,
-                max_rel_err: f.max_rel_err,
-                mean_rel_err: f.mean_rel_err,
+                max_err: known(f.max_err),
+                mean_err: known(f.mean_err),
+                max_rel_err: known(f.max_rel_err),
+                mean_rel_err: known(f.mean_rel_err),
                 bound: f.bound,
-                correct_bits: f.correct_bits,
-                tol_ratio: f.tol_ratio,
-                within_tolerance: f.tol_ratio.map(|r| r <= 1.0),
-                worst_cell: f.worst_cell.iter().map(u64::to_string).collect::<Vec<_>>().join(";"),
+                correct_bits: known(f.correct_bits),
+                tol_ratio: known(f.tol_ratio),
+                within_tolerance: known(f.tol_ratio).map(|r| r <= 1.0),
+                worst_cell: f.worst_cell.iter().map(usize::to_string).collect::<Vec<_>>().join(";"),
                 representation_err: f.representation_err,
             })
         })
@@ -91,7 +91,7 @@ struct Document<'a> {
     verdict: Option<&'a crate::trace::Verdict>,
     verdict_line: String,
     outcomes: Vec<Outcome<'a>>,
-    events: &'a [crate::trace::Event],
+    events: &'a [crate::trace::EventRecord],
     rows: Vec<Row<'a>>,
     caution: &'static str,
 }
@@ -104,7 +104,7 @@ pub fn json(analysis: &Analysis<'_>) -> String {
         report: "twinstep-report",
         kernel: &trace.header.kernel,
         scenario: &trace.header.scenario,
-        float: analysis.float_name(),
+        float: crate::analysis::FLOAT,
         complete: trace.is_complete(),
         notice: analysis.incomplete_notice(),
         tolerance: &trace.header.tolerance,
