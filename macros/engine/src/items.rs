@@ -128,20 +128,26 @@ fn twin_attributes(original: &[Attribute]) -> Vec<Attribute> {
     attrs
 }
 
-/// The nested function items of an original body whose signature has no float, in the order a walk meets them.
+/// The items nested in an original body that the twin keeps as written, in the order a walk meets them: every
+/// item except functions with a float in their signature (which get their own type parameter) and the constants
+/// the hoister turns into `let`s.
 ///
-/// They are copied unchanged into the twin: a type parameter that appears in no parameter could not be inferred
-/// at their call sites, so a float literal in their body (`(n as f64 * 1.5) as usize`) must stay a plain `f64`.
-struct PlainNestedFns<'a> {
+/// An item cannot use the function's type parameter. A nested function without a float in its signature would
+/// leave that parameter uninferable at its call sites, so a float literal in its body (`(n as f64 * 1.5) as usize`)
+/// must stay a plain `f64`; a nested struct, enum, `impl` or `use` stays as written for the same reason.
+struct KeptNestedItems<'a> {
     ctx: &'a Ctx,
-    found: VecDeque<ItemFn>,
+    found: VecDeque<Item>,
 }
 
-impl<'ast> Visit<'ast> for PlainNestedFns<'_> {
+impl<'ast> Visit<'ast> for KeptNestedItems<'_> {
     fn visit_stmt(&mut self, stmt: &'ast Stmt) {
-        if let Stmt::Item(Item::Fn(f)) = stmt {
-            if !mentions_float(self.ctx, &f.sig) {
-                self.found.push_back(f.clone());
+        if let Stmt::Item(item) = stmt {
+            let twinned_fn = matches!(item, Item::Fn(f) if mentions_float(self.ctx, &f.sig));
+            if !twinned_fn {
+                if !crate::consts::hoists(self.ctx, item) {
+                    self.found.push_back(item.clone());
+                }
                 return;
             }
         }
@@ -150,34 +156,36 @@ impl<'ast> Visit<'ast> for PlainNestedFns<'_> {
 }
 
 /// Gives nested function items of a rewritten body their own type parameter (an item cannot use the outer one),
-/// and puts back the original of those without a float in their signature ([`PlainNestedFns`]).
+/// and puts back the original of every other nested item ([`KeptNestedItems`]).
 struct NestedFns<'a> {
     ctx: &'a Ctx,
-    plain: VecDeque<ItemFn>,
+    kept: VecDeque<Item>,
 }
 
 impl NestedFns<'_> {
-    /// Fixes the nested functions of `block`, the rewritten form of `original`.
+    /// Fixes the nested items of `block`, the rewritten form of `original`.
     fn fix(ctx: &Ctx, original: &syn::Block, block: &mut syn::Block) {
-        let mut plain = PlainNestedFns { ctx, found: VecDeque::new() };
-        plain.visit_block(original);
-        NestedFns { ctx, plain: plain.found }.visit_block_mut(block);
+        let mut kept = KeptNestedItems { ctx, found: VecDeque::new() };
+        kept.visit_block(original);
+        NestedFns { ctx, kept: kept.found }.visit_block_mut(block);
     }
 }
 
 impl VisitMut for NestedFns<'_> {
     fn visit_stmt_mut(&mut self, stmt: &mut Stmt) {
-        if let Stmt::Item(Item::Fn(f)) = stmt {
+        if let Stmt::Item(item) = stmt {
             let param = self.ctx.param.to_string();
-            let mentions_param = f.sig.to_token_stream().into_iter().any(|t| mentions_ident(&t, &param));
-            if mentions_param {
-                add_generics(self.ctx, &mut f.sig.generics);
-            } else {
-                // Both walks meet the plain functions in the same order, and neither descends into them.
-                if let Some(original) = self.plain.pop_front() {
-                    *f = original;
+            match item {
+                Item::Fn(f) if f.sig.to_token_stream().into_iter().any(|t| mentions_ident(&t, &param)) => {
+                    add_generics(self.ctx, &mut f.sig.generics);
                 }
-                return;
+                _ => {
+                    // Both walks meet the kept items in the same order, and neither descends into them.
+                    if let Some(original) = self.kept.pop_front() {
+                        *item = original;
+                    }
+                    return;
+                }
             }
         }
         syn::visit_mut::visit_stmt_mut(self, stmt);
