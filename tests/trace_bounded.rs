@@ -34,6 +34,13 @@ fn a_million_steps_write_a_few_hundred_lines() {
     let total: u64 = summary.event_totals.iter().map(|t| t.steps).sum();
     assert!(total > 400_000, "{total} event steps counted");
     assert!(read.events.len() < 64, "{} event records", read.events.len());
+    // Every written event has its two steps before and after recorded too (the auto policy's context).
+    let recorded: std::collections::BTreeSet<u64> = read.steps.iter().map(|s| s.step).collect();
+    for event in read.events.iter().filter(|e| e.step >= 2 && e.step + 2 <= STEPS) {
+        for around in event.step - 2..=event.step + 2 {
+            assert!(recorded.contains(&around), "step {around} around the event at step {}", event.step);
+        }
+    }
     // Log spacing: every decade from 10 to 10⁶ holds recorded steps, none holds more than 40.
     for decade in 1..6 {
         let (lo, hi) = (10u64.pow(decade), 10u64.pow(decade + 1));

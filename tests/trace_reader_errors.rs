@@ -9,15 +9,16 @@ use twinstep::audit::{Audit, Tolerance};
 use twinstep::lens::Shadow;
 use twinstep::trace::{self, ReadError};
 
-fn good_trace() -> String {
-    let path = scratch("trace_reader_errors").join("fold.jsonl");
+/// A complete trace, written in a directory of the calling test's own (tests run in parallel).
+fn good_trace(test: &str) -> String {
+    let path = scratch(test).join("fold.jsonl");
     Audit::new(&Fold, Tolerance::absolute(1e-3).unwrap(), 12).trace(&path).lens::<Shadow>().run().unwrap();
     std::fs::read_to_string(path).unwrap()
 }
 
 #[test]
 fn malformed_traces_are_errors() {
-    let good = good_trace();
+    let good = good_trace("trace_reader_malformed");
     let lines: Vec<&str> = good.lines().collect();
     let join = |ls: &[&str]| ls.iter().map(|l| format!("{l}\n")).collect::<String>();
     let header = lines[0];
@@ -62,7 +63,7 @@ fn malformed_traces_are_errors() {
 
 #[test]
 fn a_prefix_reads_as_an_incomplete_run() {
-    let good = good_trace();
+    let good = good_trace("trace_reader_prefix");
     assert!(trace::parse(&good).unwrap().is_complete());
     // Cut at every byte short of the summary's newline (without it the summary is still whole JSON): the reader
     // either reads an incomplete run or reports an error, and never panics.

@@ -117,13 +117,22 @@ pub struct Recorder {
     trace: Trace,
     tracks: Vec<Vec<Track>>,
     totals: BTreeMap<EventKey, EventTotal>,
-    /// Step records not written yet, kept as context for an event that may follow.
-    pending: VecDeque<Vec<StepRecord>>,
-    after_event: usize,
+    /// The last steps, held back until it is known whether an event follows within the context.
+    pending: VecDeque<Held>,
+    /// The latest step released with an event.
+    last_event_step: Option<u64>,
     next_log_step: u64,
     last_step: Option<u64>,
-    last_written_step: Option<u64>,
     started: Instant,
+}
+
+/// A step whose records wait for the next `EVENT_CONTEXT` steps: written if an event comes near it.
+#[derive(Debug)]
+struct Held {
+    step: u64,
+    records: Vec<StepRecord>,
+    events: Vec<EventRecord>,
+    on_log_grid: bool,
 }
 
 impl Recorder {
@@ -166,10 +175,9 @@ impl Recorder {
             tracks,
             totals: BTreeMap::new(),
             pending: VecDeque::new(),
-            after_event: 0,
+            last_event_step: None,
             next_log_step: 0,
             last_step: None,
-            last_written_step: None,
             started: Instant::now(),
         })
     }
@@ -216,27 +224,9 @@ impl Recorder {
         self.check_bounds(&steps, &mut events);
         let records: Vec<StepRecord> = steps.iter().enumerate().map(|(lens, s)| self.step_record(lens, s)).collect();
         let events: Vec<EventRecord> = events.into_iter().flatten().collect();
-        let every = self.plan.policy == RecordPolicy::Every;
-        if !events.is_empty() {
-            while let Some(context) = self.pending.pop_front() {
-                self.write_steps(context)?;
-            }
-            self.after_event = EVENT_CONTEXT;
-            self.write_steps(records)?;
-        } else if every || on_log_grid || self.after_event > 0 {
-            self.after_event = self.after_event.saturating_sub(1);
-            // Context older than a written step would come out of order: it is not context any more.
-            self.pending.clear();
-            self.write_steps(records)?;
-        } else {
-            if self.pending.len() == EVENT_CONTEXT {
-                self.pending.pop_front();
-            }
-            self.pending.push_back(records);
-        }
-        for event in events {
-            self.writer.write(&Record::Event(event.clone()))?;
-            self.trace.events.push(event);
+        self.pending.push_back(Held { step, records, events, on_log_grid });
+        while self.pending.len() > EVENT_CONTEXT {
+            self.release_front(false)?;
         }
         Ok(())
     }
@@ -402,9 +392,35 @@ estimate of lens {} is {:.3e}, within tolerance; the gap between the two is the 
         StepRecord { step: s.step, lens: self.lenses[lens].name.to_string(), fields }
     }
 
+    /// Writes the oldest held step — its records if the policy keeps them, then its events. The step is kept
+    /// when every step is, on the log grid, with an event within `EVENT_CONTEXT` steps on either side, or when
+    /// `last` (the run's final step).
+    fn release_front(&mut self, last: bool) -> Result<(), Error> {
+        let Some(held) = self.pending.pop_front() else { return Ok(()) };
+        let context = EVENT_CONTEXT as u64;
+        let event_before = self.last_event_step.is_some_and(|e| held.step - e <= context);
+        let event_after = self.pending.iter().any(|h| !h.events.is_empty() && h.step - held.step <= context);
+        if !held.events.is_empty() {
+            self.last_event_step = Some(held.step);
+        }
+        let keep = self.plan.policy == RecordPolicy::Every
+            || held.on_log_grid
+            || !held.events.is_empty()
+            || event_before
+            || event_after
+            || last;
+        if keep {
+            self.write_steps(held.records)?;
+        }
+        for event in held.events {
+            self.writer.write(&Record::Event(event.clone()))?;
+            self.trace.events.push(event);
+        }
+        Ok(())
+    }
+
     fn write_steps(&mut self, records: Vec<StepRecord>) -> Result<(), Error> {
         for record in records {
-            self.last_written_step = Some(record.step);
             self.writer.write(&Record::Step(record.clone()))?;
             self.trace.steps.push(record);
         }
@@ -414,10 +430,9 @@ estimate of lens {} is {:.3e}, within tolerance; the gap between the two is the 
     /// Ends a normal run: writes the last step if it is not written yet, then the summary with the verdict, and
     /// returns the whole trace as written.
     pub fn finish(mut self) -> Result<Trace, Error> {
-        if self.last_written_step != self.last_step {
-            if let Some(last) = self.pending.pop_back() {
-                self.write_steps(last)?;
-            }
+        while !self.pending.is_empty() {
+            let last = self.pending.len() == 1;
+            self.release_front(last)?;
         }
         let steps_done = self.last_step.unwrap_or(0);
         let horizon = self.plan.horizon.max(steps_done);
