@@ -1,6 +1,6 @@
 //! The report as a list of blocks (headings, paragraphs, tables, the verdict), built once from an [`Analysis`] and
-//! then written out by the terminal, Markdown and HTML renderers. Keeping the wording here means the three formats
-//! cannot drift apart.
+//! then written out by the Markdown and HTML renderers. Keeping the wording here means the two cannot drift
+//! apart. (The terminal text is the library's own report, `twinstep::report::render_text`.)
 
 use crate::analysis::{Analysis, FieldLens, CAUTION};
 use crate::trace::{EventName, EventRecord, Status};
@@ -109,7 +109,8 @@ fn verdict_block(analysis: &Analysis<'_>) -> Block {
         Some(Status::EnoughUntil) | None => Tone::Warn,
         Some(Status::NotEnough) => Tone::Bad,
     };
-    let explanation = analysis.verdict().map(|v| v.text.clone()).unwrap_or_default();
+    // The verdict's text ends with the caution, which closes every report anyway.
+    let explanation = analysis.verdict().map(|v| v.text.replace(CAUTION, "").trim_end().to_owned()).unwrap_or_default();
     Block::Verdict { line: analysis.verdict_line(), tone, explanation }
 }
 

@@ -1,4 +1,4 @@
-//! The report formats of `twinstep report`: the terminal text, Markdown for a pull request, per-step rows as JSON
+//! The report formats of `twinstep report`: the library's terminal text, Markdown for a pull request, per-step rows as JSON
 //! or CSV, and one self-contained HTML file with inline SVG plots.
 
 pub mod html;
@@ -29,7 +29,7 @@ pub enum Format {
 pub fn render(trace: &Trace, format: Format, colour: bool) -> String {
     let analysis = crate::analysis::Analysis::of(trace);
     match format {
-        Format::Text => text::render(&crate::document::build(&analysis), colour),
+        Format::Text => text::render(trace, colour),
         Format::Md => markdown::render(&crate::document::build(&analysis)),
         Format::Json => rows::json(&analysis),
         Format::Csv => rows::csv(trace),
