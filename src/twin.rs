@@ -153,26 +153,23 @@ pub trait ConstantValue: Copy {
     fn exact<T: Real>(self) -> T;
 }
 
-impl ConstantValue for f64 {
-    #[inline(always)]
-    fn is_constant(self, c: Constant) -> bool {
-        self.to_bits() == c.f64_value().to_bits()
-    }
-    #[inline(always)]
-    fn exact<T: Real>(self) -> T {
-        T::from_f64(self)
-    }
+macro_rules! constant_value {
+    ($($float:ty: $value:ident, $from:ident;)*) => {$(
+        impl ConstantValue for $float {
+            #[inline(always)]
+            fn is_constant(self, c: Constant) -> bool {
+                self.to_bits() == c.$value().to_bits()
+            }
+            #[inline(always)]
+            fn exact<T: Real>(self) -> T {
+                T::$from(self)
+            }
+        }
+    )*};
 }
-
-impl ConstantValue for f32 {
-    #[inline(always)]
-    fn is_constant(self, c: Constant) -> bool {
-        self.to_bits() == c.f32_value().to_bits()
-    }
-    #[inline(always)]
-    fn exact<T: Real>(self) -> T {
-        T::from_f32(self)
-    }
+constant_value! {
+    f64: f64_value, from_f64;
+    f32: f32_value, from_f32;
 }
 
 /// A bare `PI` (or another constant's name) in a twin, where the rewrite cannot see where the name comes from:
