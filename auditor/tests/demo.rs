@@ -1,0 +1,104 @@
+//! The demo's numbers against an oracle outside the project, and the `demo` command end to end.
+//!
+//! Oracle: the exact solution of the kiln-wall scheme from the demo's own f64 initial data, in exact rationals
+//! (dashu-ratio). For `u_i ← u_i + r (u_{i−1} − 2u_i + u_{i+1}) + h` with both faces `u ← u + h`, the solution
+//! splits into `n h` (a uniform shift has a zero second difference), the straight line `L_i` between the two
+//! initial face values (also a zero second difference, and the faces keep their offsets), and a remainder with
+//! zero faces that the scheme damps: in the 2-norm by at most `λ₁ = 1 − 4r sin²(π/(2(N−1)))` per step (the
+//! eigenvalues `1 − 4r sin²(kπ/(2(N−1)))` of the explicit scheme with fixed ends, all in [0, 1) for r = 1/4;
+//! von Neumann analysis, e.g. Strikwerda, "Finite Difference Schemes and PDEs", from memory). After 60 000 steps
+//! that remainder is below 1e-25 K, so `exact_i = n h + L_i` to far better than the checks need.
+
+mod common;
+use common::{scratch, stderr, stdout, twinstep};
+use dashu_ratio::RBig;
+use twinstep_cli::demo::kiln::{wall_step, Wall};
+
+const STEPS: u64 = 60_000;
+
+/// An f64 as an exact rational (every finite double is a dyadic rational, IEEE 754-2019 §3.2).
+fn rational(x: f64) -> RBig {
+    RBig::try_from(x).expect("finite double")
+}
+
+/// The demo's primal: the untouched original kernel, run `steps` times from `start`.
+fn primal(start: &[f64], wall: &Wall, steps: u64) -> Vec<f64> {
+    let (mut u, mut next) = (start.to_vec(), start.to_vec());
+    for _ in 0..steps {
+        wall_step(&u, &mut next, wall.r, wall.heat);
+        std::mem::swap(&mut u, &mut next);
+    }
+    u
+}
+
+/// max_i |primal_i − (n h + L_i)| in exact rationals, each rounded to f64 at the end; also the bound on the damped
+/// remainder, `λ₁ⁿ · ‖u⁰ − L‖₂`.
+fn oracle_error(start: &[f64], wall: &Wall, steps: u64) -> (f64, f64) {
+    let last = start.len() - 1;
+    let (left, right) = (rational(start[0]), rational(start[last]));
+    let line = |i: usize| &left + (&right - &left) * RBig::from(i) / RBig::from(last);
+    let shift = RBig::from(steps) * rational(wall.heat);
+    let computed = primal(start, wall, steps);
+    // Each exact difference is rounded to the nearest double once (relative 2^-53), then compared.
+    let difference = |(i, &u): (usize, &f64)| (rational(u) - &shift - line(i)).to_f64().value().abs();
+    let worst = computed.iter().enumerate().map(difference).fold(0.0, f64::max);
+    // λ₁ ≤ 1 − 4r (x − x³/6)² with x = π/(2(N−1)) (sin x ≥ x − x³/6 for x ≥ 0), and λ₁ⁿ ≤ exp(−n (1 − λ₁)).
+    // Evaluated in f64: its own rounding (relative 1e-15) does not matter for a bound compared with 1e-20.
+    let x = 3.141_592 / (2.0 * last as f64);
+    let decay = (-(steps as f64) * 4.0 * wall.r * (x - x.powi(3) / 6.0).powi(2)).exp();
+    let offset: f64 =
+        start.iter().enumerate().map(|(i, &u)| (rational(u) - line(i)).to_f64().value().powi(2)).sum::<f64>().sqrt();
+    (worst, decay * offset * 1.01)
+}
+
+#[test]
+fn shadow_estimates_match_the_exact_rational_solution() {
+    let wall = Wall::default();
+    let path = scratch("demo-oracle.jsonl");
+    twinstep_cli::demo::run(&path, STEPS).expect("the demo audit runs");
+    let trace = twinstep_cli::input::read_trace(&path).expect("the demo trace reads");
+    let summary = trace.summary.as_ref().expect("complete run");
+    let (temperature, rise) = wall.initial();
+    for (field, start) in [("T", &temperature), ("rise", &rise)] {
+        let result = summary.results.iter().find(|r| r.lens == "shadow" && r.field == field).expect("shadow result");
+        let (oracle, remainder) = oracle_error(start, &wall, STEPS);
+        assert!(remainder < 1e-20, "{field}: the damped remainder is negligible ({remainder:e})");
+        // The shadow's estimate is |primal − reference| rounded to f64: it agrees with the exact error to a
+        // relative 1e-12 (a double-double reference carries about 106 bits; the slack is generous).
+        let estimate = result.final_max_err;
+        assert!(
+            (estimate - oracle).abs() <= 1e-12 * oracle + remainder,
+            "{field}: shadow estimate {estimate:e} against the exact error {oracle:e}"
+        );
+    }
+    // The point of the demo: T's error is far larger than rise's (same physics, large background value).
+    let (t_err, _) = oracle_error(&temperature, &wall, STEPS);
+    let (rise_err, _) = oracle_error(&rise, &wall, STEPS);
+    assert!(t_err > 1e-9 && rise_err < 1e-12, "T {t_err:e}, rise {rise_err:e}");
+}
+
+#[test]
+fn demo_command_prints_the_report_and_writes_html() {
+    let html = scratch("demo.html");
+    let trace = scratch("demo-cli.jsonl");
+    let output =
+        twinstep(&["demo", "--steps", "3000", "--html", html.to_str().unwrap(), "--trace", trace.to_str().unwrap()]);
+    assert_eq!(output.status.code(), Some(0), "{}", stderr(&output));
+    let report = stdout(&output);
+    assert!(report.contains("twinstep audit of wall_step"), "{report}");
+    assert!(report.contains("Verdict:"), "{report}");
+    let page = std::fs::read_to_string(&html).expect("the HTML report");
+    assert!(page.matches("<svg").count() >= 3, "plots in the page");
+    let unwritable = scratch("");
+    let output = twinstep(&[
+        "demo",
+        "--steps",
+        "10",
+        "--html",
+        unwritable.to_str().unwrap(),
+        "--trace",
+        trace.to_str().unwrap(),
+    ]);
+    assert_eq!(output.status.code(), Some(2), "an unwritable --html is an input error");
+    assert!(stderr(&output).contains("cannot write"));
+}
