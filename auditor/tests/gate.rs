@@ -18,7 +18,7 @@ fn trace_tolerance_fails_at_first_crossing() {
     let (code, _, err) = gate(&[path.to_str().unwrap()]);
     assert_eq!(code, Some(1), "{err}");
     // The summary's first crossing (10435) comes before the first recorded step over the line (12000).
-    let first = err.lines().nth(0).unwrap();
+    let first = err.lines().next().unwrap();
     assert!(first.contains("field T (bound lens) crosses the tolerance at step 10435"), "{err}");
     assert!(!err.contains("field q"), "q stays within: {err}");
 }
