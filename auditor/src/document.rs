@@ -168,7 +168,8 @@ fn outcome_row(outcome: &FieldLens, complete: bool) -> Vec<Cell> {
     };
     vec![
         Cell::plain(outcome.field.clone()),
-        Cell::plain(outcome.lens.clone()),
+        // A guaranteed lens's error is its bound, which may run away while the error does not: say which it is.
+        Cell::plain(if outcome.guaranteed { format!("{} (guaranteed)", outcome.lens) } else { outcome.lens.clone() }),
         Cell::plain(sci(outcome.final_max_err)),
         Cell::plain(sci(outcome.final_bound)),
         Cell { text: ratio(outcome.peak_tol_ratio), tone: ratio_tone },
