@@ -202,3 +202,61 @@ pub fn next_up(x: f64) -> f64 {
 pub fn next_down(x: f64) -> f64 {
     -next_up(-x)
 }
+
+/// `s` moved by `steps` ∈ {−1, 0, 1} units in the last place towards +∞ (−1: towards −∞), for a finite non-zero
+/// `s`, as integer arithmetic on the bit pattern (IEEE 754-2019 §3.4: the encoding of same-signed doubles is
+/// monotone in their magnitude, so a step away from zero adds one to it). `f64::MAX` steps to +∞, which is the
+/// directed rounding of an overflow. Branch-free on purpose: whether a rounding error is positive is a coin
+/// toss, and a branch on it mispredicts half the time.
+#[inline(always)]
+fn step(s: f64, steps: i64) -> f64 {
+    let sign = (s.to_bits() >> 63) as i64; // 1 for negative s: a step towards +∞ shrinks the magnitude
+    let delta = steps * (1 - 2 * sign);
+    f64::from_bits(s.to_bits().wrapping_add(delta as u64))
+}
+
+/// The directed roundings of an exact value `s + e`, where `s` is its round-to-nearest double and `e` the exact
+/// remainder (from an error-free transformation): roundTowardNegative is `s` unless `e < 0`, then the double
+/// below `s`; roundTowardPositive likewise (IEEE 754-2019 §4.3.2). `e ≠ 0` implies `s ≠ 0` for the
+/// transformations used here, so [`step`] applies.
+#[inline(always)]
+#[must_use]
+pub fn round_down(s: f64, e: f64) -> f64 {
+    step(s, -i64::from(e < 0.0))
+}
+
+/// See [`round_down`]: `s + e` rounded towards +∞.
+#[inline(always)]
+#[must_use]
+pub fn round_up(s: f64, e: f64) -> f64 {
+    step(s, i64::from(e > 0.0))
+}
+
+/// Below this magnitude a product's or quotient's error term may underflow (its grid 2^(ea + eb − 104) would
+/// drop below 2^-1074); 2^-900 keeps a wide margin, and such tiny values take the slow path.
+pub const EFT_TINY: f64 = 1.0e-270; // ≈ 2^-897 > 2^-900
+
+/// `a · b` as its round-to-nearest product and the exact error, or `None` when the error may not be exact
+/// (non-finite product, or a product in the underflow margin [`EFT_TINY`] from non-zero factors).
+#[inline(always)]
+#[must_use]
+pub fn exact_product(a: f64, b: f64) -> Option<(f64, f64)> {
+    let (p, e) = two_prod(a, b);
+    // An exact zero factor gives an exact zero product; otherwise |a·b| ≥ 2^-897 leaves the error on the grid.
+    let exact = p.is_finite() && (p.abs() >= EFT_TINY || a == 0.0 || b == 0.0);
+    exact.then_some((p, e))
+}
+
+/// `a / b` as its round-to-nearest quotient q and the sign of the exact remainder `a/b − q`, or `None` when the
+/// residual may not be exact. The residual `a − q·b` is a double when nothing underflows (Bohlender, Walter,
+/// Kornerup, Matula 1991, from memory), and one FMA gives it exactly; `a/b − q = (a − q·b)/b`.
+#[inline(always)]
+#[must_use]
+pub fn exact_quotient(a: f64, b: f64) -> Option<(f64, f64)> {
+    let q = a / b;
+    let residual = (-q).mul_add(b, a); // a − q·b, exact
+    let exact =
+        q.is_finite() && b.is_finite() && b != 0.0 && (a == 0.0 || (q.abs() >= EFT_TINY && a.abs() >= EFT_TINY));
+    // The remainder a/b − q has the sign of residual/b; its magnitude does not matter to the directed roundings.
+    exact.then_some((q, if b > 0.0 { residual } else { -residual }))
+}
