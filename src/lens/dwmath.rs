@@ -7,9 +7,12 @@
 //! scheme in double-word arithmetic, and one Newton step from the `f64` libm value for the inverse functions
 //! (a Newton step doubles the number of correct bits: 53 → ~106).
 
-use crate::lens::eft::DoubleWord as Dw;
+use crate::lens::eft::{two_prod, DoubleWord as Dw};
 use crate::lens::reference::constant_reference;
 use crate::Constant;
+use dashu_float::round::mode::HalfEven;
+use dashu_float::FBig;
+use std::sync::OnceLock;
 
 fn dw(x: f64) -> Dw {
     Dw::from_f64(x)
@@ -19,6 +22,18 @@ fn dw(x: f64) -> Dw {
 fn constant(c: Constant) -> Dw {
     let r = constant_reference(c);
     Dw { hi: r.hi, lo: r.lo }
+}
+
+/// The third word of π/2: the double nearest π/2 − p₁ − p₂ (p₁ + p₂ the double-word constant), from π at 256 bits
+/// with dashu-float, once per process.
+fn half_pi_third_word() -> f64 {
+    static THIRD: OnceLock<f64> = OnceLock::new();
+    *THIRD.get_or_init(|| {
+        let half_pi = constant(Constant::FRAC_PI_2);
+        let words = |x: f64| FBig::<HalfEven>::try_from(x).unwrap_or_default();
+        let exact = FBig::<HalfEven>::pi(256) / FBig::<HalfEven>::from(2u8);
+        (exact - words(half_pi.hi) - words(half_pi.lo)).to_f64().value()
+    })
 }
 
 /// x·2^k, exact (both words scale by a power of two) for results in the normal range.
@@ -93,7 +108,13 @@ pub fn sin_cos(x: Dw) -> Option<(Dw, Dw)> {
     }
     let half_pi = constant(Constant::FRAC_PI_2);
     let k = (x.hi / half_pi.hi).round();
-    let r = x - half_pi.mul_f64(k);
+    // Cody–Waite reduction (Muller, Elementary Functions, §11.2, from memory): r = x − k·(p₁ + p₂ + p₃) with
+    // π/2 = p₁ + p₂ + p₃ to ~160 bits. k·p₁ and k·p₂ are exact double-words (TwoProd), so each subtraction errs
+    // relative to its own, cancelled, result; a double-word π/2 times k would leave an absolute error near
+    // |k|·2^-106, which is a large relative error when x is close to a multiple of π/2.
+    let (p1, e1) = two_prod(half_pi.hi, k);
+    let (p2, e2) = two_prod(half_pi.lo, k);
+    let r = (x - Dw { hi: p1, lo: e1 }) - Dw { hi: p2, lo: e2 } - dw(half_pi_third_word() * k);
     let t = r * r;
     let (mut s, mut c) = (dw(1.0), dw(1.0));
     for j in (1..=15).rev() {
