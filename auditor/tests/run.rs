@@ -25,9 +25,10 @@ fn main() {
 }
 "##;
 
-/// Writes the harness crate (once per test binary run) and returns its manifest path.
-fn harness_crate() -> PathBuf {
-    let dir = scratch("probe-crate");
+/// Writes a harness crate of its own for one test (tests run in parallel; one shared crate could be read by cargo
+/// while another test rewrites it) and returns its manifest path.
+fn harness_crate(test: &str) -> PathBuf {
+    let dir = scratch(&format!("probe-crate-{test}"));
     std::fs::create_dir_all(dir.join("src")).unwrap();
     // Its own `[workspace]`: the crate sits under the project's target directory, outside any workspace.
     let manifest =
@@ -45,7 +46,7 @@ fn run(manifest: &Path, extra: &[&str]) -> std::process::Output {
 
 #[test]
 fn harness_gets_the_trace_path_the_flags_and_its_own_target_dir() {
-    let manifest = harness_crate();
+    let manifest = harness_crate("flags");
     let root = manifest.parent().unwrap();
     let output = run(&manifest, &["--format", "json"]);
     assert_eq!(output.status.code(), Some(0), "{}", stderr(&output));
@@ -64,7 +65,7 @@ fn harness_gets_the_trace_path_the_flags_and_its_own_target_dir() {
 
 #[test]
 fn failing_harness_reports_its_partial_trace_and_exits_3() {
-    let manifest = harness_crate();
+    let manifest = harness_crate("fail");
     let trace = scratch("probe-fail.jsonl");
     let output = run(&manifest, &["--trace", trace.to_str().unwrap(), "--", "fail"]);
     assert_eq!(output.status.code(), Some(3), "{}", stderr(&output));
@@ -74,7 +75,7 @@ fn failing_harness_reports_its_partial_trace_and_exits_3() {
 
 #[test]
 fn harness_without_trace_is_named() {
-    let manifest = harness_crate();
+    let manifest = harness_crate("silent");
     let trace = scratch("probe-silent.jsonl");
     std::fs::write(&trace, "stale trace of an earlier run\n").unwrap();
     let output = run(&manifest, &["--trace", trace.to_str().unwrap(), "--", "silent"]);
