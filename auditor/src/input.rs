@@ -49,3 +49,13 @@ pub fn plain(error: &std::io::Error) -> String {
 pub fn parse_trace(bytes: &[u8]) -> Result<Trace, trace::TraceError> {
     trace::parse(bytes)
 }
+
+/// Removes a file left by an earlier run, if there is one.
+pub fn remove_stale(path: &Path) -> Result<(), Failure> {
+    match std::fs::remove_file(path) {
+        Err(e) if e.kind() != std::io::ErrorKind::NotFound => {
+            Err(Failure::input(format!("{}: cannot replace: {}", path.display(), plain(&e))))
+        }
+        _ => Ok(()),
+    }
+}

@@ -49,11 +49,12 @@ impl Progress {
         }
     }
 
-    /// The bar line: `[#####-----] 1200/5000 steps  310 steps/s  12 s left`.
+    /// The bar line: `[#####-----] 1200/5000 steps  310 steps/s  12 s left`, the rate measured over the
+    /// `elapsed` time since `baseline` steps were done (the first look at the trace, which may come late).
     #[must_use]
-    pub fn line(&self, elapsed: Duration) -> String {
+    pub fn line(&self, elapsed: Duration, baseline: u64) -> String {
         let seconds = elapsed.as_secs_f64();
-        let rate = if seconds > 0.0 { self.done as f64 / seconds } else { 0.0 };
+        let rate = if seconds > 0.0 { self.done.saturating_sub(baseline) as f64 / seconds } else { 0.0 };
         match self.planned.filter(|p| *p > 0) {
             Some(planned) => {
                 let fraction = (self.done as f64 / planned as f64).clamp(0.0, 1.0);
@@ -84,7 +85,7 @@ pub fn follow_child(path: &Path, child: &mut Child) -> std::io::Result<ExitStatu
 pub fn follow<R>(path: &Path, mut finished: impl FnMut() -> std::io::Result<Option<R>>) -> std::io::Result<R> {
     let mut progress = Progress::default();
     let mut offset = 0u64;
-    let mut started: Option<Instant> = None;
+    let mut started: Option<(Instant, u64)> = None;
     let mut stderr = std::io::stderr();
     loop {
         if let Some(result) = finished()? {
@@ -93,12 +94,16 @@ pub fn follow<R>(path: &Path, mut finished: impl FnMut() -> std::io::Result<Opti
             return Ok(result);
         }
         if let Ok(mut file) = std::fs::File::open(path) {
+            // A file shorter than what was read is a new trace (truncated and restarted): start over.
+            if file.metadata().is_ok_and(|m| m.len() < offset) {
+                (progress, offset, started) = (Progress::default(), 0, None);
+            }
             let mut fresh = Vec::new();
             if file.seek(SeekFrom::Start(offset)).is_ok() && file.read_to_end(&mut fresh).is_ok() && !fresh.is_empty() {
                 offset += fresh.len() as u64;
                 progress.feed(&fresh);
-                let since = *started.get_or_insert_with(Instant::now);
-                let _ = write!(stderr, "\r\x1b[2K{}", progress.line(since.elapsed()));
+                let (since, baseline) = *started.get_or_insert_with(|| (Instant::now(), progress.done));
+                let _ = write!(stderr, "\r\x1b[2K{}", progress.line(since.elapsed(), baseline));
                 let _ = stderr.flush();
             }
         }

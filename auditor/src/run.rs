@@ -163,12 +163,7 @@ pub fn run(plan: &RunPlan, progress: bool) -> Result<(PathBuf, Option<Failure>),
             .map_err(|e| Failure::input(format!("{}: cannot create: {}", parent.display(), plain(&e))))?;
     }
     // A trace left by an earlier run must not pass for this run's.
-    match std::fs::remove_file(&plan.trace) {
-        Err(e) if e.kind() != std::io::ErrorKind::NotFound => {
-            return Err(Failure::input(format!("{}: cannot replace: {}", plan.trace.display(), plain(&e))))
-        }
-        _ => {}
-    }
+    crate::input::remove_stale(&plan.trace)?;
     let mut child =
         command(plan).spawn().map_err(|e| Failure::harness(format!("cannot start cargo: {}", plain(&e))))?;
     let status = if progress { crate::progress::follow_child(&plan.trace, &mut child) } else { child.wait() }

@@ -16,9 +16,11 @@ fn partial_lines_wait_and_steps_count() {
     assert_eq!((progress.planned, progress.done), (Some(5000), 0), "the cut step line is not counted yet");
     progress.feed(rest.as_bytes());
     assert_eq!(progress.done, 1000);
+    // Counted from a first look at step 600: 400 steps in 2 s, 200 steps/s, 20 s left.
+    assert!(progress.line(Duration::from_secs(2), 600).ends_with("200 steps/s  20 s left"));
     // 1000 steps in 2 s: 500 steps/s, (5000 − 1000) / 500 = 8 s left, 1000/5000 of 28 characters = 6 filled.
     assert_eq!(
-        progress.line(Duration::from_secs(2)),
+        progress.line(Duration::from_secs(2), 0),
         format!("[{}{}] 1000/5000 steps  500 steps/s  8 s left", "#".repeat(6), "-".repeat(22))
     );
 }
@@ -31,5 +33,5 @@ fn audited_steps_win_over_the_horizon_and_garbage_is_ignored() {
     assert_eq!((progress.planned, progress.done), (Some(2000), 2000));
     let mut unknown = Progress::default();
     unknown.feed(b"{\"record\":\"step\",\"step\":7}\n");
-    assert_eq!(unknown.line(Duration::ZERO), "7 steps  0 steps/s", "no header: no bar, no time left");
+    assert_eq!(unknown.line(Duration::ZERO, 0), "7 steps  0 steps/s", "no header: no bar, no time left");
 }

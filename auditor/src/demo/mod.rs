@@ -19,6 +19,8 @@ pub const DEFAULT_STEPS: u64 = 60_000;
 
 /// Runs the demo audit, writing its trace to `trace`, with a progress bar on stderr when `progress` is set.
 pub fn run_with_progress(trace: &Path, steps: u64, progress: bool) -> Result<(), Failure> {
+    // A trace left by an earlier run must not feed the progress bar of this one.
+    crate::input::remove_stale(trace)?;
     if !progress {
         return run(trace, steps);
     }
