@@ -288,7 +288,7 @@ pub fn heat_map(field: &str, lens: &str, profiles: &[&Profile]) -> Result<Option
             .margin(12)
             .x_label_area_size(40)
             .y_label_area_size(70)
-            .build_cartesian_2d(0.0..width as f64, (0..rows as u32).into_segmented())
+            .build_cartesian_2d(0.0..width as f64, (0..(rows as u32).saturating_sub(1)).into_segmented())
             .map_err(failed)?;
         // One label per row at most a dozen times: each names the last step the row covers.
         chart
