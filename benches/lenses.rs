@@ -1,7 +1,8 @@
 //! Cost of the lenses against plain f64, measured in the same run (no timing thresholds in tests: the targets
-//! live here). Two stencil kernels annotated with `#[twinstep::audit]`: explicit 1-D heat on 10^5 cells and
-//! 2-D diffusion on 512×512. For each, the original f64 kernel, its twin with `T = f64`, and the twin with each
-//! lens run the same number of steps; the report prints time per step and the ratio to the original.
+//! live here). Stencil kernels annotated with `#[twinstep::audit]`: explicit 1-D heat on 10^5 cells, the same
+//! with its diffusion number written as the literal `0.1` (the literal-as-written path once per cell), and 2-D
+//! diffusion on 512×512. For each, the original f64 kernel, its twin with `T = f64`, and the twin with each lens
+//! run the same number of steps; the report prints time per step and the ratio to the original.
 //!
 //! Targets (issue 3): twin f64 ≤ 1.05×, Bound ≤ 8×, Shadow ≤ 15×, Interval reported; the unwatched variants
 //! (no per-operation NaN/∞ test) are measured beside them.
@@ -20,6 +21,18 @@ pub fn heat_1d(u: &[f64], out: &mut [f64], r: f64) {
     out[n - 1] = u[n - 1];
     for i in 1..n - 1 {
         out[i] = u[i] + r * (u[i - 1] - 2.0 * u[i] + u[i + 1]);
+    }
+}
+
+/// The 1-D heat step with its diffusion number written as a decimal literal in the kernel (r = 0.1, which binary64
+/// does not hold exactly): measures the lenses' literal-as-written path, taken once per cell.
+#[twinstep::audit]
+pub fn heat_1d_literal(u: &[f64], out: &mut [f64]) {
+    let n = u.len();
+    out[0] = u[0];
+    out[n - 1] = u[n - 1];
+    for i in 1..n - 1 {
+        out[i] = u[i] + 0.1 * (u[i - 1] - 2.0 * u[i] + u[i + 1]);
     }
 }
 
@@ -107,6 +120,10 @@ fn main() {
     let original = time_kernel::<f64>(CELLS, heat_steps, |u, out| heat_1d(u, out, 0.25));
     let rows = lens_rows!(CELLS, heat_steps, 0.25, |u, out, r| heat_1d_twin(u, out, r));
     report("1-D heat, 10^5 cells", original, &rows);
+
+    let original = time_kernel::<f64>(CELLS, heat_steps, heat_1d_literal);
+    let rows = lens_rows!(CELLS, heat_steps, 0.1, |u, out, _r| heat_1d_literal_twin(u, out));
+    report("1-D heat, literal r = 0.1", original, &rows);
 
     let original = time_kernel::<f64>(GRID * GRID, diffusion_steps, |u, out| diffusion_2d(u, out, GRID, 0.2));
     let rows = lens_rows!(GRID * GRID, diffusion_steps, 0.2, |u, out, r| diffusion_2d_twin(u, out, GRID, r));
