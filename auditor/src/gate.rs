@@ -14,6 +14,11 @@
 //!
 //! A NaN or infinity event, a step without a number, or an incomplete run fails the gate too: none of them shows
 //! the whole run within tolerance.
+//!
+//! Which lenses judge: by default those the verdict trusts — the estimates when the audit has a lens without a
+//! guarantee, since a guaranteed bound can cross the tolerance by the dependency effect of enclosure arithmetic
+//! while the rounding error itself does not; `--lens` names the lenses to judge instead (`--lens bound` for a
+//! gate on the guarantee).
 
 use crate::trace::{known, EventName, FieldStep, Tolerance, Trace};
 
@@ -66,13 +71,18 @@ fn step_failure(stats: &FieldStep, tolerance: Option<Tolerance>, precision: i32)
     }
 }
 
-/// Runs the gate on a trace, with the trace's own tolerance or the one given, over the lenses given (all when
-/// empty).
+/// Runs the gate on a trace, with the trace's own tolerance or the one given, over the lenses given (when empty:
+/// the lenses without a guarantee if the trace has any, else all, as the verdict judges).
 #[must_use]
 pub fn gate(trace: &Trace, tolerance: Option<Tolerance>, lenses: &[String]) -> GateOutcome {
     // Precision of the primal, binary64: p = 53 (IEEE 754-2019, table 3.2).
     let precision = 53;
-    let judged = |lens: &str| lenses.is_empty() || lenses.iter().any(|l| l == lens);
+    // By default the lenses judge as the verdict does: the estimates when the audit has a lens without a
+    // guarantee (a guaranteed bound may cross by the dependency effect while the error does not), else the bounds.
+    let analysis = crate::analysis::Analysis::of(trace);
+    let default: Vec<String> = analysis.judging().map(|o| o.lens.clone()).collect();
+    let chosen = if lenses.is_empty() { &default[..] } else { lenses };
+    let judged = |lens: &str| chosen.is_empty() || chosen.iter().any(|l| l == lens);
     let mut crossings: Vec<(u64, String)> = Vec::new();
     for field in &trace.header.fields {
         for lens in trace.header.lenses.iter().filter(|l| judged(l)) {
@@ -118,7 +128,12 @@ pub fn gate(trace: &Trace, tolerance: Option<Tolerance>, lenses: &[String]) -> G
     if lines.is_empty() {
         let tolerance = tolerance.unwrap_or(trace.header.tolerance).describe();
         let steps = trace.summary.as_ref().map_or(0, |s| s.steps_done);
-        lines.push(format!("pass: every field stays within tolerance ({tolerance}) for all {steps} steps"));
+        let mut judged_by: Vec<&str> = trace.header.lenses.iter().map(String::as_str).filter(|l| judged(l)).collect();
+        judged_by.dedup();
+        lines.push(format!(
+            "pass: every field stays within tolerance ({tolerance}) for all {steps} steps (lenses judged: {})",
+            judged_by.join(", ")
+        ));
         GateOutcome { passed: true, lines }
     } else {
         GateOutcome { passed: false, lines }

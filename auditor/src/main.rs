@@ -53,7 +53,8 @@ Exit codes: 0 within tolerance, 1 a field crosses it (the first crossing is prin
         trace: PathBuf,
         #[command(flatten)]
         tolerance: ToleranceArgs,
-        /// Judge only this lens (repeat for several); all lenses by default.
+        /// Judge this lens (repeat for several) [default: the lenses without a guarantee, as the verdict judges;
+        /// all lenses when every lens has one].
         #[arg(long = "lens", value_name = "LENS")]
         lenses: Vec<String>,
     },

@@ -19,7 +19,9 @@ fn trace_tolerance_fails_at_first_crossing() {
     assert_eq!(code, Some(1), "{err}");
     // The summary's first crossing (10435) comes before the first recorded step over the line (12000).
     let first = err.lines().next().unwrap();
-    assert!(first.contains("field T (bound lens) crosses the tolerance at step 10435"), "{err}");
+    // By default the estimate (shadow) judges, as the verdict does.
+    assert!(first.contains("field T (shadow lens) crosses the tolerance at step 10435"), "{err}");
+    assert!(!err.contains("bound lens"), "{err}");
     assert!(!err.contains("field q"), "q stays within: {err}");
 }
 
@@ -91,4 +93,26 @@ fn ulps_conflicts_with_atol() {
     let (code, _, err) = gate(&[path.to_str().unwrap(), "--ulps", "2", "--atol", "1e-3"]);
     assert_eq!(code, Some(2));
     assert!(err.contains("cannot be used with"), "{err}");
+}
+
+#[test]
+fn a_bound_lost_to_the_dependency_effect_fails_only_a_gate_on_the_bound() {
+    // The bound lens's radius crosses (err/allowed 3.5) while the shadow estimate stays far inside (0.001).
+    let header = r#"{"record":"header","format":"twinstep-trace","version":1,"kernel":"k","scenario":"s","lenses":["bound","shadow"],"fields":[{"name":"u","shape":[4]}],"tolerance":{"kind":"absolute","atol":1e-9},"steps_planned":5,"record_policy":"every","machine":{"os":"linux","arch":"x86_64","cpus":2},"build":{"twinstep":"0.1.0","profile":"release","target_features":[]},"started_unix_s":0}"#;
+    let step = |lens: &str, err: f64, bound: &str| {
+        format!(
+            r#"{{"record":"step","step":5,"lens":"{lens}","fields":[{{"name":"u","max_err":{err:e},"mean_err":0,"max_rel_err":0,"mean_rel_err":0,"bound":{bound},"correct_bits":40,"worst_cell":[1],"tol_ratio":{:e}}}]}}"#,
+            err / 1e-9
+        )
+    };
+    let summary = r#"{"record":"summary","steps_done":5,"complete":true,"wall_s":0.0,"results":[],"verdict":{"status":"enough","text":""}}"#;
+    let path = scratch("gate_bound_lost.jsonl");
+    let text = format!("{header}\n{}\n{}\n{summary}\n", step("bound", 3.5e-9, "3.5e-9"), step("shadow", 1e-12, "null"));
+    std::fs::write(&path, text).unwrap();
+    let (code, out, err) = gate(&[path.to_str().unwrap()]);
+    assert_eq!(code, Some(0), "{err}");
+    assert!(out.contains("lenses judged: shadow"), "{out}");
+    let (code, _, err) = gate(&[path.to_str().unwrap(), "--lens", "bound"]);
+    assert_eq!(code, Some(1));
+    assert!(err.contains("field u (bound lens) crosses the tolerance at step 5: err/allowed = 3.500 > 1"), "{err}");
 }
