@@ -155,7 +155,7 @@ impl<'a> Analysis<'a> {
         };
         let ratio = crate::document::ratio(worst.peak_tol_ratio);
         let err = worst.final_max_err.map_or_else(|| "unknown".to_owned(), |e| format!("{e:.2e}"));
-        match worst.first_crossing {
+        let mut line = match worst.first_crossing {
             Some(step) => format!(
                 "Field `{}` drifts most: under the {} lens its rounding error crosses the tolerance at step {step} \
                  and reaches {err} (up to {ratio} times what the tolerance allows).",
@@ -166,7 +166,24 @@ impl<'a> Analysis<'a> {
                  at most {ratio} times what the tolerance allows.",
                 worst.field, worst.lens
             ),
+        };
+        // Bounds that crossed while an estimate judges: say so, or the outcome table would seem to contradict.
+        if !worst.guaranteed {
+            let lost: Vec<String> = self
+                .outcomes
+                .iter()
+                .filter(|o| o.guaranteed)
+                .filter_map(|o| o.first_crossing.map(|step| format!("{} of `{}` at step {step}", o.lens, o.field)))
+                .collect();
+            if !lost.is_empty() {
+                line.push_str(&format!(
+                    " Guaranteed bounds do cross it ({}): they grow by the dependency effect of enclosure \
+                     arithmetic, so the estimate judges.",
+                    lost.join(", ")
+                ));
+            }
         }
+        line
     }
 
     /// The verdict in one sentence.
