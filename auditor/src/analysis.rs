@@ -173,11 +173,17 @@ impl<'a> Analysis<'a> {
                 .outcomes
                 .iter()
                 .filter(|o| o.guaranteed)
-                .filter_map(|o| o.first_crossing.map(|step| format!("{} of `{}` at step {step}", o.lens, o.field)))
+                .filter_map(|o| o.first_crossing.map(|step| (o, step)))
+                // Only where the field's estimates cross later or never: there the bound, not the error, crossed.
+                .filter(|(o, step)| {
+                    let estimate = |e: &&FieldLens| !e.guaranteed && e.field == o.field;
+                    self.outcomes.iter().filter(estimate).all(|e| e.first_crossing.is_none_or(|c| c > *step))
+                })
+                .map(|(o, step)| format!("{} of `{}` at step {step}", o.lens, o.field))
                 .collect();
             if !lost.is_empty() {
                 line.push_str(&format!(
-                    " Guaranteed bounds do cross it ({}): they grow by the dependency effect of enclosure \
+                    " Guaranteed bounds cross it before the estimates do ({}): they grow by the dependency effect of enclosure \
                      arithmetic, so the estimate judges.",
                     lost.join(", ")
                 ));

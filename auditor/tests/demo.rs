@@ -73,6 +73,11 @@ fn shadow_estimates_match_the_exact_rational_solution() {
             "{field}: shadow estimate {estimate:e} against the exact error {oracle:e}"
         );
     }
+    // The bound lens's radius grows by the dependency effect (about (1 + 4r) per step, r = 1/4) far faster than
+    // the error: the report says the bound crossed before the estimate and that the estimate judges.
+    let report = twinstep_cli::report::render(&trace, twinstep_cli::report::Format::Md, false);
+    assert!(report.contains("Guaranteed bounds cross it before the estimates do (bound of `T` at step"), "{report}");
+    assert!(report.contains("Field `T` drifts most: under the shadow lens"), "{report}");
     // The point of the demo: T's error is far larger than rise's (same physics, large background value).
     let (t_err, _) = oracle_error(&temperature, &wall, STEPS);
     let (rise_err, _) = oracle_error(&rise, &wall, STEPS);
