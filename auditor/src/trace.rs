@@ -64,11 +64,13 @@ impl TraceError {
     }
 }
 
-/// Just the `record` member of a line, to find the `profile` records.
+/// Just the `record` member of a line (to find the `profile` records) and, on a header, its version.
 #[derive(Deserialize)]
 struct Kind<'a> {
     #[serde(borrow)]
     record: std::borrow::Cow<'a, str>,
+    #[serde(default)]
+    version: Option<u64>,
 }
 
 /// Reads a trace from any buffered reader, one bounded line at a time.
@@ -93,7 +95,17 @@ pub fn read(mut input: impl BufRead) -> Result<Trace, TraceError> {
                 MAX_LINE_BYTES >> 20
             )));
         }
-        let is_profile = serde_json::from_slice::<Kind>(body).is_ok_and(|k| k.record == "profile");
+        let kind = serde_json::from_slice::<Kind>(body).ok();
+        // A header of another version may name its members differently: say "version", not "missing field".
+        if let Some(Kind { record, version: Some(version) }) = &kind {
+            if number == 1 && record == "header" && *version != u64::from(twinstep::trace::VERSION) {
+                let known = twinstep::trace::VERSION;
+                return Err(TraceError(format!(
+                    "trace format version {version} is not known to this twinstep (it reads {known})"
+                )));
+            }
+        }
+        let is_profile = kind.is_some_and(|k| k.record == "profile");
         if is_profile {
             let profile = serde_json::from_slice::<Profile>(body)
                 .map_err(|e| TraceError(format!("line {number}: bad profile record: {e}")))?;

@@ -30,6 +30,14 @@ fn wrong_version() {
 }
 
 #[test]
+fn newer_version_with_other_members() {
+    // A future header may drop or rename members: the message is still about the version.
+    let path = scratch("v2.jsonl");
+    std::fs::write(&path, "{\"record\":\"header\",\"format\":\"twinstep-trace\",\"version\":2,\"runs\":[]}\n").unwrap();
+    assert_input_error(&["report", path.to_str().unwrap()], "v2.jsonl", "version 2 is not known");
+}
+
+#[test]
 fn unknown_field() {
     let path = fixture("bad_unknown_field.jsonl");
     assert_input_error(

@@ -5,11 +5,13 @@
 use proptest::prelude::*;
 use twinstep_cli::report::{render, Format};
 
-/// A small valid trace: the fixture's first lines and its summary, so each case stays cheap.
+/// A small valid trace: the fixture's first lines, a profile and its summary, so each case stays cheap.
 fn seed() -> Vec<u8> {
     let text = include_str!("../../fixtures/traces/kiln_complete.jsonl");
     let lines: Vec<&str> = text.lines().collect();
     let mut picked: Vec<&str> = lines.iter().take(9).copied().collect();
+    // One `profile` record too, so mutations reach the CLI's own part of the reader.
+    picked.extend(lines.iter().find(|l| l.contains("\"record\":\"profile\"")));
     picked.push(lines[lines.len() - 1]);
     (picked.join("\n") + "\n").into_bytes()
 }
