@@ -18,10 +18,15 @@ use crate::lens::scalar::{Core, Orders};
 use crate::lens::Lens;
 
 /// A value with a guaranteed enclosure `[inf, sup]` of its exact counterpart.
+///
+/// The bounds are kept as the two doubles inari's `inf()` and `sup()` return (a zero lower bound as −0, a zero
+/// upper bound as +0, the empty set as (+∞, −∞)), so the hot operations read and write them directly instead of
+/// going through inari's packed `[−inf; sup]` representation and its normalizing accessors.
 #[derive(Clone, Copy, Debug)]
 pub struct IntervalOf<const WATCH: bool> {
     primal: f64,
-    enclosure: inari::Interval,
+    inf: f64,
+    sup: f64,
 }
 
 /// The lens as audits use it: every operation watches for NaN/∞ and records the event at the caller's line.
@@ -42,13 +47,54 @@ impl<const W: bool> IntervalOf<W> {
     /// The enclosure of the exact value.
     #[must_use]
     pub fn enclosure(self) -> inari::Interval {
-        self.enclosure
+        inari::Interval::try_from((self.inf, self.sup)).unwrap_or(inari::Interval::EMPTY)
     }
 
     /// The primal with `out` widened to hold it.
     fn around(primal: f64, out: inari::Interval) -> Self {
-        Self { primal, enclosure: out.convex_hull(point(primal)) }
+        Self::of(primal, out.convex_hull(point(primal)))
     }
+
+    /// The primal with the enclosure `out` as it is.
+    #[inline(always)]
+    fn of(primal: f64, out: inari::Interval) -> Self {
+        Self { primal, inf: out.inf(), sup: out.sup() }
+    }
+
+    /// The primal with the bounds of a fast path, or with inari's enclosure `slow` when the fast path declined.
+    #[inline(always)]
+    fn bounded(primal: f64, fast: Option<(f64, f64)>, slow: impl FnOnce() -> inari::Interval) -> Self {
+        match fast {
+            Some((low, high)) => Self::from_bounds(primal, low, high),
+            None => Self::of(primal, slow()),
+        }
+    }
+
+    /// The primal with the bounds `[low, high]` of a fast path (a non-empty enclosure).
+    #[inline(always)]
+    fn from_bounds(primal: f64, low: f64, high: f64) -> Self {
+        Self { primal, inf: lower(low), sup: upper(high) }
+    }
+
+    /// Whether the enclosure is the empty set (a domain error upstream).
+    #[inline(always)]
+    fn is_empty(self) -> bool {
+        self.inf > self.sup
+    }
+}
+
+/// A lower bound as inari's `inf()` gives it: −0 for a zero bound (IEEE 1788-2015 §12.12.8 asks inf of an
+/// interval with a zero lower bound to be −0; from memory), the bound otherwise. −((−x) + 0) is −(+0) = −0 for
+/// x = ±0 (a sum of opposite zeros is +0 in round-to-nearest, IEEE 754-2019 §6.3) and x for any other x.
+#[inline(always)]
+fn lower(x: f64) -> f64 {
+    -((-x) + 0.0)
+}
+
+/// An upper bound as inari's `sup()` gives it: +0 for a zero bound (x + 0 = +0 for x = ±0), x otherwise.
+#[inline(always)]
+fn upper(x: f64) -> f64 {
+    x + 0.0
 }
 
 /// A double as an enclosure: the point, `[MAX, +∞]` for +∞ (IEEE 1788 intervals hold reals only), empty for NaN.
@@ -61,20 +107,20 @@ fn point(x: f64) -> inari::Interval {
 /// directed roundings inari computes with a rounding-mode switch, without the switch), or `None` when a sum is
 /// not finite (unbounded or empty operands, overflow), where TwoSum is not exact.
 #[inline(always)]
-fn sum_enclosure(a: f64, c: f64, b: f64, d: f64) -> Option<inari::Interval> {
+fn sum_enclosure(a: f64, c: f64, b: f64, d: f64) -> Option<(f64, f64)> {
     let (low, low_error) = two_sum(a, c); // low + low_error = a + c exactly (Knuth)
     let (high, high_error) = two_sum(b, d);
     if !(low.is_finite() && high.is_finite()) {
         return None;
     }
-    Some(interval(round_down(low, low_error), round_up(high, high_error)))
+    Some((round_down(low, low_error), round_up(high, high_error)))
 }
 
 /// The fast path of ×: the four endpoint products with their exact errors (TwoProd by FMA), the least rounded
 /// down and the greatest rounded up — the tightest enclosure, as inari's case table gives — or `None` when an
 /// operand is unbounded or empty or a product leaves the range where its error is exact.
 #[inline(always)]
-fn product_enclosure((a, b): (f64, f64), (c, d): (f64, f64)) -> Option<inari::Interval> {
+fn product_enclosure((a, b): (f64, f64), (c, d): (f64, f64)) -> Option<(f64, f64)> {
     let products = [exact_product(a, c)?, exact_product(a, d)?, exact_product(b, c)?, exact_product(b, d)?];
     Some(directed_hull(products))
 }
@@ -83,7 +129,7 @@ fn product_enclosure((a, b): (f64, f64), (c, d): (f64, f64)) -> Option<inari::In
 /// extremes are among the four endpoint quotients (each with the sign of its exact remainder); `None` when the
 /// divisor holds 0, an operand is unbounded or empty, or a quotient leaves the range where its residual is exact.
 #[inline(always)]
-fn quotient_enclosure((a, b): (f64, f64), (c, d): (f64, f64)) -> Option<inari::Interval> {
+fn quotient_enclosure((a, b): (f64, f64), (c, d): (f64, f64)) -> Option<(f64, f64)> {
     if !(c > 0.0 || d < 0.0) {
         return None;
     }
@@ -94,10 +140,10 @@ fn quotient_enclosure((a, b): (f64, f64), (c, d): (f64, f64)) -> Option<inari::I
 /// `[min vᵢ↓, max vᵢ↑]` of exact values vᵢ = sᵢ + eᵢ given as round-to-nearest doubles and remainders: rounding
 /// is monotone, so the rounded-down minimum is the minimum of the rounded-down values (likewise up).
 #[inline(always)]
-fn directed_hull(values: [(f64, f64); 4]) -> inari::Interval {
+fn directed_hull(values: [(f64, f64); 4]) -> (f64, f64) {
     let low = values.iter().map(|&(s, e)| round_down(s, e)).fold(f64::INFINITY, f64::min);
     let high = values.iter().map(|&(s, e)| round_up(s, e)).fold(f64::NEG_INFINITY, f64::max);
-    interval(low, high)
+    (low, high)
 }
 
 impl<const W: bool> Core for IntervalOf<W> {
@@ -110,7 +156,11 @@ impl<const W: bool> Core for IntervalOf<W> {
 
     #[inline(always)]
     fn exact(value: f64) -> Self {
-        Self { primal: value, enclosure: point(value) }
+        if value.is_finite() {
+            Self { primal: value, inf: lower(value), sup: upper(value) } // the point [x, x]
+        } else {
+            Self::of(value, point(value))
+        }
     }
 
     #[inline]
@@ -120,15 +170,15 @@ impl<const W: bool> Core for IntervalOf<W> {
 
     #[inline(always)]
     fn range(self) -> (f64, f64) {
-        (self.enclosure.inf(), self.enclosure.sup())
+        (self.inf, self.sup)
     }
 
     #[inline(always)]
     fn orders(self, rhs: Self) -> Orders {
-        if self.enclosure.is_empty() || rhs.enclosure.is_empty() {
+        if self.is_empty() || rhs.is_empty() {
             return Orders::NONE;
         }
-        Orders::of_ranges(self.enclosure.inf(), self.enclosure.sup(), rhs.enclosure.inf(), rhs.enclosure.sup())
+        Orders::of_ranges(self.inf, self.sup, rhs.inf, rhs.sup)
     }
 
     #[inline(always)]
@@ -136,7 +186,7 @@ impl<const W: bool> Core for IntervalOf<W> {
         let ((a, b), (c, d)) = (self.range(), rhs.range());
         // [a, b] + [c, d] = [a+c↓, b+d↑]; inari (rounding-mode switch) for unbounded or empty operands.
         let fast = sum_enclosure(a, c, b, d);
-        Self { primal: self.primal + rhs.primal, enclosure: fast.unwrap_or_else(|| self.enclosure + rhs.enclosure) }
+        Self::bounded(self.primal + rhs.primal, fast, || self.enclosure() + rhs.enclosure())
     }
 
     #[inline(always)]
@@ -144,26 +194,31 @@ impl<const W: bool> Core for IntervalOf<W> {
         let ((a, b), (c, d)) = (self.range(), rhs.range());
         // [a, b] − [c, d] = [a−d↓, b−c↑] = [a + (−d)↓, b + (−c)↑] (negation is exact)
         let fast = sum_enclosure(a, -d, b, -c);
-        Self { primal: self.primal - rhs.primal, enclosure: fast.unwrap_or_else(|| self.enclosure - rhs.enclosure) }
+        Self::bounded(self.primal - rhs.primal, fast, || self.enclosure() - rhs.enclosure())
     }
 
     #[inline(always)]
     fn mul(self, rhs: Self) -> Self {
         // [a, b]·[c, d] = [min(ac, ad, bc, bd)↓, max(ac, ad, bc, bd)↑]; inari's case table where that fails.
         let fast = product_enclosure(self.range(), rhs.range());
-        Self { primal: self.primal * rhs.primal, enclosure: fast.unwrap_or_else(|| self.enclosure * rhs.enclosure) }
+        Self::bounded(self.primal * rhs.primal, fast, || self.enclosure() * rhs.enclosure())
     }
 
     #[inline(always)]
     #[track_caller]
     fn div(self, rhs: Self) -> Self {
-        if rhs.enclosure.contains(0.0) && rhs.primal.is_finite() {
+        if rhs.inf <= 0.0 && 0.0 <= rhs.sup && rhs.primal.is_finite() {
             record(EventKind::DivisionByZeroEnclosure);
         }
         // IEEE 1788 division: [a, b]/[c, d] with 0 ∉ [c, d] is [min(a/c, a/d, b/c, b/d)↓, max(…)↑]; inari's case
         // table for the rest (half-lines or ℝ when 0 ∈ [c, d]).
-        let fast = quotient_enclosure(self.range(), rhs.range());
-        Self::around(self.primal / rhs.primal, fast.unwrap_or_else(|| self.enclosure / rhs.enclosure))
+        let primal = self.primal / rhs.primal;
+        match quotient_enclosure(self.range(), rhs.range()) {
+            // The primal lies between the directed roundings already; the hull keeps the guarantee explicit, as
+            // for inari's result (f64::min/max ignore a NaN primal, as the hull with the empty set does).
+            Some((low, high)) => Self::from_bounds(primal, low.min(primal), high.max(primal)),
+            None => Self::around(primal, self.enclosure() / rhs.enclosure()),
+        }
     }
 
     #[inline]
@@ -171,28 +226,29 @@ impl<const W: bool> Core for IntervalOf<W> {
     fn rem(self, rhs: Self) -> Self {
         let c = self.primal % rhs.primal; // exact: c = x − q·y
         let q = ((self.primal - c) / rhs.primal).round();
-        let quotients = self.enclosure / rhs.enclosure;
+        let quotients = self.enclosure() / rhs.enclosure();
         if quotients.inf().trunc() != quotients.sup().trunc() {
             record(EventKind::BranchInstability); // the exact quotient may truncate to another integer
         }
         // Along the primal's path: X − q·Y.
-        Self::around(c, self.enclosure - point(q) * rhs.enclosure)
+        Self::around(c, self.enclosure() - point(q) * rhs.enclosure())
     }
 
     #[inline(always)]
     fn neg(self) -> Self {
-        Self { primal: -self.primal, enclosure: -self.enclosure }
+        // −[a, b] = [−b, −a] (exact); the empty set (+∞, −∞) stays empty.
+        Self { primal: -self.primal, inf: lower(-self.sup), sup: upper(-self.inf) }
     }
 
     #[inline(always)]
     fn mul_add(self, a: Self, b: Self) -> Self {
         let primal = self.primal.mul_add(a.primal, b.primal);
-        Self::around(primal, self.enclosure.mul_add(a.enclosure, b.enclosure))
+        Self::around(primal, self.enclosure().mul_add(a.enclosure(), b.enclosure()))
     }
 
     #[inline(always)]
     fn abs(self) -> Self {
-        Self { primal: self.primal.abs(), enclosure: self.enclosure.abs() }
+        Self::of(self.primal.abs(), self.enclosure().abs())
     }
 
     crate::enclosed_functions!(
@@ -205,7 +261,7 @@ crate::lens_scalar!(IntervalOf);
 
 impl<const W: bool> core::fmt::Display for IntervalOf<W> {
     fn fmt(&self, f: &mut core::fmt::Formatter<'_>) -> core::fmt::Result {
-        write!(f, "{} ∈ [{:e}, {:e}]", self.primal, self.enclosure.inf(), self.enclosure.sup())
+        write!(f, "{} ∈ [{:e}, {:e}]", self.primal, self.inf, self.sup)
     }
 }
 
@@ -218,15 +274,15 @@ impl<const W: bool> Lens for IntervalOf<W> {
     }
 
     fn error_bound(self) -> Option<f64> {
-        if self.enclosure.is_empty() {
+        if self.is_empty() {
             return Some(f64::INFINITY);
         }
         // max(primal − inf, sup − primal), rounded up by inari.
-        Some((self.enclosure - point(self.primal)).mag())
+        Some((self.enclosure() - point(self.primal)).mag())
     }
 
     fn reference_value(self) -> f64 {
-        self.enclosure.mid()
+        self.enclosure().mid()
     }
 }
 
@@ -264,11 +320,12 @@ mod tests {
         out
     }
 
-    fn same(fast: Option<inari::Interval>, reference: inari::Interval, what: &str) {
-        if let Some(fast) = fast {
-            let agree = (fast.is_empty() && reference.is_empty())
-                || (fast.inf() == reference.inf() && fast.sup() == reference.sup());
-            assert!(agree, "{what}: fast {fast:?} inari {reference:?}");
+    fn same(fast: Option<(f64, f64)>, reference: inari::Interval, what: &str) {
+        if let Some((low, high)) = fast {
+            let agree = low.to_bits() == reference.inf().to_bits() || (low == 0.0 && reference.inf() == 0.0);
+            let agree =
+                agree && (high.to_bits() == reference.sup().to_bits() || (high == 0.0 && reference.sup() == 0.0));
+            assert!(agree, "{what}: fast [{low:e}, {high:e}] inari {reference:?}");
         }
     }
 
@@ -290,6 +347,36 @@ mod tests {
         }
         // The check must not pass vacuously: most pairs of bounded intervals take the fast path.
         assert!(taken > all.len() * all.len() / 2, "{taken} of {}", all.len() * all.len());
+    }
+
+    /// A lens value on `x`, its primal at a point inside (the midpoint where it is finite).
+    fn lens(x: inari::Interval) -> IntervalOf<false> {
+        let primal = if x.is_empty() { f64::NAN } else { x.mid() };
+        IntervalOf::new(primal, x)
+    }
+
+    /// Bit-identical bounds as inari's `inf()` and `sup()` report them (zero signs included).
+    fn identical(ours: IntervalOf<false>, reference: inari::Interval, what: &str) {
+        let theirs = (reference.inf().to_bits(), reference.sup().to_bits());
+        assert_eq!((ours.inf.to_bits(), ours.sup.to_bits()), theirs, "{what}: ours {ours} inari {reference:?}");
+        assert_eq!(ours.enclosure(), reference, "{what}");
+    }
+
+    #[test]
+    fn lens_operations_keep_inaris_bounds() {
+        let all = intervals();
+        for &x in &all {
+            identical(Core::neg(lens(x)), -x, &format!("-{x:?}"));
+            identical(IntervalOf::<false>::exact(x.inf()), point(x.inf()), &format!("point {}", x.inf()));
+            for &y in &all {
+                let (a, b) = (lens(x), lens(y));
+                identical(Core::add(a, b), x + y, &format!("{x:?} + {y:?}"));
+                identical(Core::sub(a, b), x - y, &format!("{x:?} - {y:?}"));
+                identical(Core::mul(a, b), x * y, &format!("{x:?} * {y:?}"));
+                // ÷ also holds the primal (hull), which the midpoints' quotient lies in already.
+                identical(Core::div(a, b), (x / y).convex_hull(point(a.primal / b.primal)), &format!("{x:?} / {y:?}"));
+            }
+        }
     }
 
     #[test]
