@@ -110,7 +110,8 @@ fn point(x: f64) -> inari::Interval {
 fn sum_enclosure(a: f64, c: f64, b: f64, d: f64) -> Option<(f64, f64)> {
     let (low, low_error) = two_sum(a, c); // low + low_error = a + c exactly (Knuth)
     let (high, high_error) = two_sum(b, d);
-    if !(low.is_finite() && high.is_finite()) {
+    // A finite error term also rules out an overflow inside TwoSum (it would leave ∞ or NaN there).
+    if !(low.is_finite() && high.is_finite() && low_error.is_finite() && high_error.is_finite()) {
         return None;
     }
     Some((round_down(low, low_error), round_up(high, high_error)))
