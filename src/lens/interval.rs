@@ -122,6 +122,14 @@ fn sum_enclosure(a: f64, c: f64, b: f64, d: f64) -> Option<(f64, f64)> {
 /// operand is unbounded or empty or a product leaves the range where its error is exact.
 #[inline(always)]
 fn product_enclosure((a, b): (f64, f64), (c, d): (f64, f64)) -> Option<(f64, f64)> {
+    // A point factor (a literal, a coefficient taken as exact) has only two distinct endpoint products: the
+    // other two repeat them. The test is the same for every cell of a loop, so it predicts perfectly.
+    if a == b {
+        return Some(directed_hull([exact_product(a, c)?, exact_product(a, d)?]));
+    }
+    if c == d {
+        return Some(directed_hull([exact_product(a, c)?, exact_product(b, c)?]));
+    }
     let products = [exact_product(a, c)?, exact_product(a, d)?, exact_product(b, c)?, exact_product(b, d)?];
     Some(directed_hull(products))
 }
@@ -141,7 +149,7 @@ fn quotient_enclosure((a, b): (f64, f64), (c, d): (f64, f64)) -> Option<(f64, f6
 /// `[min vᵢ↓, max vᵢ↑]` of exact values vᵢ = sᵢ + eᵢ given as round-to-nearest doubles and remainders: rounding
 /// is monotone, so the rounded-down minimum is the minimum of the rounded-down values (likewise up).
 #[inline(always)]
-fn directed_hull(values: [(f64, f64); 4]) -> (f64, f64) {
+fn directed_hull<const N: usize>(values: [(f64, f64); N]) -> (f64, f64) {
     let low = values.iter().map(|&(s, e)| round_down(s, e)).fold(f64::INFINITY, f64::min);
     let high = values.iter().map(|&(s, e)| round_up(s, e)).fold(f64::NEG_INFINITY, f64::max);
     (low, high)
