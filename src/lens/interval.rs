@@ -174,7 +174,13 @@ impl<const W: bool> Core for IntervalOf<W> {
 
     #[inline]
     fn with_reference(value: f64, reference: &Reference) -> Self {
-        Self::around(value, interval(reference.down, reference.up))
+        let (down, up) = (reference.down, reference.up);
+        if down.is_finite() && up.is_finite() && value.is_finite() && down <= up {
+            // The hull of [down, up] and the primal, as inari's `convex_hull` gives it, without the round trip.
+            Self::from_bounds(value, down.min(value), up.max(value))
+        } else {
+            Self::around(value, interval(down, up))
+        }
     }
 
     #[inline(always)]
@@ -377,6 +383,15 @@ mod tests {
         for &x in &all {
             identical(Core::neg(lens(x)), -x, &format!("-{x:?}"));
             identical(IntervalOf::<false>::exact(x.inf()), point(x.inf()), &format!("point {}", x.inf()));
+            if !x.is_empty() {
+                // A reference [down, up] = x around a primal that may lie outside it (the compiled double of a
+                // literal is within one ulp of the reference, not always inside [down, up]).
+                let reference = Reference { hi: x.inf(), lo: 0.0, err: 0.0, down: x.inf(), up: x.sup() };
+                for primal in [x.inf(), x.sup(), 0.5, -3.0] {
+                    let ours = IntervalOf::<false>::with_reference(primal, &reference);
+                    identical(ours, x.convex_hull(point(primal)), &format!("{x:?} around {primal}"));
+                }
+            }
             for &y in &all {
                 let (a, b) = (lens(x), lens(y));
                 identical(Core::add(a, b), x + y, &format!("{x:?} + {y:?}"));
