@@ -11,7 +11,7 @@
 //! - rounding: `|fl(a∘b) − a∘b| ≤ u·|fl(a∘b)| + η/2` (the η term only for × and ÷ in the subnormal range);
 //! - a formula of k operations on non-negative doubles evaluated in round-to-nearest is at least `(1 − u)^k`
 //!   times its exact value (less k·η/2 for subnormal products), so scaling it by `1 + 16u` and adding a small
-//!   normal floor at the end makes it an upper bound for k ≤ 10 — [`radius_of`], two FMAs per operation.
+//!   normal floor at the end makes it an upper bound for k ≤ 10 — `radius_of`, two FMAs per operation.
 //!
 //! The hot operations are branch-free straight-line code (selects at most); with the per-operation NaN/∞ watch
 //! switched off ([`BoundUnwatched`]) loops over them can vectorize.

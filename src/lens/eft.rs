@@ -6,6 +6,10 @@
 //! Popescu, "Tight and rigorous error bounds for basic building blocks of double-word arithmetic", ACM TOMS 44(2),
 //! 2017 (algorithm numbers and bounds below are from memory of that paper; u = 2^-53).
 //!
+//! The same transformations give the directed roundings [`round_down`] and [`round_up`] of a sum, product or
+//! quotient without switching the rounding mode (the [`super::Interval`] lens's fast paths): the exact error
+//! says on which side of the round-to-nearest result the exact value lies.
+//!
 //! Everything here is branch-free straight-line code on `f64` in round-to-nearest, so it inlines and vectorizes.
 
 /// A double-word number `hi + lo`.
@@ -218,7 +222,7 @@ fn step(s: f64, steps: i64) -> f64 {
 /// The directed roundings of an exact value `s + e`, where `s` is its round-to-nearest double and `e` the exact
 /// remainder (from an error-free transformation): roundTowardNegative is `s` unless `e < 0`, then the double
 /// below `s`; roundTowardPositive likewise (IEEE 754-2019 §4.3.2). `e ≠ 0` implies `s ≠ 0` for the
-/// transformations used here, so [`step`] applies.
+/// transformations used here, so the one-ulp step on the bit pattern applies.
 #[inline(always)]
 #[must_use]
 pub fn round_down(s: f64, e: f64) -> f64 {

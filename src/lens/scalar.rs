@@ -2,7 +2,7 @@
 //!
 //! A lens implements [`Core`]: the primitive operations whose reference side differs between lenses (the
 //! arithmetic, the elementary functions, what exact arithmetic could say about an ordering). The macro
-//! [`lens_scalar!`] then gives it everything a twin needs: the operators between lens values, borrowed values and
+//! [`lens_scalar!`](crate::lens_scalar!) then gives it everything a twin needs: the operators between lens values, borrowed values and
 //! plain `f64` on either side, compound assignment, comparisons with `f64` both ways, `Sum`/`Product`,
 //! `Zero`/`One`/`Default` and the whole [`crate::Real`] trait. Operators and comparisons are `#[track_caller]` so
 //! that events land at the user's own source line.
@@ -60,7 +60,7 @@ impl Orders {
     }
 }
 
-/// The primitive operations of a lens. Everything else is derived by [`lens_scalar!`].
+/// The primitive operations of a lens. Everything else is derived by [`lens_scalar!`](crate::lens_scalar!).
 ///
 /// Each operation computes the primal exactly as the float program would (`a + b`, `x.exp()` in `f64`) and the
 /// lens's reference side alongside.
