@@ -7,9 +7,10 @@
 //! comparisons that record branch instabilities, `Sum`, the whole [`crate::Real`] surface — is written once in
 //! [`scalar`] and instantiated per lens from the lens's small [`scalar::Core`] of primitive operations.
 //!
-//! Literals and `std::f64::consts` enter through [`reference`](mod@reference): under [`LiteralMode::AsWritten`] (the default) the
-//! reference holds the decimal number as written and the real constant; under [`LiteralMode::AsCompiled`] it holds
-//! the double the compiler made, so an audit can split representation error from arithmetic error.
+//! Literals and `std::f64::consts` enter through [`reference`](mod@reference): under [`LiteralMode::AsWritten`]
+//! (the default) the reference holds the decimal number as written and the real constant; under
+//! [`LiteralMode::AsCompiled`] it holds the double the compiler made, so an audit can split representation error
+//! from arithmetic error.
 
 pub mod bound;
 pub mod dwmath;

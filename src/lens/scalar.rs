@@ -2,9 +2,9 @@
 //!
 //! A lens implements [`Core`]: the primitive operations whose reference side differs between lenses (the
 //! arithmetic, the elementary functions, what exact arithmetic could say about an ordering). The macro
-//! [`lens_scalar!`](crate::lens_scalar!) then gives it everything a twin needs: the operators between lens values, borrowed values and
-//! plain `f64` on either side, compound assignment, comparisons with `f64` both ways, `Sum`/`Product`,
-//! `Zero`/`One`/`Default` and the whole [`crate::Real`] trait. Operators and comparisons are `#[track_caller]` so
+//! [`lens_scalar!`](crate::lens_scalar!) then gives it everything a twin needs: the operators between lens
+//! values, borrowed values and plain `f64` on either side, compound assignment, comparisons with `f64` both ways,
+//! `Sum`/`Product`, `Zero`/`One`/`Default` and the whole [`crate::Real`] trait. Operators and comparisons are `#[track_caller]` so
 //! that events land at the user's own source line.
 //!
 //! Semantics shared by all lenses (DESIGN §3): branches, `max`/`min`, rounding to integers and integer

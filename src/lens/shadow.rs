@@ -7,7 +7,8 @@
 //! what [`super::Bound`] and [`super::Interval`] are for).
 //!
 //! Sum, difference, product, quotient, √ and `mul_add` are the double-word algorithms of [`super::eft`] (Joldes,
-//! Muller, Popescu, ACM TOMS 2017). The other elementary functions evaluate the double-word value at 160 bits with `dashu-float` and round
+//! Muller, Popescu, ACM TOMS 2017). The other elementary functions are the double-word ones of [`super::dwmath`];
+//! for the arguments those decline they evaluate the double-word value at 160 bits with `dashu-float` and round
 //! back to double-word: slower, but accurate far beyond the shadow's own precision.
 
 use crate::events::{record, EventKind};
