@@ -407,7 +407,8 @@ mod tests {
     fn unbounded_empty_and_zero_divisors_take_inaris_path() {
         let unit = (1.0, 2.0);
         assert!(product_enclosure((f64::NEG_INFINITY, 1.0), unit).is_none());
-        assert!(quotient_enclosure(unit, (-1.0, 1.0)).is_none()); // 0 ∈ divisor: half-lines or ℝ (IEEE 1788)
+        // 0 ∈ divisor: half-lines or ℝ (IEEE 1788).
+        assert!(quotient_enclosure(unit, (-1.0, 1.0)).is_none());
         // An empty divisor, then an empty operand: inari's inf/sup of the empty set are (+∞, −∞).
         assert!(quotient_enclosure((0.0, 0.0), (f64::INFINITY, f64::NEG_INFINITY)).is_none());
         assert!(sum_enclosure(f64::INFINITY, 1.0, f64::NEG_INFINITY, 2.0).is_none());
