@@ -149,14 +149,17 @@ fn finals(trace: &Trace) -> Vec<(&str, u64, &FieldStep)> {
 fn worst_and_crossing(out: &mut String, trace: &Trace) {
     let finals = finals(trace);
     // Estimates judge (guaranteed bounds have their own section below); a trace of bounds alone uses the bounds.
-    // A lens is guaranteed when any of its records has a bound: a bound that overflowed is written as null.
-    let guaranteed =
-        |lens: &str| trace.steps.iter().any(|s| s.lens == lens && s.fields.iter().any(|f| f.bound.is_some()));
+    // Which lenses are guaranteed: the header says (older traces: any record with a bound, see `is_guaranteed`).
     let estimating_lenses: Vec<&str> =
-        finals.iter().filter(|(lens, _, _)| !guaranteed(lens)).map(|(lens, _, _)| *lens).collect();
+        finals.iter().filter(|(lens, _, _)| !trace.is_guaranteed(lens)).map(|(lens, _, _)| *lens).collect();
     let judges = |lens: &str| estimating_lenses.is_empty() || estimating_lenses.contains(&lens);
-    let worst =
-        finals.iter().filter(|(lens, _, _)| judges(lens)).max_by(|a, b| a.2.tol_ratio.total_cmp(&b.2.tol_ratio));
+    // An infinite ratio is written as null and reads back as NaN (`docs/trace.md`), so NaN ranks as +∞, whatever
+    // its sign bit: `total_cmp` alone would put a negative NaN below every number and a positive one above ∞.
+    let severity = |ratio: f64| if ratio.is_nan() { f64::INFINITY } else { ratio };
+    let worst = finals
+        .iter()
+        .filter(|(lens, _, _)| judges(lens))
+        .max_by(|a, b| severity(a.2.tol_ratio).total_cmp(&severity(b.2.tol_ratio)));
     if let Some((lens, step, f)) = worst {
         let _ = writeln!(
             out,

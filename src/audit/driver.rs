@@ -166,6 +166,14 @@ impl<'s, S: Scenario> Audit<'s, S> {
         self
     }
 
+    /// Leaves out the per-cell `profile` records the trace otherwise carries for 1-D fields (the heat map of
+    /// the HTML report), e.g. for readers that predate them.
+    #[must_use]
+    pub fn without_profiles(mut self) -> Self {
+        self.plan.profiles = false;
+        self
+    }
+
     /// Adds a lens; each lens runs on its own thread.
     #[must_use]
     pub fn lens<L>(mut self) -> Self
@@ -262,7 +270,7 @@ where
                     result?;
                 }
                 let _ = crate::events::drain();
-                out.push(observe(0, &twin, compiled.as_ref(), &original, &plan.tolerance, events));
+                out.push(observe(0, &twin, compiled.as_ref(), &original, plan, events));
                 next = Some(0);
             }
             while let Some(n) = next.filter(|&n| n < to) {
@@ -280,7 +288,7 @@ where
                 let _ = crate::events::drain();
                 twin.rotate();
                 original.rotate();
-                out.push(observe(n + 1, &twin, compiled.as_ref(), &original, &plan.tolerance, events));
+                out.push(observe(n + 1, &twin, compiled.as_ref(), &original, plan, events));
                 next = Some(n + 1);
             }
             Ok(out)
@@ -306,7 +314,7 @@ fn observe<L: Lens>(
     twin: &Levels<L>,
     compiled: Option<&Levels<L>>,
     original: &Levels<f64>,
-    tolerance: &Tolerance,
+    plan: &Plan,
     events: Vec<(crate::events::EventKind, crate::events::Site, u64)>,
 ) -> LensStep {
     let fields = twin
@@ -315,7 +323,7 @@ fn observe<L: Lens>(
         .enumerate()
         .map(|(i, f)| FieldMeasure {
             representation_err: compiled.map(|c| representation(f, &c.current[i])),
-            ..measure(f, tolerance)
+            ..measure(f, &plan.tolerance, plan.profiled(i))
         })
         .collect();
     let mismatches = twin

@@ -30,6 +30,35 @@ pub(crate) struct FieldMeasure {
     pub infinite: bool,
     /// The part of `max_err` due to representing literals and constants, when the audit splits it.
     pub representation_err: Option<f64>,
+    /// Per-cell errors decimated to at most [`PROFILE_CELLS`] values (the largest over each group of
+    /// `cells_per_value` neighbours), for fields the audit profiles.
+    pub profile: Option<CellProfile>,
+}
+
+/// The most values a profile holds: enough columns for a heat map, few enough that a trace of a 10⁶-cell field
+/// stays small. Common practice, no source.
+pub(crate) const PROFILE_CELLS: usize = 256;
+
+/// A field's per-cell errors at one step, decimated by taking the largest over groups of neighbouring cells.
+#[derive(Clone, Debug, PartialEq)]
+pub(crate) struct CellProfile {
+    pub cells_per_value: usize,
+    pub err: Vec<f64>,
+}
+
+impl CellProfile {
+    /// An all-zero profile of a field of `cells` cells: groups of `⌈cells / PROFILE_CELLS⌉` cells, so that no more
+    /// than `PROFILE_CELLS` values remain.
+    fn zeros(cells: usize) -> CellProfile {
+        let cells_per_value = cells.div_ceil(PROFILE_CELLS).max(1);
+        CellProfile { cells_per_value, err: vec![0.0; cells.div_ceil(cells_per_value)] }
+    }
+
+    /// Counts `err` (already NaN-free: see [`magnitude`]) towards the value of the cell's group.
+    fn add(&mut self, flat: usize, err: f64) {
+        let value = &mut self.err[flat / self.cells_per_value];
+        *value = value.max(err);
+    }
 }
 
 /// A cell where the lens's primal differs from the plain f64 original.
@@ -59,8 +88,8 @@ fn magnitude(x: f64) -> f64 {
     }
 }
 
-/// Measures one field.
-pub(crate) fn measure<L: Lens>(cells: &[L], tolerance: &Tolerance) -> FieldMeasure {
+/// Measures one field; with `profiled`, keeps its decimated per-cell errors too.
+pub(crate) fn measure<L: Lens>(cells: &[L], tolerance: &Tolerance, profiled: bool) -> FieldMeasure {
     let mut m = FieldMeasure {
         max_err: 0.0,
         mean_err: 0.0,
@@ -75,6 +104,7 @@ pub(crate) fn measure<L: Lens>(cells: &[L], tolerance: &Tolerance) -> FieldMeasu
         nan: false,
         infinite: false,
         representation_err: None,
+        profile: profiled.then(|| CellProfile::zeros(cells.len())),
     };
     let (mut sum_err, mut sum_rel) = (0.0, 0.0);
     for (flat, &cell) in cells.iter().enumerate() {
@@ -83,6 +113,9 @@ pub(crate) fn measure<L: Lens>(cells: &[L], tolerance: &Tolerance) -> FieldMeasu
         m.infinite |= primal.is_infinite();
         m.max_abs = m.max_abs.max(magnitude(primal.abs()));
         let err = magnitude(cell.error_estimate());
+        if let Some(profile) = m.profile.as_mut() {
+            profile.add(flat, err);
+        }
         let reference = cell.reference_value().abs();
         // relative error = |primal − exact| / |exact|, with the reference's value standing in for the exact one
         // A cell that is 0 in the primal and in the reference has no relative error to speak of: its absolute

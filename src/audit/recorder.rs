@@ -17,13 +17,15 @@ use super::measure::{self, FieldMeasure, LensStep};
 use super::{validate_fields, Error, FieldSpec, RecordPolicy, Tolerance};
 use crate::lens::Lens;
 use crate::trace::{
-    Build, EventName, EventRecord, EventTotal, FieldStep, Header, Machine, Record, ResultRecord, SiteRecord,
-    StepRecord, Summary, Trace, TraceWriter, FORMAT, VERSION,
+    Build, EventName, EventRecord, EventTotal, FieldStep, Header, Machine, ProfileRecord, Record, ResultRecord,
+    SiteRecord, StepRecord, Summary, Trace, TraceWriter, FORMAT, VERSION,
 };
 use crate::verdict::{self, Evidence};
 
 /// Steps recorded before and after an event under the `auto` policy.
 const EVENT_CONTEXT: usize = 2;
+/// The most steps that get `profile` records besides the last (about 20 per decade: 10¹⁰ steps to fill).
+const MAX_PROFILED_STEPS: usize = 200;
 /// Log-spaced recording: the next recorded step is at least `step · 10^(1/20)` (20 per decade).
 const LOG_RATIO: f64 = 1.122_018_454_301_963_3; // 10^(1/20), from the decimal expansion of 10^0.05
 
@@ -46,6 +48,8 @@ pub struct Plan {
     /// Run each lens a second time with literals and constants as compiled, to split off the representation
     /// error (`representation_err` in the step records).
     pub split_representation: bool,
+    /// Write `profile` records (decimated per-cell errors) for the 1-D fields.
+    pub profiles: bool,
 }
 
 impl Plan {
@@ -62,7 +66,13 @@ impl Plan {
             policy: RecordPolicy::Auto,
             trace,
             split_representation: false,
+            profiles: true,
         }
+    }
+
+    /// Whether field `index` gets `profile` records: profiles are on and the field is 1-D.
+    pub(crate) fn profiled(&self, index: usize) -> bool {
+        self.profiles && self.fields.get(index).is_some_and(|f| f.shape.len() == 1)
     }
 
     /// Checks everything that can be checked before a file is created.
@@ -123,6 +133,8 @@ pub struct Recorder {
     last_event_step: Option<u64>,
     next_log_step: u64,
     last_step: Option<u64>,
+    /// Steps whose profiles were written (every profiled lens and field has one at each).
+    profiled_steps: usize,
     started: Instant,
 }
 
@@ -131,6 +143,7 @@ pub struct Recorder {
 struct Held {
     step: u64,
     records: Vec<StepRecord>,
+    profiles: Vec<ProfileRecord>,
     events: Vec<EventRecord>,
     on_log_grid: bool,
 }
@@ -160,6 +173,7 @@ impl Recorder {
             steps_planned: plan.horizon,
             steps_audited: (plan.steps != plan.horizon).then_some(plan.steps),
             record_policy: plan.policy,
+            guaranteed_lenses: Some(lenses.iter().filter(|l| l.guaranteed).map(|l| l.name.to_string()).collect()),
             machine: Machine::current(),
             build: Build::current(),
             started_unix_s: SystemTime::now().duration_since(UNIX_EPOCH).map_or(0, |d| d.as_secs()),
@@ -171,13 +185,14 @@ impl Recorder {
             plan: plan.clone(),
             lenses,
             writer,
-            trace: Trace { header, steps: Vec::new(), events: Vec::new(), summary: None, truncated_tail: false },
+            trace: Trace::started(header),
             tracks,
             totals: BTreeMap::new(),
             pending: VecDeque::new(),
             last_event_step: None,
             next_log_step: 0,
             last_step: None,
+            profiled_steps: 0,
             started: Instant::now(),
         })
     }
@@ -197,7 +212,11 @@ impl Recorder {
                 return Err(Error::LengthMismatch { field: spec.name.clone(), expected, got: values.len() });
             }
         }
-        let measured = fields.iter().map(|f| measure::measure(f, &self.plan.tolerance)).collect();
+        let measured = fields
+            .iter()
+            .enumerate()
+            .map(|(i, f)| measure::measure(f, &self.plan.tolerance, self.plan.profiled(i)))
+            .collect();
         let events = crate::events::drain();
         self.ingest(LensStep { step, fields: measured, events, mismatches: Vec::new() }.into_all())
     }
@@ -223,8 +242,9 @@ impl Recorder {
         }
         self.check_bounds(&steps, &mut events);
         let records: Vec<StepRecord> = steps.iter().enumerate().map(|(lens, s)| self.step_record(lens, s)).collect();
+        let profiles = steps.into_iter().enumerate().flat_map(|(lens, s)| self.profile_records(lens, s)).collect();
         let events: Vec<EventRecord> = events.into_iter().flatten().collect();
-        self.pending.push_back(Held { step, records, events, on_log_grid });
+        self.pending.push_back(Held { step, records, profiles, events, on_log_grid });
         while self.pending.len() > EVENT_CONTEXT {
             self.release_front(false)?;
         }
@@ -392,6 +412,25 @@ estimate of lens {} is {:.3e}, within tolerance; the gap between the two is the 
         StepRecord { step: s.step, lens: self.lenses[lens].name.to_string(), fields }
     }
 
+    /// The profiles of one lens's step, for the fields that have one.
+    fn profile_records(&self, lens: usize, s: LensStep) -> Vec<ProfileRecord> {
+        s.fields
+            .into_iter()
+            .zip(&self.plan.fields)
+            .filter_map(|(m, spec)| {
+                let profile = m.profile?;
+                Some(ProfileRecord {
+                    step: s.step,
+                    lens: self.lenses[lens].name.to_string(),
+                    field: spec.name.clone(),
+                    cells_per_value: profile.cells_per_value,
+                    // A cell whose estimate was NaN counts as infinite (see `measure`); JSON writes both as null.
+                    err: profile.err.into_iter().map(|e| e.is_finite().then_some(e)).collect(),
+                })
+            })
+            .collect()
+    }
+
     /// Writes the oldest held step — its records if the policy keeps them, then its events. The step is kept
     /// when every step is, on the log grid, with an event within `EVENT_CONTEXT` steps on either side, or when
     /// `last` (the run's final step).
@@ -411,6 +450,16 @@ estimate of lens {} is {:.3e}, within tolerance; the gap between the two is the 
             || last;
         if keep {
             self.write_steps(held.records)?;
+        }
+        // Profiles at log-spaced steps only (and the last), at most `MAX_PROFILED_STEPS`: a bounded heat map
+        // whatever the policy and the run's length.
+        let profiled = (held.on_log_grid && self.profiled_steps < MAX_PROFILED_STEPS) || last;
+        if profiled && !held.profiles.is_empty() {
+            self.profiled_steps += 1;
+            for profile in held.profiles {
+                self.writer.write(&Record::Profile(profile.clone()))?;
+                self.trace.profiles.push(profile);
+            }
         }
         for event in held.events {
             self.writer.write(&Record::Event(event.clone()))?;

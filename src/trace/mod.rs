@@ -12,7 +12,7 @@ use serde::{Deserialize, Deserializer, Serialize};
 
 pub use crate::audit::Tolerance;
 pub use crate::verdict::{Growth, Status, Verdict};
-pub use reader::{parse, read, ReadError};
+pub use reader::{parse, read, read_from, ReadError, MAX_LINE_BYTES};
 pub use writer::TraceWriter;
 
 /// The `format` member of every header.
@@ -26,6 +26,8 @@ pub struct Trace {
     pub header: Header,
     pub steps: Vec<StepRecord>,
     pub events: Vec<EventRecord>,
+    /// Per-cell errors of 1-D fields at some recorded steps (empty in traces written without them).
+    pub profiles: Vec<ProfileRecord>,
     /// `None` for an incomplete run (killed, or stopped by an error).
     pub summary: Option<Summary>,
     /// The file ended in a partial line (a run killed while writing), which the reader skipped.
@@ -33,6 +35,36 @@ pub struct Trace {
 }
 
 impl Trace {
+    /// An empty trace under `header`: what a run has written before its first step.
+    #[must_use]
+    pub fn started(header: Header) -> Trace {
+        Trace {
+            header,
+            steps: Vec::new(),
+            events: Vec::new(),
+            profiles: Vec::new(),
+            summary: None,
+            truncated_tail: false,
+        }
+    }
+
+    /// The last step any lens recorded.
+    #[must_use]
+    pub fn last_step(&self) -> Option<u64> {
+        self.steps.iter().map(|s| s.step).max()
+    }
+
+    /// Whether `lens` has a guaranteed bound: as the header says, or, in a trace whose header does not say,
+    /// when any of its step records has a bound (a bound that overflowed is written as `null`, so one record is
+    /// not enough).
+    #[must_use]
+    pub fn is_guaranteed(&self, lens: &str) -> bool {
+        match &self.header.guaranteed_lenses {
+            Some(guaranteed) => guaranteed.iter().any(|g| g == lens),
+            None => self.steps.iter().filter(|s| s.lens == lens).flat_map(|s| &s.fields).any(|f| f.bound.is_some()),
+        }
+    }
+
     /// Whether the run ended normally (the trace has its summary).
     #[must_use]
     pub fn is_complete(&self) -> bool {
@@ -47,6 +79,7 @@ pub enum Record {
     Header(Header),
     Step(StepRecord),
     Event(EventRecord),
+    Profile(ProfileRecord),
     Summary(Summary),
 }
 
@@ -66,6 +99,10 @@ pub struct Header {
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub steps_audited: Option<u64>,
     pub record_policy: RecordPolicy,
+    /// The lenses whose `bound` is a guarantee (absent in traces written before it was added: readers then take a
+    /// lens with a non-null bound for a guaranteed one).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub guaranteed_lenses: Option<Vec<String>>,
     pub machine: Machine,
     pub build: Build,
     pub started_unix_s: u64,
@@ -179,6 +216,28 @@ pub struct FieldStep {
     /// The largest `|u|` over the cells (the primal).
     #[serde(default, deserialize_with = "nan_if_null")]
     pub max_abs: f64,
+}
+
+/// The per-cell errors of a 1-D field at one step, as one lens sees them. `err[k]` is the largest error estimate
+/// over cells `k·cells_per_value ..< (k+1)·cells_per_value` (the last group may be shorter); `None` (written
+/// `null`) where it is not a finite number.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct ProfileRecord {
+    pub step: u64,
+    pub lens: String,
+    pub field: String,
+    /// How many neighbouring cells each value covers (1, the default, when the field has few cells).
+    #[serde(default = "one", skip_serializing_if = "is_one")]
+    pub cells_per_value: usize,
+    pub err: Vec<Option<f64>>,
+}
+
+fn one() -> usize {
+    1
+}
+
+fn is_one(n: &usize) -> bool {
+    *n == 1
 }
 
 /// What an event record reports.
