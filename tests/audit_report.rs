@@ -56,3 +56,19 @@ fn report_has_every_section() {
     let partial = render_text(&trace::parse(&prefix).unwrap());
     assert!(partial.contains("INCOMPLETE") && partial.contains("Verdict: none"), "{partial}");
 }
+
+#[test]
+fn worst_field_ranks_a_nan_ratio_as_infinite_whatever_its_sign() {
+    let path = scratch("audit_report_nan").join("fold.jsonl");
+    let mut trace =
+        Audit::new(&Fold, Tolerance::absolute(1e-3).unwrap(), 5).trace(&path).lens::<Shadow>().run().unwrap();
+    // A second field whose last ratio is NaN, as an infinite ratio reads back (`docs/trace.md`: JSON writes ∞ as
+    // null, null reads as NaN); `-NaN` is what arithmetic on NaN may give, and `total_cmp` puts it below 0.
+    trace.header.fields.push(twinstep::trace::FieldSpec::new("w", &[1]));
+    let last = trace.steps.last_mut().unwrap();
+    let mut blown = last.fields[0].clone();
+    (blown.name, blown.tol_ratio, blown.max_err) = ("w".to_string(), -f64::NAN, f64::NAN);
+    last.fields.push(blown);
+    let text = render_text(&trace);
+    assert!(text.contains("Worst field: w"), "{text}");
+}

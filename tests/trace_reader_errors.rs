@@ -54,6 +54,43 @@ fn malformed_traces_are_errors() {
     let mut backwards = lines[..lines.len() - 1].to_vec();
     backwards.push(lines[1]);
     assert!(matches!(trace::parse(&join(&backwards)), Err(ReadError::OutOfOrder { .. })));
+    // A header of another version is a version error even when its members are not those of version 1.
+    let future = r#"{"record":"header","format":"twinstep-trace","version":7,"something":"else"}"#;
+    assert!(matches!(trace::parse(&join(&[future])), Err(ReadError::UnknownVersion { version: 7 })));
+    // A line longer than the limit is refused before it is parsed, wherever it is.
+    let long = format!("{{\"record\":\"step\",\"pad\":\"{}\"}}", "x".repeat(trace::MAX_LINE_BYTES));
+    let mut too_long = lines.clone();
+    too_long.insert(1, &long);
+    assert!(matches!(trace::parse(&join(&too_long)), Err(ReadError::LineTooLong { line: 2 })));
+    // Records must name lenses and fields the header declares, step, profile, event and summary alike.
+    let step = lines.iter().position(|l| l.contains("\"record\":\"step\"")).unwrap();
+    let profile = lines.iter().position(|l| l.contains("\"record\":\"profile\"")).unwrap();
+    let summary = lines.len() - 1;
+    for (at, from, to) in [
+        (step, "\"lens\":\"shadow\"", "\"lens\":\"ghost\""),
+        (step, "\"name\":\"u\"", "\"name\":\"v\""),
+        (profile, "\"lens\":\"shadow\"", "\"lens\":\"ghost\""),
+        (profile, "\"field\":\"u\"", "\"field\":\"v\""),
+        (summary, "\"field\":\"u\"", "\"field\":\"v\""),
+        (0, "\"guaranteed_lenses\":[]", "\"guaranteed_lenses\":[\"ghost\"]"),
+    ] {
+        let mut renamed: Vec<String> = lines.iter().map(ToString::to_string).collect();
+        assert!(renamed[at].contains(from), "{from} in line {at}");
+        renamed[at] = renamed[at].replace(from, to);
+        let renamed: Vec<&str> = renamed.iter().map(String::as_str).collect();
+        match trace::parse(&join(&renamed)) {
+            Err(ReadError::UnknownName { message }) => assert!(message.contains("unknown"), "{message}"),
+            other => panic!("{to} in line {at}: {other:?}"),
+        }
+    }
+    // A field or lens declared twice.
+    let twice_declared = header.replace("\"lenses\":[\"shadow\"]", "\"lenses\":[\"shadow\",\"shadow\"]");
+    assert_ne!(twice_declared, header);
+    assert!(matches!(trace::parse(&join(&[&twice_declared])), Err(ReadError::UnknownName { .. })));
+    // A header without `guaranteed_lenses` (older traces) still reads.
+    let old_header = header.replace("\"guaranteed_lenses\":[],", "");
+    assert_ne!(old_header, header);
+    assert!(trace::parse(&join(&[&old_header])).unwrap().header.guaranteed_lenses.is_none());
     // A missing file.
     let missing = scratch("trace_reader_missing").join("nothing-here.jsonl");
     assert!(matches!(trace::read(&missing), Err(ReadError::Io { .. })));

@@ -28,7 +28,7 @@ pub struct Point {
 pub struct FieldLens {
     pub field: String,
     pub lens: String,
-    /// The lens gives guaranteed bounds (its records carry a `bound`); its `max_err` is then that bound too.
+    /// The lens gives guaranteed bounds (the header's `guaranteed_lenses`); its `max_err` is then that bound too.
     pub guaranteed: bool,
     pub points: Vec<Point>,
     pub first_crossing: Option<u64>,
@@ -93,7 +93,8 @@ impl<'a> Analysis<'a> {
             })
             .collect();
         points.sort_by_key(|p| p.step);
-        let guaranteed = points.iter().any(|p| p.bound.is_some());
+        // The header says which lenses are guaranteed (older traces: a lens with any bound, see `is_guaranteed`).
+        let guaranteed = trace.is_guaranteed(lens);
         let peak_tol_ratio = points.iter().fold(None, |acc, p| max_opt(acc, p.tol_ratio));
         let crossing_in_steps = points.iter().find(|p| p.tol_ratio.is_some_and(|r| r > 1.0)).map(|p| p.step);
         let last = points.last().copied();

@@ -247,6 +247,8 @@ pub fn heat_map(field: &str, lens: &str, profiles: &[&Profile]) -> Result<Option
     if width == 0 {
         return Ok(None);
     }
+    // A profile value covers `cells_per_value` cells: the x axis counts cells, not values.
+    let cells_per_value = ordered.iter().map(|p| p.cells_per_value).max().unwrap_or(1).max(1) as f64;
     let row_bins = bins(ordered.len(), MAX_HEAT_ROWS);
     let column_bins = bins(width, MAX_HEAT_COLUMNS);
     // grid[row][column] = log10 of the largest positive error in the bin.
@@ -288,7 +290,10 @@ pub fn heat_map(field: &str, lens: &str, profiles: &[&Profile]) -> Result<Option
             .margin(12)
             .x_label_area_size(40)
             .y_label_area_size(70)
-            .build_cartesian_2d(0.0..width as f64, (0..(rows as u32).saturating_sub(1)).into_segmented())
+            .build_cartesian_2d(
+                0.0..width as f64 * cells_per_value,
+                (0..(rows as u32).saturating_sub(1)).into_segmented(),
+            )
             .map_err(failed)?;
         // One label per row at most a dozen times: each names the last step the row covers.
         chart
@@ -311,8 +316,8 @@ pub fn heat_map(field: &str, lens: &str, profiles: &[&Profile]) -> Result<Option
         let rectangles = grid.iter().enumerate().flat_map(|(row, (_, values))| {
             column_bins.iter().zip(values).filter_map(move |(cols, value)| {
                 value.map(|v| {
-                    let corner_a = (cols.start as f64, SegmentValue::Exact(row as u32));
-                    let corner_b = (cols.end as f64, SegmentValue::Exact(row as u32 + 1));
+                    let corner_a = (cols.start as f64 * cells_per_value, SegmentValue::Exact(row as u32));
+                    let corner_b = (cols.end as f64 * cells_per_value, SegmentValue::Exact(row as u32 + 1));
                     Rectangle::new([corner_a, corner_b], ramp((v - lo) / span).filled())
                 })
             })
