@@ -134,25 +134,22 @@ fn sided(hi: f64, above: bool, zero: bool) -> (f64, f64) {
     }
 }
 
-/// Whether a literal's text is an integer the compiled double holds exactly (`2.0`, `1`, `100.`): such literals
-/// skip the parser. Written as a plain loop over the bytes so that the optimizer folds it for a constant text.
+/// Whether a literal is an integer the compiled double holds exactly (`2.0`, `1`, `100.`, `1e2`): such literals
+/// skip the parser and the cache.
+///
+/// The test looks at the value and the text's length only, not at its characters: a loop over the bytes, even
+/// one the optimizer folds away for a constant text in the end, kept the loops of a kernel from vectorizing
+/// (measured in `benches/lenses.rs`, 1-D heat). Why the length is enough: a text of at most 15 characters has at
+/// most 14 significant digits, so a non-integer decimal d it spells lies at least 10^(⌊log10 |d|⌋ − 13) from
+/// every integer, while the doubles round to an integer only from within half an ulp, below
+/// |d|·2^-53 < 10^(log10 |d| − 15.9) — so if such a text rounds to an integer value below 2^53 (every integer
+/// there is a double), the text *is* that integer. The one exception is underflow: `1e-400` rounds to 0 from a
+/// non-zero number, and needs at least 6 characters, so 0 counts as exact only from texts of at most 5.
 #[inline(always)]
 #[must_use]
 pub fn is_exact_integer_literal(value: f64, text: &str) -> bool {
-    // Below 2^53 every integer is a double, so an integer text that rounded to `value` is `value` itself.
-    if value.is_nan() || value.abs() >= 9_007_199_254_740_992.0 {
-        return false;
-    }
-    let mut seen_point = false;
-    for &byte in text.as_bytes() {
-        match byte {
-            b'.' => seen_point = true,
-            b'0' => {}
-            b'1'..=b'9' if !seen_point => {}
-            _ => return false,
-        }
-    }
-    true
+    let integer = value.fract() == 0.0 && value.abs() < 9_007_199_254_740_992.0; // |value| < 2^53, not NaN/∞
+    integer && text.len() <= 15 && (value != 0.0 || text.len() <= 5)
 }
 
 /// One entry of the per-thread direct-mapped cache of literal references: the site key (text address and length)
@@ -332,6 +329,79 @@ mod tests {
     //! each must keep its own reference — checked against exact rational arithmetic (dashu-ratio).
 
     use super::*;
+
+    /// Whether the decimal `text` is exactly the double `value`, by exact rational arithmetic (dashu-ratio).
+    fn exactly(value: f64, text: &str) -> bool {
+        let normalized = if text.ends_with('.') { format!("{text}0") } else { text.replace(".e", ".0e") };
+        RBig::from_str_decimal(&normalized).expect("decimal text") == RBig::try_from(value).expect("finite")
+    }
+
+    #[test]
+    fn integer_literal_shortcut_takes_only_exact_texts() {
+        // Texts that round to an integer double without being it (long, or underflowing), and exact ones.
+        let tricky = [
+            "0.99999999999999999999",
+            "1.0000000000000001",
+            "4503599627370496.5", // 2^52 + 0.5 rounds to the even 2^52 (IEEE 754-2019 ties-to-even)
+            "9007199254740993.0", // 2^53 + 1 rounds to 2^53
+            "1e-400",
+            "2e-324", // below half the smallest subnormal: rounds to 0
+            "2.0",
+            "4.",
+            "100.0",
+            "1e2",
+            "1.5e1",
+            "0.0",
+            "0e0",
+            "123456789012345",
+            "0.5",
+            "2.5e-1",
+        ];
+        for text in tricky {
+            let value: f64 = text.parse().expect("decimal text");
+            if is_exact_integer_literal(value, text) {
+                assert!(exactly(value, text), "{text} taken as the integer {value}");
+            }
+        }
+        // The shortcut is taken for the integers kernels write (else it would not pay), and not for the rest.
+        for text in ["2.0", "4.", "100.0", "1e2", "0.0", "1"] {
+            assert!(is_exact_integer_literal(text.parse().unwrap(), text), "{text}");
+        }
+        for text in ["1e-400", "4503599627370496.5", "0.99999999999999999999", "0.5"] {
+            assert!(!is_exact_integer_literal(text.parse().unwrap(), text), "{text}");
+        }
+    }
+
+    #[test]
+    fn integer_literal_shortcut_on_random_short_texts() {
+        // Pseudo-random texts of up to 15 characters around integers (xorshift, common practice, no source):
+        // digits, a point and an exponent; every text the shortcut takes must be exactly its value.
+        let mut state = 0x2545_F491_4F6C_DD1D_u64;
+        let mut next = |bound: u64| {
+            state ^= state << 13;
+            state ^= state >> 7;
+            state ^= state << 17;
+            state % bound
+        };
+        let mut taken = 0;
+        for _ in 0..20_000 {
+            let digits = 1 + next(9) as u32;
+            let integer = next(10u64.pow(digits));
+            let fraction = match next(3) {
+                0 => String::new(),
+                1 => ".0".to_string(),
+                _ => format!(".{}", next(1000)),
+            };
+            let exponent = if next(4) == 0 { format!("e{}", next(7) as i64 - 3) } else { String::new() };
+            let text = format!("{integer}{fraction}{exponent}");
+            let value: f64 = text.parse().expect("decimal text");
+            if text.len() <= 15 && is_exact_integer_literal(value, &text) {
+                taken += 1;
+                assert!(exactly(value, &text), "{text} taken as the integer {value}");
+            }
+        }
+        assert!(taken > 1_000, "the shortcut was taken only {taken} times");
+    }
 
     #[test]
     fn colliding_literal_sites_keep_their_own_references() {
