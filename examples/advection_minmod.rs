@@ -8,7 +8,7 @@ mod common;
 
 use std::process::ExitCode;
 
-use twinstep::audit::{Audit, Error, FieldSpec, Levels, Scenario, Tolerance};
+use twinstep::audit::{Error, FieldSpec, Levels, Scenario, Tolerance};
 use twinstep::lens::{Bound, Shadow};
 use twinstep::{BaseOps, MixedOps, Real, RefOps};
 
@@ -77,14 +77,11 @@ fn main() -> ExitCode {
     let cells = 120;
     let dye = (0..cells).map(|i| if (40..80).contains(&i) { 0.9 } else { 0.2 }).collect();
     let pipe = Pipe { dye, courant: 0.5 };
-    let outcome = Tolerance::mixed(1e-12, 1e-10).and_then(|tolerance| {
-        Audit::new(&pipe, tolerance, 2_400)
-            .kernel("ring::advect")
-            .describe("dye slug on a ring, 120 cells, Courant 0.5, minmod MUSCL")
-            .trace(common::trace_path("advection_minmod"))
-            .lens::<Bound>()
-            .lens::<Shadow>()
-            .run()
-    });
-    common::report("advection_minmod", outcome)
+    let example = common::Example {
+        name: "advection_minmod",
+        kernel: "ring::advect",
+        about: "dye slug on a ring, 120 cells, Courant 0.5, minmod MUSCL",
+        steps: 2_400,
+    };
+    example.run(&pipe, Tolerance::mixed(1e-12, 1e-10), |audit| audit.lens::<Bound>().lens::<Shadow>())
 }

@@ -8,7 +8,7 @@ mod common;
 
 use std::process::ExitCode;
 
-use twinstep::audit::{Audit, Error, FieldSpec, Levels, Scenario, Tolerance};
+use twinstep::audit::{Error, FieldSpec, Levels, Scenario, Tolerance};
 use twinstep::lens::{Bound, Shadow};
 use twinstep::{BaseOps, MixedOps, Real, RefOps};
 
@@ -78,15 +78,11 @@ impl Scenario for Greenhouse {
 fn main() -> ExitCode {
     let greenhouse = Greenhouse { n: 48, r: 0.2 };
     // 1e-12 K absolute: a thousandth of the draught's amplitude.
-    let outcome = Tolerance::absolute(1e-12).and_then(|tolerance| {
-        Audit::new(&greenhouse, tolerance, 1_500)
-            .kernel("greenhouse_step")
-            .describe("greenhouse air, 48 x 48, r = 0.2, 300 K + 1 nK draught")
-            .horizon(20_000)
-            .trace(common::trace_path("diffusion_2d"))
-            .lens::<Bound>()
-            .lens::<Shadow>()
-            .run()
-    });
-    common::report("diffusion_2d", outcome)
+    let example = common::Example {
+        name: "diffusion_2d",
+        kernel: "greenhouse_step",
+        about: "greenhouse air, 48 x 48, r = 0.2, 300 K + 1 nK draught",
+        steps: 1_500,
+    };
+    example.run(&greenhouse, Tolerance::absolute(1e-12), |audit| audit.horizon(20_000).lens::<Bound>().lens::<Shadow>())
 }

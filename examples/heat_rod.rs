@@ -8,7 +8,7 @@ mod common;
 
 use std::process::ExitCode;
 
-use twinstep::audit::{Audit, Error, FieldSpec, Levels, Scenario, Tolerance};
+use twinstep::audit::{Error, FieldSpec, Levels, Scenario, Tolerance};
 use twinstep::lens::{Bound, Interval, Shadow};
 use twinstep::{BaseOps, MixedOps, Real, RefOps};
 
@@ -73,17 +73,13 @@ impl Scenario for Rod {
 
 fn main() -> ExitCode {
     let rod = Rod { points: 101, r: 0.45 };
-    let outcome = Tolerance::mixed(1e-13, 1e-9).and_then(|tolerance| {
-        Audit::new(&rod, tolerance, 2_000)
-            .kernel("rod_step")
-            .describe("torch-warmed rod, 101 points, r = 0.45")
-            .horizon(200_000)
-            .split_representation()
-            .trace(common::trace_path("heat_rod"))
-            .lens::<Bound>()
-            .lens::<Interval>()
-            .lens::<Shadow>()
-            .run()
-    });
-    common::report("heat_rod", outcome)
+    let example = common::Example {
+        name: "heat_rod",
+        kernel: "rod_step",
+        about: "torch-warmed rod, 101 points, r = 0.45",
+        steps: 2_000,
+    };
+    example.run(&rod, Tolerance::mixed(1e-13, 1e-9), |audit| {
+        audit.horizon(200_000).split_representation().lens::<Bound>().lens::<Interval>().lens::<Shadow>()
+    })
 }

@@ -8,7 +8,7 @@ mod common;
 
 use std::process::ExitCode;
 
-use twinstep::audit::{Audit, Error, FieldSpec, Levels, Scenario, Scheme, Tolerance};
+use twinstep::audit::{Error, FieldSpec, Levels, Scenario, Scheme, Tolerance};
 use twinstep::lens::{Bound, Shadow};
 use twinstep::{BaseOps, MixedOps, Real, RefOps};
 
@@ -55,15 +55,11 @@ impl Scenario for Recurrence {
 }
 
 fn main() -> ExitCode {
-    let outcome = Tolerance::relative(1e-6).and_then(|tolerance| {
-        Audit::new(&Recurrence, tolerance, 30)
-            .kernel("next_term")
-            .describe("Muller's recurrence, u0 = 2, u1 = -4")
-            .every_step()
-            .trace(common::trace_path("muller"))
-            .lens::<Bound>()
-            .lens::<Shadow>()
-            .run()
-    });
-    common::report("muller", outcome)
+    let example = common::Example {
+        name: "muller",
+        kernel: "next_term",
+        about: "Muller's recurrence, u0 = 2, u1 = -4",
+        steps: 30,
+    };
+    example.run(&Recurrence, Tolerance::relative(1e-6), |audit| audit.every_step().lens::<Bound>().lens::<Shadow>())
 }

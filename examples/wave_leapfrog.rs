@@ -8,7 +8,7 @@ mod common;
 
 use std::process::ExitCode;
 
-use twinstep::audit::{Audit, Error, FieldSpec, Levels, Scenario, Scheme, Tolerance};
+use twinstep::audit::{Error, FieldSpec, Levels, Scenario, Scheme, Tolerance};
 use twinstep::lens::{Bound, Shadow};
 use twinstep::{BaseOps, MixedOps, Real, RefOps};
 
@@ -97,15 +97,11 @@ impl Scenario for GuitarString {
 
 fn main() -> ExitCode {
     let string = GuitarString { points: 201, courant_squared: 0.9 * 0.9 };
-    let outcome = Tolerance::absolute(1e-12).and_then(|tolerance| {
-        Audit::new(&string, tolerance, 5_000)
-            .kernel("string::leapfrog")
-            .describe("plucked string, 201 points, Courant 0.9, leapfrog")
-            .horizon(1_000_000)
-            .trace(common::trace_path("wave_leapfrog"))
-            .lens::<Bound>()
-            .lens::<Shadow>()
-            .run()
-    });
-    common::report("wave_leapfrog", outcome)
+    let example = common::Example {
+        name: "wave_leapfrog",
+        kernel: "string::leapfrog",
+        about: "plucked string, 201 points, Courant 0.9, leapfrog",
+        steps: 5_000,
+    };
+    example.run(&string, Tolerance::absolute(1e-12), |audit| audit.horizon(1_000_000).lens::<Bound>().lens::<Shadow>())
 }

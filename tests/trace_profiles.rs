@@ -51,6 +51,14 @@ impl Scenario for Thirds {
             }
         }
     }
+
+    fn step_original(&self, levels: &mut Levels<f64>) {
+        for field in 0..2 {
+            for i in 0..levels.current[field].len() {
+                levels.next[field][i] = third(levels.current[field][i]);
+            }
+        }
+    }
 }
 
 fn profile<'t>(profiles: &'t [ProfileRecord], step: u64, lens: &str) -> &'t ProfileRecord {
