@@ -134,22 +134,27 @@ fn sided(hi: f64, above: bool, zero: bool) -> (f64, f64) {
     }
 }
 
-/// Whether a literal is an integer the compiled double holds exactly (`2.0`, `1`, `100.`, `1e2`): such literals
-/// skip the parser and the cache.
+/// Whether a literal is a number the compiled double holds exactly and that is recognised without parsing: an
+/// integer below 2^53 (`2.0`, `1`, `100.`, `1e2`) or a multiple of 1/64 below 2^47 (`0.5`, `0.25`, `1.5`), written
+/// in at most 15 characters. Such literals skip the parser and the cache.
 ///
 /// The test looks at the value and the text's length only, not at its characters: a loop over the bytes, even
 /// one the optimizer folds away for a constant text in the end, kept the loops of a kernel from vectorizing
-/// (measured in `benches/lenses.rs`, 1-D heat). Why the length is enough: a text of at most 15 characters has at
-/// most 14 significant digits, so a non-integer decimal d it spells lies at least 10^(⌊log10 |d|⌋ − 13) from
-/// every integer, while the doubles round to an integer only from within half an ulp, below
-/// |d|·2^-53 < 10^(log10 |d| − 15.9) — so if such a text rounds to an integer value below 2^53 (every integer
-/// there is a double), the text *is* that integer. The one exception is underflow: `1e-400` rounds to 0 from a
-/// non-zero number, and needs at least 6 characters, so 0 counts as exact only from texts of at most 5.
+/// (measured in `benches/lenses.rs`, 1-D heat). Why the length is enough: a text of at most 15 characters spells
+/// d = D·10^q with D < 10^15 and, when q < 0 (a point or an exponent takes a character), D < 10^14. Let the
+/// double v = M·2^-k with k ≤ 6 (M an integer). If d ≠ v, then d − v is a non-zero multiple of
+/// 10^min(q, 0)·2^-k, while round-to-nearest moves d by at most half an ulp, |v|·2^-53. For q ≥ 0 that needs
+/// |v| ≥ 2^(53 − k); for q < 0 it needs 10^q·2^-k ≤ |v|·2^-53 < 1.0001·10^(14 + q)·2^-53, i.e.
+/// 2^(53 − k) < 1.0001·10^14, false for k ≤ 6. So below 2^(53 − k) — 2^53 for integers, 2^47 for multiples of
+/// 1/64 — such a text *is* its double. The one exception is underflow: `1e-400` rounds to 0 from a non-zero
+/// number, and needs at least 6 characters, so 0 counts as exact only from texts of at most 5.
 #[inline(always)]
 #[must_use]
-pub fn is_exact_integer_literal(value: f64, text: &str) -> bool {
-    let integer = value.fract() == 0.0 && value.abs() < 9_007_199_254_740_992.0; // |value| < 2^53, not NaN/∞
-    integer && text.len() <= 15 && (value != 0.0 || text.len() <= 5)
+pub fn is_exact_short_literal(value: f64, text: &str) -> bool {
+    // Both tests are false for NaN and ±∞ (their fract is NaN).
+    let integer = value.fract() == 0.0 && value.abs() < 9_007_199_254_740_992.0; // k = 0, |v| < 2^53
+    let sixty_fourths = (value * 64.0).fract() == 0.0 && value.abs() < 140_737_488_355_328.0; // k ≤ 6, |v| < 2^47
+    (integer || sixty_fourths) && text.len() <= 15 && (value != 0.0 || text.len() <= 5)
 }
 
 /// One entry of the per-thread direct-mapped cache of literal references: the site key (text address and length)
@@ -337,7 +342,7 @@ mod tests {
     }
 
     #[test]
-    fn integer_literal_shortcut_takes_only_exact_texts() {
+    fn short_literal_shortcut_takes_only_exact_texts() {
         // Texts that round to an integer double without being it (long, or underflowing), and exact ones.
         let tricky = [
             "0.99999999999999999999",
@@ -356,24 +361,30 @@ mod tests {
             "123456789012345",
             "0.5",
             "2.5e-1",
+            "0.50000000000000001", // rounds to 0.5, 19 characters
+            "0.015625",            // 2^-6
+            "0.0078125",           // 2^-7: exact, but outside the shortcut
+            "0.1",
+            "1.75",
+            "140737488355327.5",
         ];
         for text in tricky {
             let value: f64 = text.parse().expect("decimal text");
-            if is_exact_integer_literal(value, text) {
+            if is_exact_short_literal(value, text) {
                 assert!(exactly(value, text), "{text} taken as the integer {value}");
             }
         }
         // The shortcut is taken for the integers kernels write (else it would not pay), and not for the rest.
-        for text in ["2.0", "4.", "100.0", "1e2", "0.0", "1"] {
-            assert!(is_exact_integer_literal(text.parse().unwrap(), text), "{text}");
+        for text in ["2.0", "4.", "100.0", "1e2", "0.0", "1", "0.5", "0.25", "1.5", "2.5e-1", "0.015625"] {
+            assert!(is_exact_short_literal(text.parse().unwrap(), text), "{text}");
         }
-        for text in ["1e-400", "4503599627370496.5", "0.99999999999999999999", "0.5"] {
-            assert!(!is_exact_integer_literal(text.parse().unwrap(), text), "{text}");
+        for text in ["1e-400", "4503599627370496.5", "0.99999999999999999999", "0.50000000000000001", "0.1"] {
+            assert!(!is_exact_short_literal(text.parse().unwrap(), text), "{text}");
         }
     }
 
     #[test]
-    fn integer_literal_shortcut_on_random_short_texts() {
+    fn short_literal_shortcut_on_random_short_texts() {
         // Pseudo-random texts of up to 15 characters around integers (xorshift, common practice, no source):
         // digits, a point and an exponent; every text the shortcut takes must be exactly its value.
         let mut state = 0x2545_F491_4F6C_DD1D_u64;
@@ -387,15 +398,16 @@ mod tests {
         for _ in 0..20_000 {
             let digits = 1 + next(9) as u32;
             let integer = next(10u64.pow(digits));
-            let fraction = match next(3) {
+            let fraction = match next(4) {
                 0 => String::new(),
                 1 => ".0".to_string(),
+                2 => [".5", ".25", ".125", ".75", ".015625", ".5000000001"][next(6) as usize].to_string(),
                 _ => format!(".{}", next(1000)),
             };
             let exponent = if next(4) == 0 { format!("e{}", next(7) as i64 - 3) } else { String::new() };
             let text = format!("{integer}{fraction}{exponent}");
             let value: f64 = text.parse().expect("decimal text");
-            if text.len() <= 15 && is_exact_integer_literal(value, &text) {
+            if text.len() <= 15 && is_exact_short_literal(value, &text) {
                 taken += 1;
                 assert!(exactly(value, &text), "{text} taken as the integer {value}");
             }

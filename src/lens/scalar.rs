@@ -475,7 +475,7 @@ macro_rules! lens_scalar {
             #[inline(always)]
             fn lit(value: f64, text: &'static str) -> $lens<W> {
                 use $crate::lens::reference as r;
-                if r::is_exact_integer_literal(value, text) || r::literal_mode() == r::LiteralMode::AsCompiled {
+                if r::is_exact_short_literal(value, text) || r::literal_mode() == r::LiteralMode::AsCompiled {
                     <$lens<W> as $crate::lens::scalar::Core>::exact(value)
                 } else {
                     <$lens<W> as $crate::lens::scalar::Core>::with_reference(value, &r::literal_reference(value, text))
