@@ -104,6 +104,8 @@ fn demo_command_prints_the_report_and_writes_html() {
     assert!(report.contains("Verdict:"), "{report}");
     let page = std::fs::read_to_string(&html).expect("the HTML report");
     assert!(page.matches("<svg").count() >= 3, "plots in the page");
+    // The audit writes profiles for 1-D fields by default: a space × time map per field (T, rise) and lens.
+    assert_eq!(page.matches("), space × time").count(), 4, "heat maps in the page");
     let unwritable = scratch("");
     let output = twinstep(&[
         "demo",
