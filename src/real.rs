@@ -72,8 +72,25 @@ impl Constant {
             ($($c:ident),*) => { match self { $(Constant::$c => stringify!($c)),* } };
         }
         names!(
-            PI, TAU, E, SQRT_2, LN_2, LN_10, LOG2_E, LOG10_E, LOG2_10, LOG10_2, FRAC_PI_2, FRAC_PI_3, FRAC_PI_4,
-            FRAC_PI_6, FRAC_PI_8, FRAC_1_PI, FRAC_2_PI, FRAC_2_SQRT_PI, FRAC_1_SQRT_2
+            PI,
+            TAU,
+            E,
+            SQRT_2,
+            LN_2,
+            LN_10,
+            LOG2_E,
+            LOG10_E,
+            LOG2_10,
+            LOG10_2,
+            FRAC_PI_2,
+            FRAC_PI_3,
+            FRAC_PI_4,
+            FRAC_PI_6,
+            FRAC_PI_8,
+            FRAC_1_PI,
+            FRAC_2_PI,
+            FRAC_2_SQRT_PI,
+            FRAC_1_SQRT_2
         )
     }
 
@@ -91,8 +108,25 @@ impl Constant {
             ($($c:ident),*) => { match self { $(Constant::$c => c::$c),* } };
         }
         values!(
-            PI, TAU, E, SQRT_2, LN_2, LN_10, LOG2_E, LOG10_E, LOG2_10, LOG10_2, FRAC_PI_2, FRAC_PI_3, FRAC_PI_4,
-            FRAC_PI_6, FRAC_PI_8, FRAC_1_PI, FRAC_2_PI, FRAC_2_SQRT_PI, FRAC_1_SQRT_2
+            PI,
+            TAU,
+            E,
+            SQRT_2,
+            LN_2,
+            LN_10,
+            LOG2_E,
+            LOG10_E,
+            LOG2_10,
+            LOG10_2,
+            FRAC_PI_2,
+            FRAC_PI_3,
+            FRAC_PI_4,
+            FRAC_PI_6,
+            FRAC_PI_8,
+            FRAC_1_PI,
+            FRAC_2_PI,
+            FRAC_2_SQRT_PI,
+            FRAC_1_SQRT_2
         )
     }
 
@@ -104,8 +138,25 @@ impl Constant {
             ($($c:ident),*) => { match self { $(Constant::$c => c::$c),* } };
         }
         values!(
-            PI, TAU, E, SQRT_2, LN_2, LN_10, LOG2_E, LOG10_E, LOG2_10, LOG10_2, FRAC_PI_2, FRAC_PI_3, FRAC_PI_4,
-            FRAC_PI_6, FRAC_PI_8, FRAC_1_PI, FRAC_2_PI, FRAC_2_SQRT_PI, FRAC_1_SQRT_2
+            PI,
+            TAU,
+            E,
+            SQRT_2,
+            LN_2,
+            LN_10,
+            LOG2_E,
+            LOG10_E,
+            LOG2_10,
+            LOG10_2,
+            FRAC_PI_2,
+            FRAC_PI_3,
+            FRAC_PI_4,
+            FRAC_PI_6,
+            FRAC_PI_8,
+            FRAC_1_PI,
+            FRAC_2_PI,
+            FRAC_2_SQRT_PI,
+            FRAC_1_SQRT_2
         )
     }
 }
