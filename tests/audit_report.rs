@@ -72,3 +72,30 @@ fn worst_field_ranks_a_nan_ratio_as_infinite_whatever_its_sign() {
     let text = render_text(&trace);
     assert!(text.contains("Worst field: w"), "{text}");
 }
+
+#[test]
+fn guaranteed_lenses_come_from_the_header_and_older_traces_still_infer_them() {
+    let path = scratch("audit_report_guaranteed").join("fold.jsonl");
+    let mut trace = Audit::new(&Fold, Tolerance::absolute(1e-3).unwrap(), 5)
+        .trace(&path)
+        .lens::<Bound>()
+        .lens::<Shadow>()
+        .run()
+        .unwrap();
+    // The bound lens is the one with a guarantee (its documented contract); the shadow lens estimates.
+    assert_eq!(trace.header.guaranteed_lenses, Some(vec!["bound".to_string()]));
+    // Every bound overflowed (written as null): the header still says which lens is guaranteed.
+    for step in trace.steps.iter_mut().filter(|s| s.lens == "bound") {
+        step.fields.iter_mut().for_each(|f| f.bound = None);
+    }
+    assert!(trace.is_guaranteed("bound") && !trace.is_guaranteed("shadow"));
+    // A trace from before the header member: a lens with no bound anywhere cannot be told from an estimate.
+    trace.header.guaranteed_lenses = None;
+    assert!(!trace.is_guaranteed("bound"));
+    let read = trace::read(&path).unwrap();
+    let older = twinstep::trace::Trace {
+        header: twinstep::trace::Header { guaranteed_lenses: None, ..read.header.clone() },
+        ..read
+    };
+    assert!(older.is_guaranteed("bound") && !older.is_guaranteed("shadow"));
+}
