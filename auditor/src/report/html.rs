@@ -98,7 +98,9 @@ fn figures(analysis: &Analysis<'_>, out: &mut String) {
             figure(
                 plots::heat_map(&field.name, lens, &profiles),
                 format!(
-                    "Field `{}`, {lens} lens: where along the field the rounding error sits, step by step.",
+                    "Field `{}`, {lens} lens: where along the field the rounding error sits, step by step (rows at \
+                     the recorded steps; each column the largest error of its cells; blank: an error of 0, or one \
+                     that is not a finite number, as when a bound overflows).",
                     field.name
                 ),
                 out,
