@@ -13,7 +13,7 @@ use std::path::PathBuf;
 use std::time::{Instant, SystemTime, UNIX_EPOCH};
 
 use super::field::multi_index;
-use super::measure::{self, FieldMeasure, LensStep};
+use super::measure::{self, CellProfile, FieldMeasure, LensStep};
 use super::{validate_fields, Error, FieldSpec, RecordPolicy, Tolerance};
 use crate::lens::Lens;
 use crate::trace::{
@@ -143,7 +143,8 @@ pub struct Recorder {
 struct Held {
     step: u64,
     records: Vec<StepRecord>,
-    profiles: Vec<ProfileRecord>,
+    /// `(lens, field, profile)`, made into records only if written: most steps' profiles are not.
+    profiles: Vec<(usize, usize, CellProfile)>,
     events: Vec<EventRecord>,
     on_log_grid: bool,
 }
@@ -242,7 +243,13 @@ impl Recorder {
         }
         self.check_bounds(&steps, &mut events);
         let records: Vec<StepRecord> = steps.iter().enumerate().map(|(lens, s)| self.step_record(lens, s)).collect();
-        let profiles = steps.into_iter().enumerate().flat_map(|(lens, s)| self.profile_records(lens, s)).collect();
+        let profiles = steps
+            .into_iter()
+            .enumerate()
+            .flat_map(|(lens, s)| {
+                s.fields.into_iter().enumerate().filter_map(move |(field, m)| Some((lens, field, m.profile?)))
+            })
+            .collect();
         let events: Vec<EventRecord> = events.into_iter().flatten().collect();
         self.pending.push_back(Held { step, records, profiles, events, on_log_grid });
         while self.pending.len() > EVENT_CONTEXT {
@@ -412,23 +419,16 @@ estimate of lens {} is {:.3e}, within tolerance; the gap between the two is the 
         StepRecord { step: s.step, lens: self.lenses[lens].name.to_string(), fields }
     }
 
-    /// The profiles of one lens's step, for the fields that have one.
-    fn profile_records(&self, lens: usize, s: LensStep) -> Vec<ProfileRecord> {
-        s.fields
-            .into_iter()
-            .zip(&self.plan.fields)
-            .filter_map(|(m, spec)| {
-                let profile = m.profile?;
-                Some(ProfileRecord {
-                    step: s.step,
-                    lens: self.lenses[lens].name.to_string(),
-                    field: spec.name.clone(),
-                    cells_per_value: profile.cells_per_value,
-                    // A cell whose estimate was NaN counts as infinite (see `measure`); JSON writes both as null.
-                    err: profile.err.into_iter().map(|e| e.is_finite().then_some(e)).collect(),
-                })
-            })
-            .collect()
+    /// The record of a held profile.
+    fn profile_record(&self, step: u64, (lens, field, profile): (usize, usize, CellProfile)) -> ProfileRecord {
+        ProfileRecord {
+            step,
+            lens: self.lenses[lens].name.to_string(),
+            field: self.plan.fields[field].name.clone(),
+            cells_per_value: profile.cells_per_value,
+            // A cell whose estimate was NaN counts as infinite (see `measure`); JSON writes both as null.
+            err: profile.err.into_iter().map(|e| e.is_finite().then_some(e)).collect(),
+        }
     }
 
     /// Writes the oldest held step — its records if the policy keeps them, then its events. The step is kept
@@ -456,7 +456,8 @@ estimate of lens {} is {:.3e}, within tolerance; the gap between the two is the 
         let profiled = (held.on_log_grid && self.profiled_steps < MAX_PROFILED_STEPS) || last;
         if profiled && !held.profiles.is_empty() {
             self.profiled_steps += 1;
-            for profile in held.profiles {
+            for held_profile in held.profiles {
+                let profile = self.profile_record(held.step, held_profile);
                 self.writer.write(&Record::Profile(profile.clone()))?;
                 self.trace.profiles.push(profile);
             }
