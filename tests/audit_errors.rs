@@ -21,13 +21,8 @@ impl Scenario for Faulty {
         self.fields.clone()
     }
 
-    fn init<T>(&self, levels: &mut Levels<T>) -> Result<(), Error>
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
-        levels.current[0].set_f64(&self.initial)
+    fn initial_values(&self) -> Vec<Vec<f64>> {
+        vec![self.initial.clone()]
     }
 
     fn step<T>(&self, levels: &mut Levels<T>)
@@ -74,6 +69,10 @@ fn shapes_lengths_steps_and_lenses_are_checked() {
     };
     let wrong_length = faulty(&[4, 3], vec![0.0; 11]);
     assert!(matches!(run(&wrong_length, 3, "len.jsonl"), Err(Error::LengthMismatch { expected: 12, got: 11, .. })));
+    // Initial values for one field of two: the default `init` says so (the step only reads field 0).
+    let one_of_two =
+        Faulty { fields: vec![FieldSpec::new("u", &[1]), FieldSpec::new("w", &[1])], ..faulty(&[1], vec![1.0]) };
+    assert!(matches!(run(&one_of_two, 3, "count.jsonl"), Err(Error::InitialValues { fields: 2, given: 1 })));
     assert!(matches!(run(&faulty(&[4, 0], vec![]), 3, "zero.jsonl"), Err(Error::BadShape { .. })));
     assert!(matches!(run(&faulty(&[], vec![]), 3, "rank0.jsonl"), Err(Error::BadShape { .. })));
     assert!(matches!(run(&faulty(&[usize::MAX, 4], vec![]), 3, "huge.jsonl"), Err(Error::BadShape { .. })));

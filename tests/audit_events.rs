@@ -4,7 +4,7 @@
 mod audit_support;
 
 use audit_support::scratch;
-use twinstep::audit::{Audit, Error, FieldSpec, Levels, Scenario, Tolerance};
+use twinstep::audit::{Audit, FieldSpec, Levels, Scenario, Tolerance};
 use twinstep::lens::{Bound, Shadow};
 use twinstep::trace::EventName;
 use twinstep::verdict::Status;
@@ -38,13 +38,8 @@ impl Scenario for Case {
         vec![FieldSpec::new("u", &[1])]
     }
 
-    fn init<T>(&self, levels: &mut Levels<T>) -> Result<(), Error>
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
-        levels.current[0].set_f64(&[self.start])
+    fn initial_values(&self) -> Vec<Vec<f64>> {
+        vec![vec![self.start]]
     }
 
     fn step<T>(&self, levels: &mut Levels<T>)

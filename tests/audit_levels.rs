@@ -10,7 +10,7 @@ use std::sync::Mutex;
 use audit_support::kernels::{fold_step_twin, Fold};
 use audit_support::{rational, rational_to_f64, scratch};
 use dashu_ratio::RBig;
-use twinstep::audit::{Audit, Error, Field, FieldSpec, Levels, Plan, Recorder, Scenario, Scheme, Tolerance};
+use twinstep::audit::{Audit, Field, FieldSpec, Levels, Plan, Recorder, Scenario, Scheme, Tolerance};
 use twinstep::lens::{Bound, Lens, Shadow};
 use twinstep::trace::EventName;
 use twinstep::{BaseOps, MixedOps, Real, RefOps};
@@ -38,13 +38,8 @@ impl Scenario for Grid {
         Scheme::InPlace
     }
 
-    fn init<T>(&self, levels: &mut Levels<T>) -> Result<(), Error>
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
-        levels.current[0].set_f64(&[1.0; 12])
+    fn initial_values(&self) -> Vec<Vec<f64>> {
+        vec![vec![1.0; 12]]
     }
 
     fn step<T>(&self, levels: &mut Levels<T>)
@@ -114,13 +109,8 @@ impl Scenario for Decay {
         1
     }
 
-    fn init<T>(&self, levels: &mut Levels<T>) -> Result<(), Error>
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
-        levels.current[0].set_f64(&[1.0])
+    fn initial_values(&self) -> Vec<Vec<f64>> {
+        vec![vec![1.0]]
     }
 
     fn step<T>(&self, levels: &mut Levels<T>)

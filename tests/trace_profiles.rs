@@ -5,7 +5,7 @@ mod audit_support;
 
 use audit_support::{rational, rational_to_f64, scratch};
 use dashu_ratio::RBig;
-use twinstep::audit::{Audit, Error, FieldSpec, Levels, Scenario, Tolerance};
+use twinstep::audit::{Audit, FieldSpec, Levels, Scenario, Tolerance};
 use twinstep::lens::{Bound, Shadow};
 use twinstep::trace::{self, ProfileRecord};
 use twinstep::{BaseOps, MixedOps, Real, RefOps};
@@ -28,15 +28,10 @@ impl Scenario for Thirds {
         vec![FieldSpec::new("rod", &[CELLS]), FieldSpec::new("plate", &[4, 4])]
     }
 
-    fn init<T>(&self, levels: &mut Levels<T>) -> Result<(), Error>
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
+    fn initial_values(&self) -> Vec<Vec<f64>> {
         let ramp: Vec<f64> = (0..CELLS).map(|i| i as f64).collect();
-        levels.current[0].set_f64(&ramp)?;
-        levels.current[1].set_f64(&ramp[..16])
+        let plate = ramp[..16].to_vec();
+        vec![ramp, plate]
     }
 
     fn step<T>(&self, levels: &mut Levels<T>)

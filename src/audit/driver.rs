@@ -59,12 +59,28 @@ pub trait Scenario: Sync {
         0
     }
 
-    /// Writes the initial data into `levels.current` (and `levels.previous` for a three-level scheme).
+    /// The initial data as doubles, one vector per field in the order of [`Scenario::fields`] (row-major), each
+    /// value taken as exact. The default [`Scenario::init`] writes them into `levels.current`; a scenario whose
+    /// initial data are computed (through the twin, so that the lenses see that computation) or that has a
+    /// three-level scheme overrides `init` instead and need not give them.
+    fn initial_values(&self) -> Vec<Vec<f64>> {
+        Vec::new()
+    }
+
+    /// Writes the initial data into `levels.current` (and `levels.previous` for a three-level scheme). By
+    /// default: the doubles of [`Scenario::initial_values`] into `levels.current`.
     fn init<T>(&self, levels: &mut Levels<T>) -> Result<(), Error>
     where
         T: Real + BaseOps<f64>,
         f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>;
+        for<'a> &'a T: RefOps<T>,
+    {
+        let values = self.initial_values();
+        if values.len() != levels.current.len() {
+            return Err(Error::InitialValues { fields: levels.current.len(), given: values.len() });
+        }
+        levels.current.iter_mut().zip(&values).try_for_each(|(field, values)| field.set_f64(values))
+    }
 
     /// Advances the fields by one step (`levels.step` → `levels.step + 1`).
     fn step<T>(&self, levels: &mut Levels<T>)

@@ -40,6 +40,9 @@ pub enum Error {
     BadShape { field: String, shape: Vec<usize> },
     /// Data given for a field does not match its shape.
     LengthMismatch { field: String, expected: usize, got: usize },
+    /// The default `Scenario::init` was given initial values for another number of fields (or none: the scenario
+    /// neither overrides `init` nor gives `initial_values`).
+    InitialValues { fields: usize, given: usize },
     /// The fields passed to a recorder are not the ones it was created with.
     FieldCountMismatch { expected: usize, got: usize },
     /// A recorder was given a step that does not come after the previous one.
@@ -75,6 +78,11 @@ impl std::fmt::Display for Error {
             Error::LengthMismatch { field, expected, got } => {
                 write!(f, "field {field:?} has {expected} cells by its shape but {got} values were given")
             }
+            Error::InitialValues { fields, given } => write!(
+                f,
+                "the scenario has {fields} field(s) but its initial_values give {given}: give one vector per field, \
+or override init"
+            ),
             Error::FieldCountMismatch { expected, got } => {
                 write!(f, "the recorder was created with {expected} fields but {got} were given")
             }

@@ -1,6 +1,6 @@
 //! Small annotated kernels the audit and trace tests share.
 
-use twinstep::audit::{Error, FieldSpec, Levels, Scenario};
+use twinstep::audit::{FieldSpec, Levels, Scenario};
 use twinstep::{BaseOps, MixedOps, Real, RefOps};
 
 /// Takes a tenth off and folds at zero: `0.1` is not a double, so after ten steps from 1 the primal is a rounding
@@ -23,13 +23,8 @@ impl Scenario for Fold {
         vec![FieldSpec::new("u", &[1])]
     }
 
-    fn init<T>(&self, levels: &mut Levels<T>) -> Result<(), Error>
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
-        levels.current[0].set_f64(&[1.0])
+    fn initial_values(&self) -> Vec<Vec<f64>> {
+        vec![vec![1.0]]
     }
 
     fn step<T>(&self, levels: &mut Levels<T>)
