@@ -98,3 +98,45 @@ fn output_file_matches_stdout() {
     let printed = twinstep(&["report", trace_path.to_str().unwrap(), "--format", "md"]);
     assert_eq!(std::fs::read_to_string(&out).unwrap(), stdout(&printed));
 }
+
+/// Eight cells divided by 3 per step: the errors shrink with the values, through the subnormal range to 0.
+struct Thirds;
+
+impl twinstep::audit::Scenario for Thirds {
+    fn fields(&self) -> Vec<twinstep::audit::FieldSpec> {
+        vec![twinstep::audit::FieldSpec::new("u", &[8])]
+    }
+
+    fn initial_values(&self) -> Vec<Vec<f64>> {
+        vec![(1..=8).map(f64::from).collect()]
+    }
+
+    fn step<T>(&self, levels: &mut twinstep::audit::Levels<T>)
+    where
+        T: twinstep::Real + twinstep::BaseOps<f64>,
+        f64: twinstep::MixedOps<T>,
+        for<'a> &'a T: twinstep::RefOps<T>,
+    {
+        for i in 0..8 {
+            levels.next[0][i] = levels.current[0][i] / T::from_f64(3.0);
+        }
+    }
+}
+
+#[test]
+fn html_axes_stay_bounded_when_errors_underflow() {
+    // 700 steps take 1/3^700 ≈ 1e-334 below the smallest subnormal (2^-1074 ≈ 4.9e-324, IEEE 754-2019 §3.4):
+    // the recorded errors fall through the subnormal range to 0, as those of a field decaying to 0 do. The log axes
+    // keep at most 24 decades and the page is drawn.
+    let path = scratch("underflow.jsonl");
+    let tolerance = twinstep::audit::Tolerance::absolute(1e-9).unwrap();
+    twinstep::audit::Audit::new(&Thirds, tolerance, 700)
+        .trace(&path)
+        .every_step()
+        .lens::<twinstep::lens::Shadow>()
+        .run()
+        .expect("the audit runs");
+    let trace = twinstep_cli::input::read_trace(&path).expect("the trace reads");
+    let html = render(&trace, Format::Html, false);
+    assert_eq!(html.matches("<svg").count(), 3, "ratios, errors of u, heat map of u");
+}

@@ -82,10 +82,14 @@ fn line_chart(
 ) -> Result<Option<String>, String> {
     let ys = lines.iter().flat_map(|l| l.points.iter().map(|p| p.1)).chain(reference.map(|r| r.0));
     let Some((y_lo, y_hi)) = log_range(ys) else { return Ok(None) };
-    // At most MAX_DECADES on the axis: a bound that ran away to 1e300 would otherwise squash everything else and
-    // make the log mesh enormous. Points above the top are drawn at the top.
-    let y_hi = y_hi.min(y_lo * 10f64.powi(MAX_DECADES));
-    let clamp = |points: &[(f64, f64)]| -> Vec<(f64, f64)> { points.iter().map(|&(x, y)| (x, y.min(y_hi))).collect() };
+    // At most MAX_DECADES on the axis, counted down from the top (the callers put the top three decades above
+    // what the judging lenses reach): errors that underflow towards 1e-320 would otherwise stretch the axis over
+    // hundreds of decades, and a log mesh over subnormal numbers never ends. The bottom is at least the smallest
+    // normal double (IEEE 754-2019 Table 3.5, binary64 emin = −1022); points beyond either end are drawn there.
+    let y_lo = y_lo.max(y_hi / 10f64.powi(MAX_DECADES)).max(f64::MIN_POSITIVE);
+    let y_hi = y_hi.max(y_lo * 10.0);
+    let clamp =
+        |points: &[(f64, f64)]| -> Vec<(f64, f64)> { points.iter().map(|&(x, y)| (x, y.clamp(y_lo, y_hi))).collect() };
     let (x_lo, x_hi) = step_range(lines.iter().flat_map(|l| l.points.iter().map(|p| p.0 as u64)));
     let mut svg = String::new();
     {
