@@ -2,7 +2,8 @@
 //!
 //! Sections, in reading order: what was audited; the per-step table (thinned to a screenful per lens); the worst
 //! field; the first tolerance crossing; guaranteed bound against estimate (and where the bound was lost, both
-//! numbers); events with their source sites; the verdict; the rounding-only caution. An incomplete trace (no
+//! numbers); what the guaranteed lenses say about correct digits, and any estimate they prove wrong; events with
+//! their source sites; the verdict; the rounding-only caution. An incomplete trace (no
 //! summary) is rendered as far as it goes and says so at the top.
 
 use std::fmt::Write;
@@ -21,6 +22,7 @@ pub fn render_text(trace: &Trace) -> String {
     table(&mut out, trace);
     worst_and_crossing(&mut out, trace);
     bounds(&mut out, trace);
+    consistency(&mut out, trace);
     events(&mut out, trace);
     verdict(&mut out, trace);
     let _ = writeln!(out, "\nNote. {CAUTION}");
@@ -238,6 +240,74 @@ fn bounds(out: &mut String, trace: &Trace) {
             number(lost.estimate),
             lost.detail
         );
+    }
+}
+
+/// What the guaranteed lenses say about the digits of the result, and whether an estimate contradicts them.
+///
+/// A guaranteed lens encloses the exact result in `[primal − bound, primal + bound]`. Two conclusions follow
+/// from the numbers alone. When the bound is at least the value itself (0 correct bits) and the estimates agree,
+/// the f64 result has no correct digit. When an estimating lens (the shadow) puts its own value further from the
+/// primal than the guaranteed bound allows, that value lies outside the enclosure in some cell: the estimate is
+/// wrong there (too few bits to absorb a cancellation), and the report says so instead of quoting it.
+fn consistency(out: &mut String, trace: &Trace) {
+    let finals = finals(trace);
+    let mut lines = Vec::new();
+    for (lens, step, f) in finals.iter().filter(|(lens, _, _)| trace.is_guaranteed(lens)) {
+        if f.bound.is_none() || f.correct_bits >= 1.0 {
+            continue;
+        }
+        let estimates: Vec<_> = finals.iter().filter(|(l, _, g)| !trace.is_guaranteed(l) && g.name == f.name).collect();
+        if estimates.iter().all(|(_, _, g)| g.correct_bits < 1.0) {
+            lines.push(format!(
+                "field {} at step {step}: the f64 result has no correct digit: the guaranteed bound {} (lens {lens}) is \
+at least the value itself{}.",
+                f.name,
+                number(f.bound),
+                if estimates.is_empty() { String::new() } else { ", and the estimates agree".to_string() }
+            ));
+        } else {
+            lines.push(format!(
+                "field {} at step {step}: no digit of the f64 result is guaranteed (lens {lens}'s bound {} is at least \
+the value itself); the estimates give more, without a guarantee.",
+                f.name,
+                number(f.bound)
+            ));
+        }
+    }
+    // Contradictions, at every step both kinds of lens recorded; the first one per estimating lens and field.
+    let mut seen: Vec<(&str, &str)> = Vec::new();
+    for estimate in trace.steps.iter().filter(|s| !trace.is_guaranteed(&s.lens)) {
+        for e in &estimate.fields {
+            if seen.contains(&(estimate.lens.as_str(), e.name.as_str())) {
+                continue;
+            }
+            let guarantee = trace
+                .steps
+                .iter()
+                .filter(|s| s.step == estimate.step && trace.is_guaranteed(&s.lens))
+                .flat_map(|s| s.fields.iter().map(move |g| (s, g)))
+                .find(|(_, g)| g.name == e.name && g.bound.is_some_and(|b| e.max_err > b));
+            if let Some((s, g)) = guarantee {
+                seen.push((estimate.lens.as_str(), e.name.as_str()));
+                lines.push(format!(
+                    "field {} at step {}: the estimate of lens {} is WRONG: it puts its value {} from the f64 result, \
+outside the guaranteed bound {} of lens {}; trust the bound there.",
+                    e.name,
+                    estimate.step,
+                    estimate.lens,
+                    number(Some(e.max_err)),
+                    number(g.bound),
+                    s.lens
+                ));
+            }
+        }
+    }
+    if !lines.is_empty() {
+        let _ = writeln!(out, "\nDigits and consistency:");
+        for line in lines {
+            let _ = writeln!(out, "  {line}");
+        }
     }
 }
 
