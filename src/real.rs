@@ -13,151 +13,63 @@ use core::fmt::{Debug, Display};
 use core::iter::{Product, Sum};
 use core::ops::{Add, AddAssign, Div, DivAssign, Mul, MulAssign, Neg, Rem, RemAssign, Sub, SubAssign};
 
-/// The mathematical constants of `std::f64::consts` that the rewrite maps to [`Real::constant`].
-///
-/// A lens holds them as the real numbers they name (π, not the nearest double), so the error of representing
-/// them is accounted for.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
-#[allow(non_camel_case_types)]
-pub enum Constant {
-    PI,
-    TAU,
-    E,
-    SQRT_2,
-    LN_2,
-    LN_10,
-    LOG2_E,
-    LOG10_E,
-    LOG2_10,
-    LOG10_2,
-    FRAC_PI_2,
-    FRAC_PI_3,
-    FRAC_PI_4,
-    FRAC_PI_6,
-    FRAC_PI_8,
-    FRAC_1_PI,
-    FRAC_2_PI,
-    FRAC_2_SQRT_PI,
-    FRAC_1_SQRT_2,
+/// Calls the macro `$m!(PI, TAU, …)` with the name of every constant of `std::f64::consts` that twinstep knows,
+/// so that each table over the constants (the enum, its conversions, a lens's enclosures, a test's oracle) is
+/// written against one list.
+#[macro_export]
+#[doc(hidden)]
+macro_rules! with_constant_names {
+    ($m:ident) => {
+        $m! {
+            PI, TAU, E, SQRT_2, LN_2, LN_10, LOG2_E, LOG10_E, LOG2_10, LOG10_2, FRAC_PI_2, FRAC_PI_3, FRAC_PI_4,
+            FRAC_PI_6, FRAC_PI_8, FRAC_1_PI, FRAC_2_PI, FRAC_2_SQRT_PI, FRAC_1_SQRT_2
+        }
+    };
 }
 
-impl Constant {
-    /// Every constant, in declaration order.
-    pub const ALL: [Constant; 19] = [
-        Constant::PI,
-        Constant::TAU,
-        Constant::E,
-        Constant::SQRT_2,
-        Constant::LN_2,
-        Constant::LN_10,
-        Constant::LOG2_E,
-        Constant::LOG10_E,
-        Constant::LOG2_10,
-        Constant::LOG10_2,
-        Constant::FRAC_PI_2,
-        Constant::FRAC_PI_3,
-        Constant::FRAC_PI_4,
-        Constant::FRAC_PI_6,
-        Constant::FRAC_PI_8,
-        Constant::FRAC_1_PI,
-        Constant::FRAC_2_PI,
-        Constant::FRAC_2_SQRT_PI,
-        Constant::FRAC_1_SQRT_2,
-    ];
-
-    /// The name as it appears in `std::f64::consts`.
-    #[must_use]
-    pub fn name(self) -> &'static str {
-        macro_rules! names {
-            ($($c:ident),*) => { match self { $(Constant::$c => stringify!($c)),* } };
+macro_rules! declare_constants {
+    ($($c:ident),*) => {
+        /// The mathematical constants of `std::f64::consts` that the rewrite maps to [`Real::constant`].
+        ///
+        /// A lens holds them as the real numbers they name (π, not the nearest double), so the error of
+        /// representing them is accounted for.
+        #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+        #[allow(non_camel_case_types)]
+        pub enum Constant {
+            $($c),*
         }
-        names!(
-            PI,
-            TAU,
-            E,
-            SQRT_2,
-            LN_2,
-            LN_10,
-            LOG2_E,
-            LOG10_E,
-            LOG2_10,
-            LOG10_2,
-            FRAC_PI_2,
-            FRAC_PI_3,
-            FRAC_PI_4,
-            FRAC_PI_6,
-            FRAC_PI_8,
-            FRAC_1_PI,
-            FRAC_2_PI,
-            FRAC_2_SQRT_PI,
-            FRAC_1_SQRT_2
-        )
-    }
 
+        impl Constant {
+            /// Every constant, in declaration order.
+            pub const ALL: [Constant; [$(Constant::$c),*].len()] = [$(Constant::$c),*];
+
+            /// The name as it appears in `std::f64::consts`.
+            #[must_use]
+            pub fn name(self) -> &'static str {
+                match self { $(Constant::$c => stringify!($c)),* }
+            }
+
+            /// The constant rounded to nearest binary64, exactly as `std::f64::consts` has it.
+            #[must_use]
+            pub fn f64_value(self) -> f64 {
+                match self { $(Constant::$c => std::f64::consts::$c),* }
+            }
+
+            /// The constant rounded to nearest binary32, exactly as `std::f32::consts` has it.
+            #[must_use]
+            pub fn f32_value(self) -> f32 {
+                match self { $(Constant::$c => std::f32::consts::$c),* }
+            }
+        }
+    };
+}
+with_constant_names!(declare_constants);
+
+impl Constant {
     /// Looks a constant up by its `std::f64::consts` name.
     #[must_use]
     pub fn from_name(name: &str) -> Option<Constant> {
         Constant::ALL.into_iter().find(|c| c.name() == name)
-    }
-
-    /// The constant rounded to nearest binary64, exactly as `std::f64::consts` has it.
-    #[must_use]
-    pub fn f64_value(self) -> f64 {
-        use std::f64::consts as c;
-        macro_rules! values {
-            ($($c:ident),*) => { match self { $(Constant::$c => c::$c),* } };
-        }
-        values!(
-            PI,
-            TAU,
-            E,
-            SQRT_2,
-            LN_2,
-            LN_10,
-            LOG2_E,
-            LOG10_E,
-            LOG2_10,
-            LOG10_2,
-            FRAC_PI_2,
-            FRAC_PI_3,
-            FRAC_PI_4,
-            FRAC_PI_6,
-            FRAC_PI_8,
-            FRAC_1_PI,
-            FRAC_2_PI,
-            FRAC_2_SQRT_PI,
-            FRAC_1_SQRT_2
-        )
-    }
-
-    /// The constant rounded to nearest binary32, exactly as `std::f32::consts` has it.
-    #[must_use]
-    pub fn f32_value(self) -> f32 {
-        use std::f32::consts as c;
-        macro_rules! values {
-            ($($c:ident),*) => { match self { $(Constant::$c => c::$c),* } };
-        }
-        values!(
-            PI,
-            TAU,
-            E,
-            SQRT_2,
-            LN_2,
-            LN_10,
-            LOG2_E,
-            LOG10_E,
-            LOG2_10,
-            LOG10_2,
-            FRAC_PI_2,
-            FRAC_PI_3,
-            FRAC_PI_4,
-            FRAC_PI_6,
-            FRAC_PI_8,
-            FRAC_1_PI,
-            FRAC_2_PI,
-            FRAC_2_SQRT_PI,
-            FRAC_1_SQRT_2
-        )
     }
 }
 

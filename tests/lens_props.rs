@@ -280,27 +280,7 @@ fn constants_match_inaris_enclosures() {
         macro_rules! table {
             ($($name:ident),*) => { match c { $(Constant::$name => inari::Interval::$name),* } };
         }
-        table!(
-            PI,
-            TAU,
-            E,
-            SQRT_2,
-            LN_2,
-            LN_10,
-            LOG2_E,
-            LOG10_E,
-            LOG2_10,
-            LOG10_2,
-            FRAC_PI_2,
-            FRAC_PI_3,
-            FRAC_PI_4,
-            FRAC_PI_6,
-            FRAC_PI_8,
-            FRAC_1_PI,
-            FRAC_2_PI,
-            FRAC_2_SQRT_PI,
-            FRAC_1_SQRT_2
-        )
+        twinstep::with_constant_names!(table)
     };
     for c in Constant::ALL {
         let ours = Interval::constant(c).enclosure();
