@@ -129,3 +129,13 @@ fn many_mutated_traces_still_read() {
     let read = (0..300).filter(|&i| read_mutated(&[Mutation::Token(i, i % TOKENS.len())]).is_some()).count();
     assert!(read >= 30, "only {read} of 300 mutated traces read");
 }
+
+/// Regression: a value of 1e308 in a step record made the top of a log axis 3e308 = +∞, and plotters' mesh up to
+/// +∞ allocated without end (8 GiB at once, found by the property above). The axis top now stays finite.
+#[test]
+fn a_value_near_the_largest_double_keeps_the_log_axis_finite() {
+    let mutations = [Mutation::Token(17967862388525808098, 2)];
+    let trace = read_mutated(&mutations).expect("the mutated trace still reads");
+    let page = render(&trace, Format::Html, false);
+    assert!(page.contains("<svg"), "the page still has its plots");
+}

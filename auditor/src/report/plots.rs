@@ -51,8 +51,9 @@ fn log_range(values: impl Iterator<Item = f64>) -> Option<(f64, f64)> {
     if !(lo.is_finite() && hi.is_finite() && lo > 0.0) {
         return None;
     }
-    // Half a decade of margin each side; a single value still gets a decade of axis.
-    Some((lo / 3.0, hi * 3.0))
+    // Half a decade of margin each side; a single value still gets a decade of axis. The top stays finite: a value
+    // near f64::MAX times 3 would be +∞, and a log mesh up to +∞ never ends.
+    Some((lo / 3.0, (hi * 3.0).min(f64::MAX)))
 }
 
 /// The step range of the x axis.
