@@ -251,6 +251,19 @@ fn bounds(out: &mut String, trace: &Trace) {
 /// primal than the guaranteed bound allows, that value lies outside the enclosure in some cell: the estimate is
 /// wrong there (too few bits to absorb a cancellation), and the report says so instead of quoting it.
 fn consistency(out: &mut String, trace: &Trace) {
+    let lines = digit_findings(trace);
+    if !lines.is_empty() {
+        let _ = writeln!(out, "\nDigits and consistency:");
+        for line in lines {
+            let _ = writeln!(out, "  {line}");
+        }
+    }
+}
+
+/// The findings of the "digits and consistency" section, one sentence each (empty when there is nothing to say),
+/// for the terminal report and the CLI's other formats alike; see [`consistency`] for the reasoning.
+#[must_use]
+pub fn digit_findings(trace: &Trace) -> Vec<String> {
     let finals = finals(trace);
     let mut lines = Vec::new();
     for (lens, step, f) in finals.iter().filter(|(lens, _, _)| trace.is_guaranteed(lens)) {
@@ -303,12 +316,7 @@ outside the guaranteed bound {} of lens {}; trust the bound there.",
             }
         }
     }
-    if !lines.is_empty() {
-        let _ = writeln!(out, "\nDigits and consistency:");
-        for line in lines {
-            let _ = writeln!(out, "  {line}");
-        }
-    }
+    lines
 }
 
 fn events(out: &mut String, trace: &Trace) {

@@ -88,6 +88,13 @@ pub fn build(analysis: &Analysis<'_>) -> Vec<Block> {
     blocks.push(Block::Facts(facts(analysis)));
     blocks.push(Block::Heading("Fields".to_owned()));
     blocks.push(outcome_table(analysis));
+    // What the guaranteed lenses say about correct digits, and any estimate they prove wrong (the terminal
+    // report's section of the same name, from the same function).
+    let findings = twinstep::report::digit_findings(analysis.trace);
+    if !findings.is_empty() {
+        blocks.push(Block::Heading("Digits and consistency".to_owned()));
+        blocks.extend(findings.into_iter().map(Block::Paragraph));
+    }
     blocks.push(Block::Figures);
     blocks.push(Block::Heading("Events".to_owned()));
     blocks.extend(event_blocks(&analysis.trace.events));
