@@ -55,13 +55,7 @@ pub struct BoundOf<const WATCH: bool> {
     radius: f64,
 }
 
-/// The lens as audits use it: every operation watches for NaN/∞ and records the event at the caller's line.
-pub type Bound = BoundOf<true>;
-
-/// The same lens without the per-operation NaN/∞ test: the reference and every other event are the same, a
-/// non-finite value still propagates (and shows in the field), but the operation producing it is not recorded.
-/// Loops over it can vectorize; see the benchmark in `docs/lenses.md`.
-pub type BoundUnwatched = BoundOf<false>;
+super::watch_variants!(BoundOf, Bound, BoundUnwatched);
 
 impl<const W: bool> BoundOf<W> {
     /// A value `primal` whose exact counterpart is known to lie within `radius` of it.

@@ -29,13 +29,7 @@ pub struct IntervalOf<const WATCH: bool> {
     sup: f64,
 }
 
-/// The lens as audits use it: every operation watches for NaN/∞ and records the event at the caller's line.
-pub type Interval = IntervalOf<true>;
-
-/// The same lens without the per-operation NaN/∞ test: the reference and every other event are the same, a
-/// non-finite value still propagates (and shows in the field), but the operation producing it is not recorded.
-/// Loops over it can vectorize; see the benchmark in `docs/lenses.md`.
-pub type IntervalUnwatched = IntervalOf<false>;
+super::watch_variants!(IntervalOf, Interval, IntervalUnwatched);
 
 impl<const W: bool> IntervalOf<W> {
     /// A primal with an enclosure (the enclosure is widened to hold the primal).

@@ -12,6 +12,22 @@
 //! [`LiteralMode::AsCompiled`] it holds the double the compiler made, so an audit can split representation error
 //! from arithmetic error.
 
+/// Declares a lens's two variants over its `…Of<const WATCH: bool>` type: the watched one audits use, and the
+/// unwatched one for loops that must vectorize. One declaration, so the variants mean the same in every lens.
+macro_rules! watch_variants {
+    ($of:ident, $watched:ident, $unwatched:ident) => {
+        /// The lens as audits use it: every operation watches for NaN/∞ and records the event at the caller's
+        /// line.
+        pub type $watched = $of<true>;
+
+        /// The same lens without the per-operation NaN/∞ test: the reference and every other event are the same,
+        /// a non-finite value still propagates (and shows in the field), but the operation producing it is not
+        /// recorded. Loops over it can vectorize; see the benchmark in `docs/lenses.md`.
+        pub type $unwatched = $of<false>;
+    };
+}
+use watch_variants;
+
 pub mod bound;
 pub mod dwmath;
 pub mod eft;

@@ -28,13 +28,7 @@ pub struct ShadowOf<const WATCH: bool> {
     shadow: DoubleWord,
 }
 
-/// The lens as audits use it: every operation watches for NaN/∞ and records the event at the caller's line.
-pub type Shadow = ShadowOf<true>;
-
-/// The same lens without the per-operation NaN/∞ test: the reference and every other event are the same, a
-/// non-finite value still propagates (and shows in the field), but the operation producing it is not recorded.
-/// Loops over it can vectorize; see the benchmark in `docs/lenses.md`.
-pub type ShadowUnwatched = ShadowOf<false>;
+super::watch_variants!(ShadowOf, Shadow, ShadowUnwatched);
 
 impl<const W: bool> ShadowOf<W> {
     /// A primal with an explicit shadow `hi + lo`.
