@@ -227,6 +227,7 @@ impl<const W: bool> core::fmt::Display for BoundOf<W> {
 impl<const W: bool> Lens for BoundOf<W> {
     const NAME: &'static str = if W { "bound" } else { "bound-unwatched" };
     const GUARANTEED: bool = true;
+    super::variant_conversions!(BoundOf { primal, radius });
 
     fn error_estimate(self) -> f64 {
         self.radius()

@@ -277,6 +277,7 @@ impl<const W: bool> core::fmt::Display for IntervalOf<W> {
 impl<const W: bool> Lens for IntervalOf<W> {
     const NAME: &'static str = if W { "interval" } else { "interval-unwatched" };
     const GUARANTEED: bool = true;
+    super::variant_conversions!(IntervalOf { primal, inf, sup });
 
     fn error_estimate(self) -> f64 {
         self.error_bound().unwrap_or(f64::INFINITY)

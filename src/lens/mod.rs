@@ -28,6 +28,24 @@ macro_rules! watch_variants {
 }
 use watch_variants;
 
+/// The [`Lens`] items that move a value between a lens's two variants (the same fields, another `WATCH`), for a
+/// lens type `$of<const WATCH: bool>` with the listed fields.
+macro_rules! variant_conversions {
+    ($of:ident { $($field:ident),* }) => {
+        type Unwatched = $of<false>;
+        type Watched = $of<true>;
+        #[inline(always)]
+        fn unwatched(self) -> $of<false> {
+            $of { $($field: self.$field),* }
+        }
+        #[inline(always)]
+        fn watched(self) -> $of<true> {
+            $of { $($field: self.$field),* }
+        }
+    };
+}
+use variant_conversions;
+
 pub mod bound;
 pub mod dwmath;
 pub mod eft;
@@ -49,6 +67,16 @@ pub trait Lens: crate::Real {
     const NAME: &'static str;
     /// Whether [`Lens::error_bound`] is a guarantee (`|primal − exact| ≤ bound`).
     const GUARANTEED: bool;
+    /// The same lens without the per-operation NaN/∞ watch: what the audit driver runs, because its loops
+    /// vectorize.
+    type Unwatched: Lens<Unwatched = Self::Unwatched, Watched = Self::Watched>;
+    /// The same lens watching every operation for NaN/∞: what the driver replays a step with to find the source
+    /// line of a non-finite value (see `docs/audit.md`).
+    type Watched: Lens<Unwatched = Self::Unwatched, Watched = Self::Watched>;
+    /// This value as the unwatched variant (the same numbers).
+    fn unwatched(self) -> Self::Unwatched;
+    /// This value as the watched variant (the same numbers).
+    fn watched(self) -> Self::Watched;
     /// The best estimate of `|primal − exact|` the reference gives.
     fn error_estimate(self) -> f64;
     /// A guaranteed bound on `|primal − exact|`, for lenses that have one; `None` otherwise.

@@ -349,6 +349,7 @@ impl<const W: bool> core::fmt::Display for ShadowOf<W> {
 impl<const W: bool> Lens for ShadowOf<W> {
     const NAME: &'static str = if W { "shadow" } else { "shadow-unwatched" };
     const GUARANTEED: bool = false;
+    super::variant_conversions!(ShadowOf { primal, shadow });
 
     fn error_estimate(self) -> f64 {
         self.signed_error().abs()
