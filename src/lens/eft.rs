@@ -186,26 +186,8 @@ pub fn two_prod(a: f64, b: f64) -> (f64, f64) {
     (p, e)
 }
 
-/// The next double above `x` (IEEE 754-2019 nextUp), written out because `f64::next_up` is newer than the MSRV.
-#[inline]
-#[must_use]
-pub fn next_up(x: f64) -> f64 {
-    if x.is_nan() || x == f64::INFINITY {
-        return x;
-    }
-    if x == 0.0 {
-        return f64::from_bits(1); // the smallest subnormal, η = 2^-1074
-    }
-    let bits = x.to_bits();
-    f64::from_bits(if x > 0.0 { bits + 1 } else { bits - 1 })
-}
-
-/// The next double below `x` (IEEE 754-2019 nextDown).
-#[inline]
-#[must_use]
-pub fn next_down(x: f64) -> f64 {
-    -next_up(-x)
-}
+// nextUp and nextDown (IEEE 754-2019) live in `twinstep-exact`, which the rewrite engine shares.
+pub use twinstep_exact::{next_down, next_up};
 
 /// `s` moved by `steps` ∈ {−1, 0, 1} units in the last place towards +∞ (−1: towards −∞), for a finite non-zero
 /// `s`, as integer arithmetic on the bit pattern (IEEE 754-2019 §3.4: the encoding of same-signed doubles is
