@@ -79,3 +79,23 @@ pub fn record(kind: EventKind) {
 pub fn drain() -> Vec<(EventKind, Site, u64)> {
     EVENTS.with(|events| std::mem::take(&mut *events.borrow_mut()).into_iter().map(|((k, s), n)| (k, s, n)).collect())
 }
+
+thread_local! {
+    static UNSEEN_NON_FINITE: std::cell::Cell<bool> = const { std::cell::Cell::new(false) };
+}
+
+/// Notes that an unwatched lens met a NaN where it leaves no trace in the fields: a comparison, `max`/`min` or an
+/// integer conversion of a NaN primal answers without propagating it. The audit driver takes the note after each
+/// step ([`take_unseen_non_finite`]) and replays the step with the watched lens to find the line that made the
+/// NaN. Cold: it is only reached with a NaN in hand.
+#[cold]
+#[inline(never)]
+pub fn note_unseen_non_finite() {
+    UNSEEN_NON_FINITE.with(|seen| seen.set(true));
+}
+
+/// Whether [`note_unseen_non_finite`] was called on this thread since the last call, and clears the note.
+#[must_use]
+pub fn take_unseen_non_finite() -> bool {
+    UNSEEN_NON_FINITE.with(|seen| seen.replace(false))
+}

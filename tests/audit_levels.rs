@@ -11,7 +11,7 @@ use audit_support::kernels::{fold_step_twin, Fold};
 use audit_support::{rational, rational_to_f64, scratch};
 use dashu_ratio::RBig;
 use twinstep::audit::{Audit, Field, FieldSpec, Levels, Plan, Recorder, Scenario, Scheme, Tolerance};
-use twinstep::lens::{Bound, Lens, Shadow};
+use twinstep::lens::{Bound, Lens, Shadow, ShadowUnwatched};
 use twinstep::trace::EventName;
 use twinstep::{BaseOps, MixedOps, Real, RefOps};
 
@@ -122,7 +122,9 @@ impl Scenario for Decay {
         let h = T::from_f64(0.3);
         heun_stage_twin::<T>(&levels.current[0], &mut levels.stages[0][0], h);
         heun_finish_twin::<T>(&levels.current[0], &levels.stages[0][0], &mut levels.next[0], h);
-        if let Some(shadow) = (&levels.next[0] as &dyn Any).downcast_ref::<Field<Shadow>>() {
+        // The driver runs the lens's unwatched variant (and would replay a step with the watched one only where a
+        // value turned non-finite, which never happens here).
+        if let Some(shadow) = (&levels.next[0] as &dyn Any).downcast_ref::<Field<ShadowUnwatched>>() {
             let cell = shadow[0];
             self.seen.lock().unwrap().push((levels.step + 1, cell.primal(), cell.error_estimate()));
         }

@@ -190,15 +190,20 @@ impl<'s, S: Scenario> Audit<'s, S> {
         self
     }
 
-    /// Adds a lens; each lens runs on its own thread.
+    /// Adds a lens; each lens runs on its own thread. Either variant of a lens may be given (`Bound` or
+    /// `BoundUnwatched`): the driver runs the unwatched one and replays with the watched one where a value turns
+    /// non-finite, so both audit the same way under the watched lens's name.
     #[must_use]
     pub fn lens<L>(mut self) -> Self
     where
-        L: Lens + BaseOps<f64>,
-        f64: MixedOps<L>,
-        for<'a> &'a L: RefOps<L>,
+        L: Lens,
+        L::Unwatched: BaseOps<f64>,
+        f64: MixedOps<L::Unwatched> + MixedOps<L::Watched>,
+        for<'a> &'a L::Unwatched: RefOps<L::Unwatched>,
+        L::Watched: BaseOps<f64>,
+        for<'a> &'a L::Watched: RefOps<L::Watched>,
     {
-        self.lenses.push(LensEntry { info: LensInfo::of::<L>(), run: run_lens::<S, L> });
+        self.lenses.push(LensEntry { info: LensInfo::of::<L::Watched>(), run: run_lens::<S, L> });
         self
     }
 
@@ -256,20 +261,68 @@ impl<'s, S: Scenario> Audit<'s, S> {
     }
 }
 
+/// The most steps one lens thread replays with the watched lens; past it, NaN/∞ events still name the step and the
+/// field (from the measurements) but no longer the line. A field that holds NaN usually keeps meeting it in
+/// comparisons at every step, and every replay after the first finds nothing new.
+const MAX_REPLAYS: usize = 16;
+
+/// How old a checkpoint may grow before a chunk renews it.
+const CHECKPOINT_AGE: Duration = Duration::from_millis(500);
+
+/// When a step needs a replay with the watched lens: the first step at which a field's primal or its error turns
+/// non-finite, and a step in which the unwatched lens noted a non-finite value that the fields may not show.
+struct ReplayTrigger {
+    primal_non_finite: Vec<bool>,
+    error_non_finite: Vec<bool>,
+    replays: usize,
+}
+
+impl ReplayTrigger {
+    fn new(fields: usize) -> ReplayTrigger {
+        ReplayTrigger { primal_non_finite: vec![false; fields], error_non_finite: vec![false; fields], replays: 0 }
+    }
+
+    /// Whether the step just measured needs a replay; `noted` is the unwatched lens's note.
+    fn fires(&mut self, measured: &LensStep, noted: bool) -> bool {
+        let mut fires = noted;
+        for (i, field) in measured.fields.iter().enumerate() {
+            let primal = field.nan || field.infinite;
+            let error = !field.max_err.is_finite();
+            fires |= (primal && !self.primal_non_finite[i]) || (error && !self.error_non_finite[i]);
+            self.primal_non_finite[i] |= primal;
+            self.error_non_finite[i] |= error;
+        }
+        let fires = fires && self.replays < MAX_REPLAYS;
+        self.replays += usize::from(fires);
+        fires
+    }
+}
+
 /// A lens's thread: keeps the lens's levels and the f64 original's, and runs the steps each command asks for.
+///
+/// The lens runs as its unwatched variant, whose loops vectorize. Each chunk of steps starts from a checkpoint of
+/// the levels; when a step turns a value non-finite ([`ReplayTrigger`]), the steps from the checkpoint to it are
+/// replayed with the watched variant — the same arithmetic, so the same numbers — and the step's events are taken
+/// from the replay, which adds the NaN/∞ events with the line where each value arose. The initial data run with
+/// the watched variant directly (they run once).
 fn run_lens<S, L>(scenario: &S, plan: &Plan, commands: Receiver<u64>, results: Sender<ChunkResult>)
 where
     S: Scenario,
-    L: Lens + BaseOps<f64>,
-    f64: MixedOps<L>,
-    for<'a> &'a L: RefOps<L>,
+    L: Lens,
+    L::Unwatched: BaseOps<f64>,
+    f64: MixedOps<L::Unwatched> + MixedOps<L::Watched>,
+    for<'a> &'a L::Unwatched: RefOps<L::Unwatched>,
+    L::Watched: BaseOps<f64>,
+    for<'a> &'a L::Watched: RefOps<L::Watched>,
 {
     let (levels, stages) = (scenario.scheme().levels(), scenario.stages());
-    let mut twin = Levels::<L>::new(&plan.fields, levels, stages);
+    let mut twin = Levels::<L::Unwatched>::new(&plan.fields, levels, stages);
     let mut original = Levels::<f64>::new(&plan.fields, levels, stages);
     // The same lens with literals and constants as compiled: what is left is arithmetic error only.
-    let mut compiled = plan.split_representation.then(|| Levels::<L>::new(&plan.fields, levels, stages));
+    let mut compiled = plan.split_representation.then(|| Levels::<L::Unwatched>::new(&plan.fields, levels, stages));
     let as_compiled = |f: &mut dyn FnMut()| with_literal_mode(LiteralMode::AsCompiled, f);
+    let mut trigger = ReplayTrigger::new(plan.fields.len());
+    let mut checkpoint = None::<(Levels<L::Unwatched>, u64, Instant)>;
     let mut next = None::<u64>;
     for to in commands {
         let mut at = next.unwrap_or(0);
@@ -277,8 +330,11 @@ where
             let mut out = Vec::new();
             if next.is_none() {
                 let _ = crate::events::drain(); // nothing from before the audit belongs to it
-                scenario.init(&mut twin)?;
+                let _ = crate::events::take_unseen_non_finite();
+                let mut watched = Levels::<L::Watched>::new(&plan.fields, levels, stages);
+                scenario.init(&mut watched)?;
                 let events = crate::events::drain();
+                twin = watched.convert(Lens::unwatched);
                 scenario.init_original(&mut original)?;
                 if let Some(c) = compiled.as_mut() {
                     let mut result = Ok(());
@@ -286,14 +342,25 @@ where
                     result?;
                 }
                 let _ = crate::events::drain();
-                out.push(observe(0, &twin, compiled.as_ref(), &original, plan, events));
+                let measured = observe(0, &twin, compiled.as_ref(), &original, plan, events);
+                let _ = trigger.fires(&measured, false); // the watched run already saw the initial data
+                out.push(measured);
                 next = Some(0);
+            }
+            // Where a replay begins: the levels before a step and the step. Copying the levels costs about as much
+            // as a step reading and writing them, so the copy is renewed at a chunk's start only every
+            // CHECKPOINT_AGE: a replay then runs at most that much work again.
+            let start = next.unwrap_or(0);
+            if checkpoint.as_ref().is_none_or(|c| c.2.elapsed() >= CHECKPOINT_AGE) {
+                checkpoint = Some((twin.clone(), start, Instant::now()));
             }
             while let Some(n) = next.filter(|&n| n < to) {
                 at = n;
                 (twin.step, original.step) = (n, n);
+                let _ = crate::events::take_unseen_non_finite();
                 scenario.step(&mut twin);
                 let events = crate::events::drain();
+                let noted = crate::events::take_unseen_non_finite();
                 scenario.step_original(&mut original);
                 if let Some(c) = compiled.as_mut() {
                     c.step = n;
@@ -302,9 +369,16 @@ where
                 }
                 // The original and the compiled-literal run record nothing of interest: their events are dropped.
                 let _ = crate::events::drain();
+                let _ = crate::events::take_unseen_non_finite();
                 twin.rotate();
                 original.rotate();
-                out.push(observe(n + 1, &twin, compiled.as_ref(), &original, plan, events));
+                let mut measured = observe(n + 1, &twin, compiled.as_ref(), &original, plan, events);
+                if let Some((levels, from, _)) = checkpoint.as_ref().filter(|_| trigger.fires(&measured, noted)) {
+                    measured.events = replay::<S, L>(scenario, levels, *from, n);
+                    // Later replays (a NaN keeps meeting comparisons) start from here and cost one step.
+                    checkpoint = Some((twin.clone(), n + 1, Instant::now()));
+                }
+                out.push(measured);
                 next = Some(n + 1);
             }
             Ok(out)
@@ -315,13 +389,40 @@ where
                 .map(|s| s.to_string())
                 .or_else(|| payload.downcast_ref::<String>().cloned())
                 .unwrap_or_else(|| "a panic without a message".into());
-            Err(Error::ScenarioPanicked { lens: L::NAME.to_string(), step: at, message })
+            Err(Error::ScenarioPanicked { lens: L::Watched::NAME.to_string(), step: at, message })
         });
         let failed = outcome.is_err();
         if results.send(outcome).is_err() || failed {
             return;
         }
     }
+}
+
+/// Runs steps `from..=step` again from the `checkpoint` taken before step `from`, with the watched variant of the
+/// lens, and returns the events of the last of them.
+fn replay<S, L>(
+    scenario: &S,
+    checkpoint: &Levels<L::Unwatched>,
+    from: u64,
+    step: u64,
+) -> Vec<(crate::events::EventKind, crate::events::Site, u64)>
+where
+    S: Scenario,
+    L: Lens,
+    f64: MixedOps<L::Watched>,
+    L::Watched: BaseOps<f64>,
+    for<'a> &'a L::Watched: RefOps<L::Watched>,
+{
+    let mut watched = checkpoint.convert(Lens::watched);
+    let mut events = Vec::new();
+    for k in from..=step {
+        watched.step = k;
+        scenario.step(&mut watched);
+        // The steps before `step` were recorded when they ran: only the last one's events are new.
+        events = crate::events::drain();
+        watched.rotate();
+    }
+    events
 }
 
 /// Measures every field of the current level and compares its primal with the original.

@@ -79,6 +79,14 @@ impl<T> Field<T> {
     pub fn values(&self) -> &[T] {
         &self.data
     }
+
+    /// The same field with every value converted (the driver moves a lens's levels between its variants).
+    pub(crate) fn convert<U>(&self, f: impl Fn(T) -> U) -> Field<U>
+    where
+        T: Copy,
+    {
+        Field { name: self.name.clone(), shape: self.shape.clone(), data: self.data.iter().map(|&x| f(x)).collect() }
+    }
 }
 
 /// The multi-index of a flat position in a row-major array of `shape`.
@@ -147,6 +155,18 @@ impl<T: Real> Levels<T> {
             current: level(),
             next: maybe(levels >= 2),
             stages: (0..stages).map(|_| level()).collect(),
+        }
+    }
+
+    /// The same levels with every value converted.
+    pub(crate) fn convert<U: Real>(&self, f: impl Fn(T) -> U + Copy) -> Levels<U> {
+        let level = |fields: &Vec<Field<T>>| fields.iter().map(|field| field.convert(f)).collect();
+        Levels {
+            step: self.step,
+            previous: level(&self.previous),
+            current: level(&self.current),
+            next: level(&self.next),
+            stages: self.stages.iter().map(level).collect(),
         }
     }
 

@@ -159,11 +159,22 @@ fn non_finite(value: f64, operands_finite: bool) {
     }
 }
 
+/// In an unwatched lens, notes a NaN or infinite primal that a comparison, selection or integer conversion may
+/// swallow (its answer need not carry the value on), so that the audit driver replays the step with the watched
+/// lens, which records the line where the value arose. `finite` tells whether the operands are finite.
+#[inline(always)]
+fn note_unseen<T: Core>(finite: bool) {
+    if !T::WATCH && !finite {
+        crate::events::note_unseen_non_finite();
+    }
+}
+
 /// A comparison: the primal's answer, with a branch instability recorded when the reference could answer
 /// otherwise.
 #[inline(always)]
 #[track_caller]
 pub fn compare<T: Core>(a: T, b: T, predicate: fn(Ordering) -> bool) -> bool {
+    note_unseen::<T>(a.primal().is_finite() && b.primal().is_finite());
     let Some(order) = a.primal().partial_cmp(&b.primal()) else {
         return false; // NaN compares false, as in f64; the NaN was reported where it arose
     };
@@ -178,6 +189,7 @@ pub fn compare<T: Core>(a: T, b: T, predicate: fn(Ordering) -> bool) -> bool {
 #[inline(always)]
 #[track_caller]
 pub fn order<T: Core>(a: T, b: T) -> Option<Ordering> {
+    note_unseen::<T>(a.primal().is_finite() && b.primal().is_finite());
     let order = a.primal().partial_cmp(&b.primal())?;
     if !a.orders(b).all_give(|o| o == order, true) {
         record(EventKind::BranchInstability);
@@ -205,6 +217,7 @@ pub fn select<T: Core>(a: T, b: T, choose: fn(f64, f64) -> f64) -> T {
 #[track_caller]
 pub fn decide<T: Core, R: PartialEq>(x: T, step: impl Fn(f64) -> R, kind: EventKind) -> R {
     let primal = step(x.primal());
+    note_unseen::<T>(x.primal().is_finite());
     let (lo, hi) = x.range();
     if x.primal().is_finite() && (step(lo) != primal || step(hi) != primal) {
         record(kind);
