@@ -84,14 +84,6 @@ impl Reference {
         };
         Reference::from_parts(hi, lo, err, side)
     }
-
-    /// The reference of the number a float literal's text spells (see [`decimal_value`]).
-    ///
-    /// # Errors
-    /// When the text is not a decimal float literal.
-    pub fn of_decimal(text: &str) -> Result<Reference, DecimalError> {
-        decimal_value(text).map(|q| Reference::of_rational(&q))
-    }
 }
 
 /// Why a text is not a decimal float literal.
@@ -111,11 +103,28 @@ impl std::error::Error for DecimalError {}
 
 /// Decimal exponents beyond which a literal is certainly outside the double range: `|x| ≥ 10^(digits − 1 + e)`
 /// overflows past 10^309 > `f64::MAX` ≈ 1.8·10^308, and `|x| < 10^(digits + e)` underflows below 10^-330, under
-/// half the smallest subnormal 2^-1074 ≈ 4.9·10^-324 (IEEE 754-2019 §3.3). The exponent of such a literal is
-/// clamped to these bounds, which keeps every double of its reference (it is still an overflow, still an
-/// underflow with the same sign) and keeps `1e999999999` from building a billion-digit integer.
+/// half the smallest subnormal 2^-1074 ≈ 4.9·10^-324 (IEEE 754-2019 §3.3). [`Reference::of_decimal`] clamps the
+/// exponent of such a literal to these bounds, which keeps every double of its reference (it is still an
+/// overflow, still an underflow on the same side of zero) and keeps `1e999999999` from building a billion-digit
+/// integer.
 const OVERFLOW_EXPONENT: i64 = 309;
 const UNDERFLOW_EXPONENT: i64 = -330;
+
+/// The largest decimal exponent [`decimal_value`] builds exactly (10^100000 is a 41-kilobyte integer).
+const EXACT_EXPONENT: i64 = 100_000;
+
+impl Reference {
+    /// The reference of the number a float literal's text spells (the syntax of [`decimal_value`]).
+    ///
+    /// # Errors
+    /// When the text is not a decimal float literal.
+    pub fn of_decimal(text: &str) -> Result<Reference, DecimalError> {
+        let literal = Literal::parse(text)?;
+        let significant = literal.significant_digits();
+        let scale = literal.scale.clamp(UNDERFLOW_EXPONENT - significant, OVERFLOW_EXPONENT - (significant - 1));
+        Ok(Reference::of_rational(&literal.value(scale)))
+    }
+}
 
 /// The exact rational number a float literal's text spells, as Rust writes them: an optional run of leading
 /// `-` (a negated constant's initializer), digits, an optional point with optional digits after it (`2.` is
@@ -123,50 +132,83 @@ const UNDERFLOW_EXPONENT: i64 = -330;
 /// (`1_000.5`), and an optional `f32`/`f64` suffix (`0.1f32`, `0.1_f64`).
 ///
 /// # Errors
-/// When the text is anything else (no digits, two points, letters, a hexadecimal prefix).
+/// When the text is anything else (no digits, two points, letters, a hexadecimal prefix), or when its decimal
+/// exponent is beyond ±100000 (use [`Reference::of_decimal`] for those: it needs no exact value).
 pub fn decimal_value(text: &str) -> Result<RBig, DecimalError> {
-    let error = || DecimalError { text: text.to_string() };
-    let unsigned = text.trim_start_matches('-');
-    let negative = (text.len() - unsigned.len()) % 2 == 1;
-    let body = unsigned.strip_suffix("f64").or_else(|| unsigned.strip_suffix("f32")).unwrap_or(unsigned);
-    let body: String = body.chars().filter(|&c| c != '_').collect();
-    let (mantissa, exponent) = match body.find(['e', 'E']) {
-        Some(at) => (&body[..at], Some(&body[at + 1..])),
-        None => (&body[..], None),
-    };
-    let (whole, fraction) = mantissa.split_once('.').unwrap_or((mantissa, ""));
-    let all_digits = |s: &str| s.bytes().all(|b| b.is_ascii_digit());
-    if whole.is_empty()
-        || !all_digits(whole)
-        || !all_digits(fraction)
-        || !unsigned.starts_with(|c: char| c.is_ascii_digit())
-    {
-        return Err(error());
+    let literal = Literal::parse(text)?;
+    if literal.scale.unsigned_abs() > EXACT_EXPONENT.unsigned_abs() {
+        return Err(DecimalError { text: text.to_string() });
     }
-    let exponent: i64 = match exponent {
-        None => 0,
-        Some(e) => {
-            let digits = e.strip_prefix(['+', '-']).unwrap_or(e);
-            if digits.is_empty() || !all_digits(digits) {
-                return Err(error());
-            }
-            // An exponent too long for i64 is certainly out of range: saturate, the clamp below applies.
-            digits.parse::<i64>().map_or(i64::MAX, |n| n).saturating_mul(if e.starts_with('-') { -1 } else { 1 })
+    Ok(literal.value(literal.scale))
+}
+
+/// A float literal's text read as `±D·10^scale`.
+struct Literal {
+    negative: bool,
+    /// The digits before and after the point, as one integer.
+    significand: UBig,
+    /// How many decimal digits the significand has without its leading zeros.
+    digits: usize,
+    scale: i64,
+}
+
+impl Literal {
+    fn parse(text: &str) -> Result<Literal, DecimalError> {
+        let error = || DecimalError { text: text.to_string() };
+        let unsigned = text.trim_start_matches('-');
+        let negative = (text.len() - unsigned.len()) % 2 == 1;
+        if !unsigned.starts_with(|c: char| c.is_ascii_digit()) {
+            return Err(error());
         }
-    };
-    let digits = format!("{whole}{fraction}");
-    let significand = UBig::from_str_radix(&digits, 10).map_err(|_| error())?;
-    if significand == UBig::ZERO {
-        return Ok(RBig::ZERO);
+        let body = unsigned.strip_suffix("f64").or_else(|| unsigned.strip_suffix("f32")).unwrap_or(unsigned);
+        let body: String = body.chars().filter(|&c| c != '_').collect();
+        let (mantissa, exponent) = match body.find(['e', 'E']) {
+            Some(at) => (&body[..at], Some(&body[at + 1..])),
+            None => (&body[..], None),
+        };
+        let (whole, fraction) = mantissa.split_once('.').unwrap_or((mantissa, ""));
+        let all_digits = |s: &str| s.bytes().all(|b| b.is_ascii_digit());
+        if !all_digits(whole) || !all_digits(fraction) {
+            return Err(error());
+        }
+        let exponent: i64 = match exponent {
+            None => 0,
+            Some(e) => {
+                let digits = e.strip_prefix(['+', '-']).unwrap_or(e);
+                if digits.is_empty() || !all_digits(digits) {
+                    return Err(error());
+                }
+                // An exponent too long for i64 is certainly out of range: saturate.
+                let magnitude = digits.parse::<i64>().unwrap_or(i64::MAX);
+                if e.starts_with('-') {
+                    -magnitude
+                } else {
+                    magnitude
+                }
+            }
+        };
+        let digits = format!("{whole}{fraction}");
+        let significand = UBig::from_str_radix(&digits, 10).map_err(|_| error())?;
+        // x = D·10^(e − f) with D the digits and f the count of digits after the point.
+        let scale = exponent.saturating_sub(fraction.len() as i64);
+        Ok(Literal { negative, significand, digits: digits.trim_start_matches('0').len(), scale })
     }
-    // x = D·10^(e − f) with D the digits and f the count of digits after the point.
-    let significant = digits.trim_start_matches('0').len() as i64;
-    let scale = exponent.saturating_sub(fraction.len() as i64);
-    let scale = scale.clamp(UNDERFLOW_EXPONENT - significant, OVERFLOW_EXPONENT - (significant - 1));
-    let power = UBig::from(10u8).pow(scale.unsigned_abs() as usize);
-    let numerator = IBig::from(significand);
-    let numerator = if negative { -numerator } else { numerator };
-    Ok(if scale >= 0 { RBig::from(numerator * IBig::from(power)) } else { RBig::from_parts(numerator, power) })
+
+    fn significant_digits(&self) -> i64 {
+        self.digits as i64
+    }
+
+    /// `±D·10^scale`, exactly.
+    fn value(&self, scale: i64) -> RBig {
+        let power = UBig::from(10u8).pow(scale.unsigned_abs() as usize);
+        let numerator = IBig::from(self.significand.clone());
+        let numerator = if self.negative { -numerator } else { numerator };
+        if scale >= 0 {
+            RBig::from(numerator * IBig::from(power))
+        } else {
+            RBig::from_parts(numerator, power)
+        }
+    }
 }
 
 /// The next double above `x` (IEEE 754-2019 nextUp), written out because `f64::next_up` is newer than the MSRV.
