@@ -2,13 +2,14 @@
 //!
 //! A twin is the user's kernel with `T: Real` in place of `f64` (or `f32`). The trait therefore mirrors the
 //! inherent API of the primitive floats that stencil kernels use — operators, comparisons, the elementary
-//! functions, `Sum` — plus the few entry points the rewrite needs: [`Real::lit`] for a float literal as written,
+//! functions, `Sum` — plus the few entry points the rewrite needs: [`Real::lit`] for a float literal with the exact reference of its decimal,
 //! [`Real::from_f64`] for an input value taken as exact, [`Real::constant`] for `std::f64::consts`, and
 //! [`Real::primal`] for the number the float program itself computes (which branches and index casts follow).
 //!
 //! The implementations for `f64` and `f32` forward to the inherent methods, one to one, so that a twin run with
 //! `T = f64` is bit-identical to the original kernel.
 
+use crate::lens::reference::Reference;
 use core::fmt::{Debug, Display};
 use core::iter::{Product, Sum};
 use core::ops::{Add, AddAssign, Div, DivAssign, Mul, MulAssign, Neg, Rem, RemAssign, Sub, SubAssign};
@@ -191,11 +192,13 @@ pub trait Real:
     + num_traits::Zero
     + num_traits::One
 {
-    /// A float literal of the kernel: `value` is what the compiler made of it (the primal), `text` the digits as
-    /// written, which a lens's reference holds exactly.
-    fn lit(value: f64, text: &'static str) -> Self;
+    /// A float literal of the kernel whose decimal is not exactly a double: `value` is what the compiler made
+    /// of it (the primal), `reference` the decimal number as written, which the rewrite computed exactly at
+    /// expansion time and a lens's reference side holds. (A literal that is exactly its double becomes
+    /// [`Real::from_f64`].)
+    fn lit(value: f64, reference: Reference) -> Self;
     /// A float literal of an `f32` kernel, as [`Real::lit`].
-    fn lit_f32(value: f32, text: &'static str) -> Self;
+    fn lit_f32(value: f32, reference: Reference) -> Self;
     /// An input value, taken as exact.
     fn from_f64(value: f64) -> Self;
     /// An `f32` input value, taken as exact.
@@ -295,11 +298,11 @@ macro_rules! primitive_real {
     ($float:ident, $lit:ident, $lit_other:ident, $other:ident, $from_own:ident, $from_other:ident, $value:ident) => {
         impl Real for $float {
             #[inline(always)]
-            fn $lit(value: $float, _text: &'static str) -> Self {
+            fn $lit(value: $float, _reference: Reference) -> Self {
                 value
             }
             #[inline(always)]
-            fn $lit_other(value: $other, _text: &'static str) -> Self {
+            fn $lit_other(value: $other, _reference: Reference) -> Self {
                 value as $float
             }
             #[inline(always)]

@@ -11,7 +11,7 @@ fn step<T: Real>(u: &[T], r: T) -> Vec<T> {
     let n = u.len();
     let mut out = u.to_vec();
     for i in 1..n - 1 {
-        out[i] = u[i] + r * (u[i - 1] - T::lit(2.0, "2.0") * u[i] + u[i + 1]);
+        out[i] = u[i] + r * (u[i - 1] - T::from_f64(2.0) * u[i] + u[i + 1]);
     }
     out
 }

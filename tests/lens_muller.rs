@@ -12,10 +12,9 @@ const TOLERANCE: f64 = 1e-6;
 
 /// The recurrence as a kernel writes it.
 fn muller<T: Real>() -> Vec<T> {
-    let mut u = vec![T::lit(2.0, "2.0"), -T::lit(4.0, "4.0")];
+    let mut u = vec![T::from_f64(2.0), -T::from_f64(4.0)];
     for n in 1..STEPS {
-        let next =
-            T::lit(111.0, "111.0") - T::lit(1130.0, "1130.0") / u[n] + T::lit(3000.0, "3000.0") / (u[n] * u[n - 1]);
+        let next = T::from_f64(111.0) - T::from_f64(1130.0) / u[n] + T::from_f64(3000.0) / (u[n] * u[n - 1]);
         u.push(next);
     }
     u

@@ -15,10 +15,10 @@ fn rump<T: Real>(a: T, b: T) -> T {
     let b6 = b4 * b2;
     let b8 = b4 * b4;
     let a2 = a * a;
-    T::lit(333.75, "333.75") * b6
-        + a2 * (T::lit(11.0, "11.0") * a2 * b2 - b6 - T::lit(121.0, "121.0") * b4 - T::lit(2.0, "2.0"))
-        + T::lit(5.5, "5.5") * b8
-        + a / (T::lit(2.0, "2.0") * b)
+    T::from_f64(333.75) * b6
+        + a2 * (T::from_f64(11.0) * a2 * b2 - b6 - T::from_f64(121.0) * b4 - T::from_f64(2.0))
+        + T::from_f64(5.5) * b8
+        + a / (T::from_f64(2.0) * b)
 }
 
 fn exact_value() -> RBig {

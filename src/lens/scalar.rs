@@ -486,17 +486,18 @@ macro_rules! lens_scalar {
     (@real $lens:ident) => {
         impl<const W: bool> $crate::Real for $lens<W> {
             #[inline(always)]
-            fn lit(value: f64, text: &'static str) -> $lens<W> {
+            fn lit(value: f64, reference: $crate::lens::reference::Reference) -> $lens<W> {
                 use $crate::lens::reference as r;
-                if r::is_exact_short_literal(value, text) || r::literal_mode() == r::LiteralMode::AsCompiled {
+                // The reference is a constant the rewrite printed; the mode is the same in every iteration.
+                if r::literal_mode() == r::LiteralMode::AsCompiled {
                     <$lens<W> as $crate::lens::scalar::Core>::exact(value)
                 } else {
-                    <$lens<W> as $crate::lens::scalar::Core>::with_reference(value, &r::literal_reference(value, text))
+                    <$lens<W> as $crate::lens::scalar::Core>::with_reference(value, &reference)
                 }
             }
             #[inline(always)]
-            fn lit_f32(value: f32, text: &'static str) -> $lens<W> {
-                <$lens<W> as $crate::Real>::lit(f64::from(value), text)
+            fn lit_f32(value: f32, reference: $crate::lens::reference::Reference) -> $lens<W> {
+                <$lens<W> as $crate::Real>::lit(f64::from(value), reference)
             }
             #[inline(always)]
             fn from_f64(value: f64) -> $lens<W> {

@@ -1,8 +1,8 @@
 //! Pass: float `const` and `static` items inside a kernel body.
 //!
 //! Before: `fn step(u: &mut [f64]) { const R: f64 = 0.25; const W: [f64; 3] = [0.25, 0.5, 0.25]; … }`
-//! After:  `fn step_twin<T>(u: &mut [T]) { let R: T = <T as ::twinstep::Real>::lit(0.25f64, "0.25");
-//!          let W: [T; 3] = [<T as …>::lit(0.25f64, "0.25"), …]; … }`
+//! After:  `fn step_twin<T>(u: &mut [T]) { let R: T = <T as ::twinstep::Real>::from_f64(0.25f64);
+//!          let W: [T; 3] = [<T as …>::from_f64(0.25f64), …]; … }`
 //!
 //! An item inside a function cannot use the function's type parameter, so a constant whose type mentions the float
 //! type becomes a `let`

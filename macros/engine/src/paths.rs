@@ -3,10 +3,10 @@
 //! Before: `f64::max(a, b)`, `f64::EPSILON`, `std::f64::consts::PI`, `f64::from(n)`, `DT` (a module `const`)
 //! After:  `<_ as ::twinstep::Real>::max(a, b)`, `<T as ::twinstep::Real>::epsilon()`,
 //!         `<T as ::twinstep::Real>::constant(::twinstep::Constant::PI)`, `::twinstep::twin::to_real::<T, _>(n)`,
-//!         `<T as ::twinstep::Real>::lit(DT, "0.01")`
+//!         `<T as ::twinstep::Real>::lit(DT, ::twinstep::lens::Reference { hi: 0.01, … })`
 //!
 //! Constants are held by a lens as the real numbers they name; a module constant whose initializer is a literal
-//! keeps that literal's text, any other is taken as an exact input.
+//! gets that literal's reference (see [`literals`](crate::literals)), any other is taken as an exact input.
 //!
 //! A bare constant name the item neither binds nor imports (`PI` after a file-level `use std::f64::consts::PI`,
 //! which an attribute cannot see) becomes `::twinstep::twin::math_constant::<T, _>(PI, ::twinstep::Constant::PI)`:
@@ -19,6 +19,7 @@
 //! arguments to infer from and name `T`.
 
 use crate::context::{replace_expr, BaseFloat, Ctx};
+use crate::literals::value_with_reference;
 use quote::quote_spanned;
 use syn::spanned::Spanned;
 use syn::visit_mut::{self, VisitMut};
@@ -194,8 +195,7 @@ impl VisitMut for PathRewriter<'_> {
                 if let Some(text) = self.ctx.module_consts.get(&name.to_string()) {
                     let name = (*name).clone();
                     let tokens = match (text, self.ctx.base) {
-                        (Some(text), BaseFloat::F64) => quote_spanned!(span=> #real::lit(#name, #text)),
-                        (Some(text), BaseFloat::F32) => quote_spanned!(span=> #real::lit_f32(#name, #text)),
+                        (Some(text), _) => value_with_reference(self.ctx, quote::quote!(#name), text, span),
                         (None, BaseFloat::F64) => quote_spanned!(span=> #real::from_f64(#name)),
                         (None, BaseFloat::F32) => quote_spanned!(span=> #real::from_f32(#name)),
                     };

@@ -1,8 +1,8 @@
 //! Pass: the tokens inside macro invocations of a kernel body.
 //!
-//! Before: `vec![0.0; n]`, `assert!(r <= 0.5)`, `azip!((a in &mut u, &b in &v) *a = b * 0.5)`
-//! After:  `vec![<T as ::twinstep::Real>::lit(0.0f64, "0.0"); n]`, `assert!(r <= <T as …>::lit(0.5f64, "0.5"))`,
-//!         `azip!((a in &mut u, &b in &v) *a = b * (<T as …>::lit(0.5f64, "0.5")))`
+//! Before: `vec![0.0; n]`, `assert!(r <= 0.5)`, `azip!((a in &mut u, &b in &v) *a = b * 0.1)`
+//! After:  `vec![<T as ::twinstep::Real>::from_f64(0.0f64); n]`, `assert!(r <= <T as …>::from_f64(0.5f64))`,
+//!         `azip!((a in &mut u, &b in &v) *a = b * (<T as …>::lit(0.1f64, ::twinstep::lens::Reference { … })))`
 //!
 //! A macro's input is only tokens. When they parse as a list of expressions (`vec!`, `assert!`, `println!`, …)
 //! or as `expr; expr`, the whole pipeline rewrites them as expressions; otherwise (`azip!`, `s![..]`) float
