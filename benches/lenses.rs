@@ -4,14 +4,18 @@
 //! diffusion on 512×512. For each, the original f64 kernel, its twin with `T = f64`, and the twin with each lens
 //! run the same number of steps; the report prints time per step and the ratio to the original.
 //!
-//! Targets (issue 3): twin f64 ≤ 1.05×, Bound ≤ 8×, Shadow ≤ 15×, Interval reported; the unwatched variants
-//! (no per-operation NaN/∞ test) are measured beside them.
+//! The lens rows are the variants the audit driver runs (unwatched: it replays a step with the watched variant
+//! only where a value turns non-finite, see docs/audit.md); the watched variants — the replays' cost, and what a
+//! user's own loop pays for a line on every NaN — are measured beside them. Targets (issue 3): twin f64 ≤ 1.05×,
+//! Bound ≤ 8×, Shadow ≤ 15×, Interval reported. A last section times whole audits (kernel, the f64 original
+//! alongside, the per-step measurements and the trace) on the 1-D kernel, reported.
 //! Run with `cargo bench --bench lenses`.
 
 use std::hint::black_box;
 use std::time::{Duration, Instant};
-use twinstep::lens::{Bound, BoundUnwatched, Interval, Shadow, ShadowUnwatched};
-use twinstep::Real;
+use twinstep::audit::{Audit, FieldSpec, Levels, Scenario, Tolerance};
+use twinstep::lens::{Bound, BoundUnwatched, Interval, IntervalUnwatched, Lens, Shadow, ShadowUnwatched};
+use twinstep::{BaseOps, MixedOps, Real, RefOps};
 
 /// One explicit step of the 1-D heat equation `u_t = u_xx`, fixed ends.
 #[twinstep::audit]
@@ -76,7 +80,8 @@ fn time_kernel<T: Real>(len: usize, steps: usize, mut kernel: impl FnMut(&[T], &
     })
 }
 
-/// The rows of one kernel: its twin with `T = f64` and with each lens (Interval on a quarter of the steps).
+/// The rows of one kernel: its twin with `T = f64`, with each lens as audits run it (unwatched) and with each
+/// watched variant ("w."; Interval on a quarter of the steps).
 /// `$twin` is a closure body over `u`, `out` and the scalar type's diffusion number `r`.
 macro_rules! lens_rows {
     ($len:expr, $steps:expr, $r:expr, |$u:ident, $out:ident, $rr:ident| $twin:expr) => {{
@@ -90,11 +95,12 @@ macro_rules! lens_rows {
         }
         [
             ("twin f64", row!(f64, $steps), Some(1.05)),
-            ("Bound", row!(Bound, $steps), Some(8.0)),
-            ("Bound unw.", row!(BoundUnwatched, $steps), Some(8.0)),
-            ("Shadow", row!(Shadow, $steps), Some(15.0)),
-            ("Shadow unw.", row!(ShadowUnwatched, $steps), Some(15.0)),
-            ("Interval", row!(Interval, $steps / 4), None),
+            ("Bound", row!(BoundUnwatched, $steps), Some(8.0)),
+            ("Shadow", row!(ShadowUnwatched, $steps), Some(15.0)),
+            ("Interval", row!(IntervalUnwatched, $steps / 4), None),
+            ("Bound w.", row!(Bound, $steps), None),
+            ("Shadow w.", row!(Shadow, $steps), None),
+            ("Interval w.", row!(Interval, $steps / 4), None),
         ]
     }};
 }
@@ -108,24 +114,107 @@ fn report(name: &str, original: Duration, rows: &[(&str, Duration, Option<f64>)]
             Some(t) => format!("target ≤ {t}× MISSED"),
             None => "reported".to_string(),
         };
-        println!("  {label:<12} {:>10.1} µs/step  {ratio:>6.2}×  ({verdict})", time.as_secs_f64() * 1e6);
+        println!("  {label:<13} {:>10.1} µs/step  {ratio:>6.2}×  ({verdict})", time.as_secs_f64() * 1e6);
     }
+}
+
+/// The 1-D heat kernel as an audit scenario: a field of `cells` values, the profile of [`profile`].
+struct Rod {
+    cells: usize,
+}
+
+impl Scenario for Rod {
+    fn fields(&self) -> Vec<FieldSpec> {
+        vec![FieldSpec::new("u", &[self.cells])]
+    }
+
+    fn initial_values(&self) -> Vec<Vec<f64>> {
+        vec![profile::<f64>(self.cells)]
+    }
+
+    fn step<T>(&self, levels: &mut Levels<T>)
+    where
+        T: Real + BaseOps<f64>,
+        f64: MixedOps<T>,
+        for<'a> &'a T: RefOps<T>,
+    {
+        heat_1d_twin::<T>(&levels.current[0], &mut levels.next[0], T::from_f64(0.25));
+    }
+
+    fn step_original(&self, levels: &mut Levels<f64>) {
+        heat_1d(&levels.current[0], &mut levels.next[0], 0.25);
+    }
+}
+
+/// Time per step of a whole audit of [`Rod`] with the one lens `L`: the difference between audits of `2·steps`
+/// and `steps` steps (best of 3 each), divided by `steps`, so the fixed cost of starting an audit (threads, the
+/// trace's header, the initial data) does not count.
+fn time_audit<L>(cells: usize, steps: u64) -> Duration
+where
+    L: Lens,
+    L::Unwatched: BaseOps<f64>,
+    f64: MixedOps<L::Unwatched> + MixedOps<L::Watched>,
+    for<'a> &'a L::Unwatched: RefOps<L::Unwatched>,
+    L::Watched: BaseOps<f64>,
+    for<'a> &'a L::Watched: RefOps<L::Watched>,
+{
+    let rod = Rod { cells };
+    let trace = std::env::temp_dir().join(format!("twinstep-bench-{}.jsonl", std::process::id()));
+    let run = |steps: u64| {
+        (0..3)
+            .map(|_| {
+                let start = Instant::now();
+                let audit = Audit::new(&rod, Tolerance::absolute(1e-9).expect("tolerance"), steps).trace(&trace);
+                black_box(audit.lens::<L>().run().expect("the audit runs"));
+                start.elapsed()
+            })
+            .min()
+            .unwrap_or_default()
+    };
+    let (once, twice) = (run(steps), run(2 * steps));
+    let _ = std::fs::remove_file(&trace);
+    twice.saturating_sub(once) / steps as u32
 }
 
 fn main() {
     const CELLS: usize = 100_000;
     const GRID: usize = 512;
     let (heat_steps, diffusion_steps) = (200, 20);
+    // `cargo bench --bench lenses -- audit` runs only the sections whose name contains the word (cargo passes
+    // `--bench` itself, which is no filter).
+    let filter: Vec<String> = std::env::args().skip(1).filter(|a| !a.starts_with("--")).collect();
+    let wanted = |section: &str| filter.is_empty() || filter.iter().any(|f| section.contains(f.as_str()));
 
-    let original = time_kernel::<f64>(CELLS, heat_steps, |u, out| heat_1d(u, out, 0.25));
-    let rows = lens_rows!(CELLS, heat_steps, 0.25, |u, out, r| heat_1d_twin(u, out, r));
-    report("1-D heat, 10^5 cells", original, &rows);
+    let section = "1-D heat, 10^5 cells";
+    if wanted(section) {
+        let original = time_kernel::<f64>(CELLS, heat_steps, |u, out| heat_1d(u, out, 0.25));
+        let rows = lens_rows!(CELLS, heat_steps, 0.25, |u, out, r| heat_1d_twin(u, out, r));
+        report(section, original, &rows);
+    }
 
-    let original = time_kernel::<f64>(CELLS, heat_steps, heat_1d_literal);
-    let rows = lens_rows!(CELLS, heat_steps, 0.1, |u, out, _r| heat_1d_literal_twin(u, out));
-    report("1-D heat, literal r = 0.1", original, &rows);
+    let section = "1-D heat, literal r = 0.1";
+    if wanted(section) {
+        let original = time_kernel::<f64>(CELLS, heat_steps, heat_1d_literal);
+        let rows = lens_rows!(CELLS, heat_steps, 0.1, |u, out, _r| heat_1d_literal_twin(u, out));
+        report(section, original, &rows);
+    }
 
-    let original = time_kernel::<f64>(GRID * GRID, diffusion_steps, |u, out| diffusion_2d(u, out, GRID, 0.2));
-    let rows = lens_rows!(GRID * GRID, diffusion_steps, 0.2, |u, out, r| diffusion_2d_twin(u, out, GRID, r));
-    report("2-D diffusion, 512×512", original, &rows);
+    let section = "2-D diffusion, 512×512";
+    if wanted(section) {
+        let original = time_kernel::<f64>(GRID * GRID, diffusion_steps, |u, out| diffusion_2d(u, out, GRID, 0.2));
+        let rows = lens_rows!(GRID * GRID, diffusion_steps, 0.2, |u, out, r| diffusion_2d_twin(u, out, GRID, r));
+        report(section, original, &rows);
+    }
+
+    // A whole audit also runs the original beside the lens and measures every cell after every step.
+    let section = "whole audit, 1-D heat, 10^5 cells (kernel + original + measurements + trace)";
+    if wanted(section) {
+        let original = time_kernel::<f64>(CELLS, heat_steps, |u, out| heat_1d(u, out, 0.25));
+        let audits = [
+            ("audit Bound", time_audit::<Bound>(CELLS, heat_steps as u64), None),
+            ("audit Shadow", time_audit::<Shadow>(CELLS, heat_steps as u64), None),
+            ("audit Interval", time_audit::<Interval>(CELLS, heat_steps as u64 / 4), None),
+        ];
+        report(section, original, &audits);
+    }
 }

@@ -56,19 +56,29 @@ impl Rod {
     fn observe<T: Real>(&self, step: u64, field: &Field<T>) {
         let any = field as &dyn Any;
         let cells = |f: &dyn Fn(usize) -> Cell| (0..field.len()).map(f).collect::<Vec<_>>();
-        let seen = if let Some(b) = any.downcast_ref::<Field<Bound>>() {
+        let seen = if let Some(b) = values_of::<Bound>(any) {
             let e = |i: usize| Some((b[i].enclosure().inf(), b[i].enclosure().sup()));
             ("bound", cells(&|i| Cell { primal: b[i].primal(), enclosure: e(i), estimate: b[i].error_estimate() }))
-        } else if let Some(v) = any.downcast_ref::<Field<Interval>>() {
+        } else if let Some(v) = values_of::<Interval>(any) {
             let e = |i: usize| Some((v[i].enclosure().inf(), v[i].enclosure().sup()));
             ("interval", cells(&|i| Cell { primal: v[i].primal(), enclosure: e(i), estimate: v[i].error_estimate() }))
-        } else if let Some(s) = any.downcast_ref::<Field<Shadow>>() {
+        } else if let Some(s) = values_of::<Shadow>(any) {
             ("shadow", cells(&|i| Cell { primal: s[i].primal(), enclosure: None, estimate: s[i].error_estimate() }))
         } else {
             return;
         };
         self.seen.lock().unwrap().push((seen.0, step, seen.1));
     }
+}
+
+/// A field's values as the watched variant of lens `L`, whichever variant the driver ran it with (the unwatched
+/// one for steps, the watched one for the initial data; docs/audit.md).
+fn values_of<L: Lens<Watched = L> + 'static>(field: &dyn Any) -> Option<Vec<L>> {
+    if let Some(watched) = field.downcast_ref::<Field<L>>() {
+        return Some(watched.to_vec());
+    }
+    let unwatched = field.downcast_ref::<Field<L::Unwatched>>()?;
+    Some(unwatched.iter().map(|&cell| cell.watched()).collect())
 }
 
 impl Scenario for Rod {

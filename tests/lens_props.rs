@@ -10,7 +10,7 @@ use dashu_float::round::mode::HalfEven;
 use dashu_float::FBig;
 use dashu_ratio::RBig;
 use proptest::prelude::*;
-use twinstep::lens::{Bound, Interval, Shadow};
+use twinstep::lens::{Bound, Interval, Lens, Shadow};
 use twinstep::Real;
 
 type Big = FBig<HalfEven>;
@@ -63,6 +63,13 @@ fn assert_interval_holds(out: Interval, exact: &RBig, what: &str) -> Result<(), 
     let above_inf = e.inf() == f64::NEG_INFINITY || rational(e.inf()) <= *exact;
     let below_sup = e.sup() == f64::INFINITY || *exact <= rational(e.sup());
     prop_assert!(above_inf && below_sup, "{what}: {out} misses {}", exact.to_f64().value());
+    // The lens's promise to the audit (`Lens::error_bound`): |primal − exact| ≤ bound, checked in exact rationals.
+    let bound = out.error_bound().expect("the interval lens has a bound");
+    if bound.is_finite() && out.primal().is_finite() {
+        let distance = rational(out.primal()) - exact;
+        let distance = if distance < RBig::ZERO { -distance } else { distance };
+        prop_assert!(distance <= rational(bound), "{what}: {out} bound {bound:e} below the distance");
+    }
     Ok(())
 }
 

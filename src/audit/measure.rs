@@ -46,21 +46,6 @@ pub(crate) struct CellProfile {
     pub err: Vec<f64>,
 }
 
-impl CellProfile {
-    /// An all-zero profile of a field of `cells` cells: groups of `⌈cells / PROFILE_CELLS⌉` cells, so that no more
-    /// than `PROFILE_CELLS` values remain.
-    fn zeros(cells: usize) -> CellProfile {
-        let cells_per_value = cells.div_ceil(PROFILE_CELLS).max(1);
-        CellProfile { cells_per_value, err: vec![0.0; cells.div_ceil(cells_per_value)] }
-    }
-
-    /// Counts `err` (already NaN-free: see [`magnitude`]) towards the value of the cell's group.
-    fn add(&mut self, flat: usize, err: f64) {
-        let value = &mut self.err[flat / self.cells_per_value];
-        *value = value.max(err);
-    }
-}
-
 /// A cell where the lens's primal differs from the plain f64 original.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub(crate) struct Mismatch {
@@ -90,64 +75,161 @@ fn magnitude(x: f64) -> f64 {
 
 /// Measures one field; with `profiled`, keeps its decimated per-cell errors too.
 pub(crate) fn measure<L: Lens>(cells: &[L], tolerance: &Tolerance, profiled: bool) -> FieldMeasure {
-    let mut m = FieldMeasure {
-        max_err: 0.0,
-        mean_err: 0.0,
-        max_rel_err: 0.0,
-        mean_rel_err: 0.0,
-        bound: None,
-        bound_tol_ratio: None,
-        correct_bits: F64_BITS,
-        worst_flat: 0,
-        tol_ratio: 0.0,
-        max_abs: 0.0,
-        nan: false,
-        infinite: false,
-        representation_err: None,
-        profile: profiled.then(|| CellProfile::zeros(cells.len())),
-    };
-    let (mut sum_err, mut sum_rel) = (0.0, 0.0);
-    for (flat, &cell) in cells.iter().enumerate() {
-        let primal = cell.primal();
-        m.nan |= primal.is_nan();
-        m.infinite |= primal.is_infinite();
-        m.max_abs = m.max_abs.max(magnitude(primal.abs()));
-        let err = magnitude(cell.error_estimate());
-        if let Some(profile) = m.profile.as_mut() {
-            profile.add(flat, err);
+    // One loop per kind of tolerance, each with its kind built in, so the cell loop does not match on it.
+    match *tolerance {
+        Tolerance::Absolute { atol } => measure_with(cells, profiled, |e, u| Tolerance::Absolute { atol }.ratio(e, u)),
+        Tolerance::Relative { rtol } => measure_with(cells, profiled, |e, u| Tolerance::Relative { rtol }.ratio(e, u)),
+        Tolerance::Mixed { atol, rtol } => {
+            measure_with(cells, profiled, |e, u| Tolerance::Mixed { atol, rtol }.ratio(e, u))
         }
+        Tolerance::Ulps { ulps } => measure_with(cells, profiled, |e, u| Tolerance::Ulps { ulps }.ratio(e, u)),
+    }
+}
+
+/// Independent accumulators the cell loop spreads its cells over, so that its sums and maxima are not one chain
+/// of dependent operations and the loop vectorizes (IEEE 754 addition is not associative, so the optimizer keeps a
+/// single running sum in order; eight lanes make the order explicit).
+const LANES: usize = 8;
+
+/// What the cell loop accumulates, per lane.
+#[derive(Clone, Copy)]
+struct Lanes {
+    flags: [u8; LANES],
+    max_abs: [f64; LANES],
+    max_err: [f64; LANES],
+    sum_err: [f64; LANES],
+    max_rel: [f64; LANES],
+    sum_rel: [f64; LANES],
+    tol_ratio: [f64; LANES],
+    bound: [f64; LANES],
+    bound_ratio: [f64; LANES],
+}
+
+/// Bits of [`Lanes::flags`]: the lane saw a NaN, an infinite primal, a cell with a guaranteed bound.
+const NAN: u8 = 1;
+const INFINITE: u8 = 2;
+const BOUNDED: u8 = 4;
+
+impl Lanes {
+    const ZERO: Lanes = Lanes {
+        flags: [0; LANES],
+        max_abs: [0.0; LANES],
+        max_err: [0.0; LANES],
+        sum_err: [0.0; LANES],
+        max_rel: [0.0; LANES],
+        sum_rel: [0.0; LANES],
+        tol_ratio: [0.0; LANES],
+        bound: [0.0; LANES],
+        bound_ratio: [0.0; LANES],
+    };
+
+    /// Adds one cell to `lane`. Straight-line code (selects, no branches) so that a loop over it vectorizes.
+    #[inline(always)]
+    fn add<L: Lens>(&mut self, lane: usize, cell: L, ratio: &impl Fn(f64, f64) -> f64) {
+        let primal = cell.primal();
+        self.flags[lane] |= (u8::from(primal.is_nan()) * NAN) | (u8::from(primal.is_infinite()) * INFINITE);
+        self.max_abs[lane] = self.max_abs[lane].max(magnitude(primal.abs()));
+        let err = magnitude(cell.error_estimate());
+        self.max_err[lane] = self.max_err[lane].max(err);
         let reference = cell.reference_value().abs();
-        // relative error = |primal − exact| / |exact|, with the reference's value standing in for the exact one
+        // relative error = |primal − exact| / |exact|, with the reference's value standing in for the exact one.
         // A cell that is 0 in the primal and in the reference has no relative error to speak of: its absolute
         // error is only the slack of the lens's bound (a few subnormals), which would read as "no correct bit".
-        let rel = if err == 0.0 || (reference == 0.0 && primal == 0.0) {
-            0.0
-        } else if reference > 0.0 && reference.is_finite() {
-            err / reference
-        } else {
-            f64::INFINITY
-        };
-        if err > m.max_err {
-            m.max_err = err;
-            m.worst_flat = flat;
-        }
-        m.max_rel_err = m.max_rel_err.max(rel);
-        sum_err += err;
-        sum_rel += rel;
-        m.tol_ratio = m.tol_ratio.max(magnitude(tolerance.ratio(err, primal)));
+        let quotient = if reference > 0.0 && reference.is_finite() { err / reference } else { f64::INFINITY };
+        let rel = if err == 0.0 || (reference == 0.0 && primal == 0.0) { 0.0 } else { quotient };
+        self.max_rel[lane] = self.max_rel[lane].max(rel);
+        self.sum_err[lane] += err;
+        self.sum_rel[lane] += rel;
+        self.tol_ratio[lane] = self.tol_ratio[lane].max(magnitude(ratio(err, primal)));
         if let Some(bound) = cell.error_bound() {
             let bound = magnitude(bound);
-            m.bound = Some(m.bound.map_or(bound, |b: f64| b.max(bound)));
-            let ratio = magnitude(tolerance.ratio(bound, primal));
-            m.bound_tol_ratio = Some(m.bound_tol_ratio.map_or(ratio, |r: f64| r.max(ratio)));
+            self.flags[lane] |= BOUNDED;
+            self.bound[lane] = self.bound[lane].max(bound);
+            self.bound_ratio[lane] = self.bound_ratio[lane].max(magnitude(ratio(bound, primal)));
         }
     }
+}
+
+/// The largest of some lanes.
+fn largest(lanes: &[f64; LANES]) -> f64 {
+    lanes.iter().fold(0.0, |a, &b| a.max(b))
+}
+
+/// [`measure`] with the tolerance's `ratio(err, u)`. The cells are taken in the profile's groups (the whole
+/// field as one group when it is not profiled), so no cell needs an integer division to find its group, and
+/// within a group in runs of [`LANES`]. The worst cell is found afterwards, in the group that holds it.
+#[inline(always)]
+fn measure_with<L: Lens>(cells: &[L], profiled: bool, ratio: impl Fn(f64, f64) -> f64) -> FieldMeasure {
+    // Groups of ⌈cells / PROFILE_CELLS⌉ neighbours, so that no more than PROFILE_CELLS values remain.
+    let group = if profiled { cells.len().div_ceil(PROFILE_CELLS).max(1) } else { cells.len().max(1) };
+    let mut profile = Vec::with_capacity(if profiled { cells.len().div_ceil(group) } else { 0 });
+    let mut all = Lanes::ZERO;
+    let (mut max_err, mut worst_group) = (0.0f64, 0usize);
+    for (g, chunk) in cells.chunks(group).enumerate() {
+        let mut lanes = Lanes::ZERO;
+        let runs = chunk.chunks_exact(LANES);
+        let rest = runs.remainder();
+        for run in runs {
+            for (lane, &cell) in run.iter().enumerate() {
+                lanes.add(lane, cell, &ratio);
+            }
+        }
+        for (lane, &cell) in rest.iter().enumerate() {
+            lanes.add(lane, cell, &ratio);
+        }
+        let group_max = largest(&lanes.max_err);
+        if group_max > max_err {
+            (max_err, worst_group) = (group_max, g);
+        }
+        if profiled {
+            profile.push(group_max);
+        }
+        all.merge(&lanes);
+    }
+    // The first cell of the worst group that carries the largest error.
+    let worst_flat = cells
+        .chunks(group)
+        .nth(worst_group)
+        .and_then(|chunk| chunk.iter().position(|c| magnitude(c.error_estimate()) == max_err))
+        .map_or(0, |k| worst_group * group + k);
     let cells_count = cells.len().max(1) as f64;
-    m.mean_err = sum_err / cells_count;
-    m.mean_rel_err = sum_rel / cells_count;
-    // correct bits = −log2(worst relative error), between 0 and the 53 bits binary64 has
-    m.correct_bits = if m.max_rel_err == 0.0 { F64_BITS } else { (-m.max_rel_err.log2()).clamp(0.0, F64_BITS) };
-    m
+    let max_rel_err = largest(&all.max_rel);
+    let flags = all.flags.iter().fold(0, |a, &b| a | b);
+    let bounded = flags & BOUNDED != 0;
+    FieldMeasure {
+        max_err,
+        mean_err: all.sum_err.iter().sum::<f64>() / cells_count,
+        max_rel_err,
+        mean_rel_err: all.sum_rel.iter().sum::<f64>() / cells_count,
+        bound: bounded.then(|| largest(&all.bound)),
+        bound_tol_ratio: bounded.then(|| largest(&all.bound_ratio)),
+        // correct bits = −log2(worst relative error), between 0 and the 53 bits binary64 has
+        correct_bits: if max_rel_err == 0.0 { F64_BITS } else { (-max_rel_err.log2()).clamp(0.0, F64_BITS) },
+        worst_flat,
+        tol_ratio: largest(&all.tol_ratio),
+        max_abs: largest(&all.max_abs),
+        nan: flags & NAN != 0,
+        infinite: flags & INFINITE != 0,
+        representation_err: None,
+        profile: profiled.then_some(CellProfile { cells_per_value: group, err: profile }),
+    }
+}
+
+impl Lanes {
+    /// Folds a group's lanes into the field's, lane by lane.
+    fn merge(&mut self, other: &Lanes) {
+        for lane in 0..LANES {
+            self.flags[lane] |= other.flags[lane];
+            self.max_abs[lane] = self.max_abs[lane].max(other.max_abs[lane]);
+            self.max_err[lane] = self.max_err[lane].max(other.max_err[lane]);
+            self.sum_err[lane] += other.sum_err[lane];
+            self.max_rel[lane] = self.max_rel[lane].max(other.max_rel[lane]);
+            self.sum_rel[lane] += other.sum_rel[lane];
+            self.tol_ratio[lane] = self.tol_ratio[lane].max(other.tol_ratio[lane]);
+            self.bound[lane] = self.bound[lane].max(other.bound[lane]);
+            self.bound_ratio[lane] = self.bound_ratio[lane].max(other.bound_ratio[lane]);
+        }
+    }
 }
 
 /// The first cell where a lens's primal is not bit-identical to the plain f64 run (NaNs of any payload agree).

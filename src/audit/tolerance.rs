@@ -63,6 +63,7 @@ impl Tolerance {
     }
 
     /// The error a cell of computed value `u` may carry.
+    #[inline]
     #[must_use]
     pub fn allowed(&self, u: f64) -> f64 {
         match *self {
@@ -75,6 +76,7 @@ impl Tolerance {
 
     /// `err / allowed(u)`: above 1 the cell is out of tolerance. An allowance of zero (a relative tolerance at
     /// `u = 0`) gives infinity for any nonzero error and 0 for an exact cell.
+    #[inline]
     #[must_use]
     pub fn ratio(&self, err: f64, u: f64) -> f64 {
         let allowed = self.allowed(u);
