@@ -27,6 +27,14 @@ fn guarded_step(u: &[f64], out: &mut [f64], root: &mut [f64]) {
     root[0] = if r > 0.5 { r } else { 0.0 };
 }
 
+/// The same walk, with the root replaced by 0 when it is not a number: `is_nan` swallows it.
+#[twinstep::audit]
+fn tested_step(u: &[f64], out: &mut [f64], root: &mut [f64]) {
+    out[0] = u[0] - 0.25;
+    let r = (out[0] - 1.0).sqrt(); // site: tested root
+    root[0] = if r.is_nan() { 0.0 } else { r };
+}
+
 /// A value growing sixteenfold per step, and the reciprocal of its square, which overflows to ∞ and comes back as
 /// 1/∞ = 0.
 #[twinstep::audit]
@@ -40,6 +48,7 @@ fn growth_step(u: &[f64], out: &mut [f64], inverse: &mut [f64]) {
 enum Kernel {
     Descent,
     Guarded,
+    Tested,
     Growth,
 }
 
@@ -69,6 +78,7 @@ impl Scenario for Walk {
         match self.kernel {
             Kernel::Descent => descent_step_twin::<T>(current, out, derived),
             Kernel::Guarded => guarded_step_twin::<T>(current, out, derived),
+            Kernel::Tested => tested_step_twin::<T>(current, out, derived),
             Kernel::Growth => growth_step_twin::<T>(current, out, derived),
         }
     }
@@ -80,6 +90,7 @@ impl Scenario for Walk {
         match self.kernel {
             Kernel::Descent => descent_step(current, out, derived),
             Kernel::Guarded => guarded_step(current, out, derived),
+            Kernel::Tested => tested_step(current, out, derived),
             Kernel::Growth => growth_step(current, out, derived),
         }
     }
@@ -129,14 +140,17 @@ fn a_nan_reaching_a_field_late_in_a_chunk_is_found_at_its_line() {
 fn a_nan_swallowed_by_a_comparison_is_still_reported() {
     // As above, r = √(u_n − 1) is NaN from step 41 on; `NaN > 0.5` is false (IEEE 754-2019 §5.11: NaN is
     // unordered), so the field holds 0 and stays finite — only the note of the comparison leads to the replay.
-    let trace = audit(Kernel::Guarded, 11.0, 60, "audit_replay_guarded");
-    assert!(trace.is_complete());
-    for lens in ["bound", "shadow", "interval"] {
-        assert_eq!(first_site(&trace, lens, EventName::Nan), Some((41, line_of("guarded root"))), "lens {lens}");
-        assert!(
-            !trace.events.iter().any(|e| e.kind == EventName::Nan && e.field.is_some()),
-            "no field holds NaN: the guard replaced it"
-        );
+    // The same with the NaN tested for explicitly (`is_nan`) and replaced.
+    for (kernel, site) in [(Kernel::Guarded, "guarded root"), (Kernel::Tested, "tested root")] {
+        let trace = audit(kernel, 11.0, 60, "audit_replay_guarded");
+        assert!(trace.is_complete());
+        for lens in ["bound", "shadow", "interval"] {
+            assert_eq!(first_site(&trace, lens, EventName::Nan), Some((41, line_of(site))), "lens {lens}, {site}");
+            assert!(
+                !trace.events.iter().any(|e| e.kind == EventName::Nan && e.field.is_some()),
+                "no field holds NaN: the guard replaced it"
+            );
+        }
     }
 }
 

@@ -159,11 +159,12 @@ fn non_finite(value: f64, operands_finite: bool) {
     }
 }
 
-/// In an unwatched lens, notes a NaN or infinite primal that a comparison, selection or integer conversion may
-/// swallow (its answer need not carry the value on), so that the audit driver replays the step with the watched
+/// In an unwatched lens, notes a NaN or infinite primal that a comparison, selection, integer conversion or
+/// `is_nan`-style test may swallow (its answer need not carry the value on), so that the audit driver replays the step with the watched
 /// lens, which records the line where the value arose. `finite` tells whether the operands are finite.
 #[inline(always)]
-fn note_unseen<T: Core>(finite: bool) {
+#[doc(hidden)]
+pub fn note_unseen<T: Core>(finite: bool) {
     if !T::WATCH && !finite {
         crate::events::note_unseen_non_finite();
     }
@@ -622,14 +623,20 @@ macro_rules! lens_scalar {
             }
             #[inline(always)]
             fn is_nan(self) -> bool {
+                // A kernel that tests for a non-finite value may replace it: the driver replays such a step.
+                $crate::lens::scalar::note_unseen::<$lens<W>>($crate::Real::primal(self).is_finite());
                 $crate::Real::primal(self).is_nan()
             }
             #[inline(always)]
             fn is_finite(self) -> bool {
+                // A kernel that tests for a non-finite value may replace it: the driver replays such a step.
+                $crate::lens::scalar::note_unseen::<$lens<W>>($crate::Real::primal(self).is_finite());
                 $crate::Real::primal(self).is_finite()
             }
             #[inline(always)]
             fn is_infinite(self) -> bool {
+                // A kernel that tests for a non-finite value may replace it: the driver replays such a step.
+                $crate::lens::scalar::note_unseen::<$lens<W>>($crate::Real::primal(self).is_finite());
                 $crate::Real::primal(self).is_infinite()
             }
             #[inline]
