@@ -2,7 +2,7 @@
 //!
 //! Before: `u[i] + 0.1 * lap`, `2.0 * u[i]`
 //! After:  `u[i] + <T as ::twinstep::Real>::lit(0.1f64, ::twinstep::lens::Reference { hi: 0.1,
-//!         lo: 5.551115123125783e-18, err: 1.232595164407831e-33, down: 0.09999999999999999, up: 0.1 }) * lap`,
+//!         lo: -5.551115123125783e-18, err: 1.232595164407831e-33, down: 0.09999999999999999, up: 0.1 }) * lap`,
 //!         `<T as ::twinstep::Real>::from_f64(2.0f64) * u[i]`
 //!
 //! The primal gets exactly the value the compiler gives the literal. The reference of the decimal number as
