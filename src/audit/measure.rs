@@ -88,13 +88,15 @@ pub(crate) fn measure<L: Lens>(cells: &[L], tolerance: &Tolerance, profiled: boo
 
 /// Independent accumulators the cell loop spreads its cells over, so that its sums and maxima are not one chain
 /// of dependent operations and the loop vectorizes (IEEE 754 addition is not associative, so the optimizer keeps a
-/// single running sum in order; eight lanes make the order explicit).
-const LANES: usize = 8;
+/// single running sum in order; four lanes — one AVX register per accumulator, so none spills to memory — make the order explicit).
+const LANES: usize = 4;
 
 /// What the cell loop accumulates, per lane.
 #[derive(Clone, Copy)]
 struct Lanes {
-    flags: [u8; LANES],
+    nan: [f64; LANES],
+    infinite: [f64; LANES],
+    bounded: [f64; LANES],
     max_abs: [f64; LANES],
     max_err: [f64; LANES],
     sum_err: [f64; LANES],
@@ -105,14 +107,11 @@ struct Lanes {
     bound_ratio: [f64; LANES],
 }
 
-/// Bits of [`Lanes::flags`]: the lane saw a NaN, an infinite primal, a cell with a guaranteed bound.
-const NAN: u8 = 1;
-const INFINITE: u8 = 2;
-const BOUNDED: u8 = 4;
-
 impl Lanes {
     const ZERO: Lanes = Lanes {
-        flags: [0; LANES],
+        nan: [0.0; LANES],
+        infinite: [0.0; LANES],
+        bounded: [0.0; LANES],
         max_abs: [0.0; LANES],
         max_err: [0.0; LANES],
         sum_err: [0.0; LANES],
@@ -127,32 +126,46 @@ impl Lanes {
     #[inline(always)]
     fn add<L: Lens>(&mut self, lane: usize, cell: L, ratio: &impl Fn(f64, f64) -> f64) {
         let primal = cell.primal();
-        self.flags[lane] |= (u8::from(primal.is_nan()) * NAN) | (u8::from(primal.is_infinite()) * INFINITE);
-        self.max_abs[lane] = self.max_abs[lane].max(magnitude(primal.abs()));
+        // Whether the lane saw a NaN or an infinite primal, as 1.0 or 0.0: flags in the same registers as the
+        // numbers keep the loop in vector code (byte flags made it move every lane through integer registers).
+        self.nan[lane] = larger(self.nan[lane], if primal.is_nan() { 1.0 } else { 0.0 });
+        self.infinite[lane] = larger(self.infinite[lane], if primal.is_infinite() { 1.0 } else { 0.0 });
+        self.max_abs[lane] = larger(self.max_abs[lane], magnitude(primal.abs()));
         let err = magnitude(cell.error_estimate());
-        self.max_err[lane] = self.max_err[lane].max(err);
+        self.max_err[lane] = larger(self.max_err[lane], err);
         let reference = cell.reference_value().abs();
         // relative error = |primal − exact| / |exact|, with the reference's value standing in for the exact one.
         // A cell that is 0 in the primal and in the reference has no relative error to speak of: its absolute
         // error is only the slack of the lens's bound (a few subnormals), which would read as "no correct bit".
         let quotient = if reference > 0.0 && reference.is_finite() { err / reference } else { f64::INFINITY };
         let rel = if err == 0.0 || (reference == 0.0 && primal == 0.0) { 0.0 } else { quotient };
-        self.max_rel[lane] = self.max_rel[lane].max(rel);
+        self.max_rel[lane] = larger(self.max_rel[lane], rel);
         self.sum_err[lane] += err;
         self.sum_rel[lane] += rel;
-        self.tol_ratio[lane] = self.tol_ratio[lane].max(magnitude(ratio(err, primal)));
+        self.tol_ratio[lane] = larger(self.tol_ratio[lane], magnitude(ratio(err, primal)));
         if let Some(bound) = cell.error_bound() {
             let bound = magnitude(bound);
-            self.flags[lane] |= BOUNDED;
-            self.bound[lane] = self.bound[lane].max(bound);
-            self.bound_ratio[lane] = self.bound_ratio[lane].max(magnitude(ratio(bound, primal)));
+            self.bounded[lane] = 1.0;
+            self.bound[lane] = larger(self.bound[lane], bound);
+            self.bound_ratio[lane] = larger(self.bound_ratio[lane], magnitude(ratio(bound, primal)));
         }
+    }
+}
+
+/// The larger of two numbers that are not NaN (the cell loop makes every NaN infinite first, see [`magnitude`]):
+/// one `maxpd`, where `f64::max` adds two instructions per call to handle NaN operands.
+#[inline(always)]
+fn larger(a: f64, b: f64) -> f64 {
+    if b > a {
+        b
+    } else {
+        a
     }
 }
 
 /// The largest of some lanes.
 fn largest(lanes: &[f64; LANES]) -> f64 {
-    lanes.iter().fold(0.0, |a, &b| a.max(b))
+    lanes.iter().fold(0.0, |a, &b| larger(a, b))
 }
 
 /// [`measure`] with the tolerance's `ratio(err, u)`. The cells are taken in the profile's groups (the whole
@@ -194,8 +207,7 @@ fn measure_with<L: Lens>(cells: &[L], profiled: bool, ratio: impl Fn(f64, f64) -
         .map_or(0, |k| worst_group * group + k);
     let cells_count = cells.len().max(1) as f64;
     let max_rel_err = largest(&all.max_rel);
-    let flags = all.flags.iter().fold(0, |a, &b| a | b);
-    let bounded = flags & BOUNDED != 0;
+    let bounded = largest(&all.bounded) > 0.0;
     FieldMeasure {
         max_err,
         mean_err: all.sum_err.iter().sum::<f64>() / cells_count,
@@ -208,8 +220,8 @@ fn measure_with<L: Lens>(cells: &[L], profiled: bool, ratio: impl Fn(f64, f64) -
         worst_flat,
         tol_ratio: largest(&all.tol_ratio),
         max_abs: largest(&all.max_abs),
-        nan: flags & NAN != 0,
-        infinite: flags & INFINITE != 0,
+        nan: largest(&all.nan) > 0.0,
+        infinite: largest(&all.infinite) > 0.0,
         representation_err: None,
         profile: profiled.then_some(CellProfile { cells_per_value: group, err: profile }),
     }
@@ -219,15 +231,17 @@ impl Lanes {
     /// Folds a group's lanes into the field's, lane by lane.
     fn merge(&mut self, other: &Lanes) {
         for lane in 0..LANES {
-            self.flags[lane] |= other.flags[lane];
-            self.max_abs[lane] = self.max_abs[lane].max(other.max_abs[lane]);
-            self.max_err[lane] = self.max_err[lane].max(other.max_err[lane]);
+            self.nan[lane] = larger(self.nan[lane], other.nan[lane]);
+            self.infinite[lane] = larger(self.infinite[lane], other.infinite[lane]);
+            self.bounded[lane] = larger(self.bounded[lane], other.bounded[lane]);
+            self.max_abs[lane] = larger(self.max_abs[lane], other.max_abs[lane]);
+            self.max_err[lane] = larger(self.max_err[lane], other.max_err[lane]);
             self.sum_err[lane] += other.sum_err[lane];
-            self.max_rel[lane] = self.max_rel[lane].max(other.max_rel[lane]);
+            self.max_rel[lane] = larger(self.max_rel[lane], other.max_rel[lane]);
             self.sum_rel[lane] += other.sum_rel[lane];
-            self.tol_ratio[lane] = self.tol_ratio[lane].max(other.tol_ratio[lane]);
-            self.bound[lane] = self.bound[lane].max(other.bound[lane]);
-            self.bound_ratio[lane] = self.bound_ratio[lane].max(other.bound_ratio[lane]);
+            self.tol_ratio[lane] = larger(self.tol_ratio[lane], other.tol_ratio[lane]);
+            self.bound[lane] = larger(self.bound[lane], other.bound[lane]);
+            self.bound_ratio[lane] = larger(self.bound_ratio[lane], other.bound_ratio[lane]);
         }
     }
 }
