@@ -12,12 +12,15 @@
 //! [`LiteralMode::AsCompiled`] it holds the double the compiler made, so an audit can split representation error
 //! from arithmetic error.
 
-/// Declares a lens's two variants over its `…Of<const WATCH: bool>` type: the watched one audits use, and the
-/// unwatched one for loops that must vectorize. One declaration, so the variants mean the same in every lens.
+/// Declares a lens's two variants over its `…Of<const WATCH: bool>` type: the watched one, which records the line
+/// of every NaN/∞, and the unwatched one, whose loops vectorize. One declaration, so the variants mean the same in
+/// every lens.
 macro_rules! watch_variants {
     ($of:ident, $watched:ident, $unwatched:ident) => {
-        /// The lens as audits use it: every operation watches for NaN/∞ and records the event at the caller's
-        /// line.
+        /// The lens, watching every operation for NaN/∞ and recording the event at the caller's line. Name it in
+        /// an audit (`.lens::<…>()`): the driver runs the unwatched variant and replays with this one only the
+        /// steps where a value turns non-finite (`docs/audit.md`). In a loop of your own with a `Recorder`, this
+        /// variant records every line, at two to three times the cost.
         pub type $watched = $of<true>;
 
         /// The same lens without the per-operation NaN/∞ test: the reference and every other event are the same,
