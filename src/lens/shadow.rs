@@ -37,17 +37,19 @@ impl<const W: bool> ShadowOf<W> {
         Self { primal, shadow: DoubleWord { hi, lo } }
     }
 
-    /// The shadow as the pair `(hi, lo)`.
+    /// The shadow as the pair `(hi, lo)` (`lo = 0` beside a non-finite `hi`).
     #[must_use]
     pub fn shadow(self) -> (f64, f64) {
-        (self.shadow.hi, self.shadow.lo)
+        let DoubleWord { hi, lo } = self.shadow.canonical();
+        (hi, lo)
     }
 
     /// `primal − shadow`, to double precision: `(primal − hi) − lo` (the first subtraction is exact when the
     /// two are within a factor of two, Sterbenz).
     #[must_use]
     pub fn signed_error(self) -> f64 {
-        (self.primal - self.shadow.hi) - self.shadow.lo
+        let DoubleWord { hi, lo } = self.shadow.canonical();
+        (self.primal - hi) - lo
     }
 
     /// The estimate of the relative error `|primal − exact| / |exact|` (infinite when the shadow is 0 and the
@@ -144,7 +146,7 @@ impl<const W: bool> Core for ShadowOf<W> {
     #[inline(always)]
     fn range(self) -> (f64, f64) {
         // The doubles around hi + lo: hi itself when lo = 0, else hi and its neighbour on lo's side.
-        let DoubleWord { hi, lo } = self.shadow;
+        let DoubleWord { hi, lo } = self.shadow.canonical();
         if lo > 0.0 {
             (hi, next_up(hi))
         } else if lo < 0.0 {
@@ -342,7 +344,8 @@ crate::lens_scalar!(ShadowOf);
 
 impl<const W: bool> core::fmt::Display for ShadowOf<W> {
     fn fmt(&self, f: &mut core::fmt::Formatter<'_>) -> core::fmt::Result {
-        write!(f, "{} (shadow {:e} {:+e})", self.primal, self.shadow.hi, self.shadow.lo)
+        let (hi, lo) = self.shadow();
+        write!(f, "{} (shadow {:e} {:+e})", self.primal, hi, lo)
     }
 }
 
