@@ -9,7 +9,7 @@
 //! The implementations for `f64` and `f32` forward to the inherent methods, one to one, so that a twin run with
 //! `T = f64` is bit-identical to the original kernel.
 
-use crate::lens::reference::Reference;
+use crate::lens::reference::{LiteralMode, Reference};
 use core::fmt::{Debug, Display};
 use core::iter::{Product, Sum};
 use core::ops::{Add, AddAssign, Div, DivAssign, Mul, MulAssign, Neg, Rem, RemAssign, Sub, SubAssign};
@@ -194,11 +194,12 @@ pub trait Real:
 {
     /// A float literal of the kernel whose decimal is not exactly a double: `value` is what the compiler made
     /// of it (the primal), `reference` the decimal number as written, which the rewrite computed exactly at
-    /// expansion time and a lens's reference side holds. (A literal that is exactly its double becomes
-    /// [`Real::from_f64`].)
-    fn lit(value: f64, reference: Reference) -> Self;
+    /// expansion time and a lens's reference side holds, `mode` the thread's literal mode as the twin function
+    /// read it at its entry ([`LiteralMode::AsCompiled`]: the reference is `value` itself). A literal that is
+    /// exactly its double becomes [`Real::from_f64`].
+    fn lit(value: f64, reference: Reference, mode: LiteralMode) -> Self;
     /// A float literal of an `f32` kernel, as [`Real::lit`].
-    fn lit_f32(value: f32, reference: Reference) -> Self;
+    fn lit_f32(value: f32, reference: Reference, mode: LiteralMode) -> Self;
     /// An input value, taken as exact.
     fn from_f64(value: f64) -> Self;
     /// An `f32` input value, taken as exact.
@@ -298,11 +299,11 @@ macro_rules! primitive_real {
     ($float:ident, $lit:ident, $lit_other:ident, $other:ident, $from_own:ident, $from_other:ident, $value:ident) => {
         impl Real for $float {
             #[inline(always)]
-            fn $lit(value: $float, _reference: Reference) -> Self {
+            fn $lit(value: $float, _reference: Reference, _mode: LiteralMode) -> Self {
                 value
             }
             #[inline(always)]
-            fn $lit_other(value: $other, _reference: Reference) -> Self {
+            fn $lit_other(value: $other, _reference: Reference, _mode: LiteralMode) -> Self {
                 value as $float
             }
             #[inline(always)]

@@ -4,7 +4,8 @@
 
 use twinstep::events::{drain, EventKind};
 use twinstep::lens::{
-    with_literal_mode, Bound, BoundUnwatched, Interval, Lens, LiteralMode, Reference, Shadow, ShadowUnwatched,
+    literal_mode, with_literal_mode, Bound, BoundUnwatched, Interval, Lens, LiteralMode, Reference, Shadow,
+    ShadowUnwatched,
 };
 use twinstep::{BaseOps, Constant, MixedOps, Real, RefOps};
 
@@ -19,7 +20,7 @@ where
     let mut acc = x;
     acc += y * 0.5;
     acc -= &y;
-    acc *= T::lit(1.1, Reference::of_decimal("1.1").unwrap());
+    acc *= T::lit(1.1, Reference::of_decimal("1.1").unwrap(), literal_mode());
     acc /= 3.0;
     let values = vec![x, y, acc];
     vec![
@@ -105,9 +106,10 @@ fn non_finite_results_from_finite_operands_are_events() {
 fn literal_modes_switch_the_reference() {
     // 0.1 is not a double (IEEE 754 binary64 has no finite binary expansion of 1/10): as written it carries a
     // representation error, as compiled none.
-    let written = Bound::lit(0.1, Reference::of_decimal("0.1").unwrap());
-    let compiled =
-        with_literal_mode(LiteralMode::AsCompiled, || Bound::lit(0.1, Reference::of_decimal("0.1").unwrap()));
+    let written = Bound::lit(0.1, Reference::of_decimal("0.1").unwrap(), literal_mode());
+    let compiled = with_literal_mode(LiteralMode::AsCompiled, || {
+        Bound::lit(0.1, Reference::of_decimal("0.1").unwrap(), literal_mode())
+    });
     assert!(written.radius() > 0.0);
     assert_eq!(compiled.radius(), 0.0);
     let shadow_compiled = with_literal_mode(LiteralMode::AsCompiled, || Shadow::constant(Constant::PI));

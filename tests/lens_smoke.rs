@@ -1,7 +1,7 @@
 //! Smoke checks of the lens surface: literals as written, events at the user's site.
 
 use twinstep::events::{drain, EventKind};
-use twinstep::lens::{Bound, Interval, Lens, Reference, Shadow};
+use twinstep::lens::{literal_mode, Bound, Interval, Lens, Reference, Shadow};
 use twinstep::Real;
 
 #[test]
@@ -10,11 +10,11 @@ fn one_tenth_as_written() {
     // 5.551115123125783e-18 is from memory, and it is recomputed here as 0.1f64 − 1/10 in dashu exact rationals).
     let excess = dashu_ratio::RBig::try_from(0.1f64).unwrap() - dashu_ratio::RBig::from_str_decimal("0.1").unwrap();
     let excess = excess.to_f64().value();
-    let b = Bound::lit(0.1, Reference::of_decimal("0.1").unwrap());
+    let b = Bound::lit(0.1, Reference::of_decimal("0.1").unwrap(), literal_mode());
     assert!(b.radius() >= excess && b.radius() <= excess * (1.0 + 1e-12), "{b}");
-    let s = Shadow::lit(0.1, Reference::of_decimal("0.1").unwrap());
+    let s = Shadow::lit(0.1, Reference::of_decimal("0.1").unwrap(), literal_mode());
     assert_eq!(s.error_estimate(), excess);
-    let i = Interval::lit(0.1, Reference::of_decimal("0.1").unwrap());
+    let i = Interval::lit(0.1, Reference::of_decimal("0.1").unwrap(), literal_mode());
     assert!(i.enclosure().inf() < 0.1 && i.enclosure().sup() == 0.1);
 }
 

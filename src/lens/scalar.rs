@@ -487,18 +487,29 @@ macro_rules! lens_scalar {
     (@real $lens:ident) => {
         impl<const W: bool> $crate::Real for $lens<W> {
             #[inline(always)]
-            fn lit(value: f64, reference: $crate::lens::reference::Reference) -> $lens<W> {
-                use $crate::lens::reference as r;
-                // The reference is a constant the rewrite printed; the mode is the same in every iteration.
-                if r::literal_mode() == r::LiteralMode::AsCompiled {
-                    <$lens<W> as $crate::lens::scalar::Core>::exact(value)
-                } else {
-                    <$lens<W> as $crate::lens::scalar::Core>::with_reference(value, &reference)
+            fn lit(
+                value: f64,
+                reference: $crate::lens::reference::Reference,
+                mode: $crate::lens::reference::LiteralMode,
+            ) -> $lens<W> {
+                // The reference is a constant the rewrite printed, the mode a local of the twin function: in a
+                // loop both are the same in every iteration, so this folds into straight-line code.
+                match mode {
+                    $crate::lens::reference::LiteralMode::AsCompiled => {
+                        <$lens<W> as $crate::lens::scalar::Core>::exact(value)
+                    }
+                    $crate::lens::reference::LiteralMode::AsWritten => {
+                        <$lens<W> as $crate::lens::scalar::Core>::with_reference(value, &reference)
+                    }
                 }
             }
             #[inline(always)]
-            fn lit_f32(value: f32, reference: $crate::lens::reference::Reference) -> $lens<W> {
-                <$lens<W> as $crate::Real>::lit(f64::from(value), reference)
+            fn lit_f32(
+                value: f32,
+                reference: $crate::lens::reference::Reference,
+                mode: $crate::lens::reference::LiteralMode,
+            ) -> $lens<W> {
+                <$lens<W> as $crate::Real>::lit(f64::from(value), reference, mode)
             }
             #[inline(always)]
             fn from_f64(value: f64) -> $lens<W> {

@@ -36,7 +36,11 @@ pub fn twins_of(options: &Options, item: &syn::Item) -> syn::Result<Vec<syn::Ite
     for name in &options.calls {
         ctx.renames.insert(name.clone(), format!("{name}_{}", items::TWIN_SUFFIX));
     }
-    items::twin_item(&mut ctx, item)
+    let mut twins = items::twin_item(&mut ctx, item)?;
+    for twin in &mut twins {
+        syn::visit_mut::VisitMut::visit_item_mut(&mut literals::LiteralModeBinder, twin);
+    }
+    Ok(twins)
 }
 
 /// What the attribute emits: the original item untouched, then its twins, or the original and the errors.

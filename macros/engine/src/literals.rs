@@ -2,7 +2,8 @@
 //!
 //! Before: `u[i] + 0.1 * lap`, `2.0 * u[i]`
 //! After:  `u[i] + <T as ::twinstep::Real>::lit(0.1f64, ::twinstep::lens::Reference { hi: 0.1,
-//!         lo: -5.551115123125783e-18, err: 1.232595164407831e-33, down: 0.09999999999999999, up: 0.1 }) * lap`,
+//!         lo: -5.551115123125783e-18, err: 1.232595164407831e-33, down: 0.09999999999999999, up: 0.1 },
+//!         twinstep_literal_mode) * lap`,
 //!         `<T as ::twinstep::Real>::from_f64(2.0f64) * u[i]`
 //!
 //! The primal gets exactly the value the compiler gives the literal. The reference of the decimal number as
@@ -14,6 +15,10 @@
 //! `r = 0.1`, against 6.9× and 20.9× with `r` a variable (`benches/lenses.rs`), because the cache's miss path
 //! kept the loop from vectorizing.
 //!
+//! The literal mode (`LiteralMode::AsCompiled` replaces each reference by the compiled double, for the split of
+//! representation error) is read once per call of a twin function, into a local that every `lit` takes (see
+//! [`literal_mode_ident`]).
+//!
 //! A literal whose decimal is exactly its double (`2.0`, `0.5`, `1e3`; decided with exact rationals) has
 //! nothing to split off and becomes the exact conversion `from_f64` (`from_f32` in an `f32` kernel). A literal
 //! with the other float's suffix (`0.5f32` in an `f64` kernel) is a value of that other type and stays as it is.
@@ -21,8 +26,9 @@
 use crate::context::{replace_expr, BaseFloat, Ctx};
 use proc_macro2::{Span, TokenStream};
 use quote::{quote, quote_spanned};
+use syn::visit::{self as visit_ref, Visit};
 use syn::visit_mut::{self, VisitMut};
-use syn::{Expr, Lit, LitFloat};
+use syn::{Block, Expr, Ident, Lit, LitFloat};
 use twinstep_exact::Reference;
 
 /// Rewrites float literals into lens values with their exact reference.
@@ -68,7 +74,8 @@ pub fn value_with_reference(ctx: &Ctx, primal: TokenStream, text: &str, span: Sp
     match Reference::of_decimal(text) {
         Ok(reference) if !is_exact_in(ctx.base, &reference) => {
             let reference = reference_tokens(&reference, span);
-            quote_spanned!(span=> #real::#lit(#primal, #reference))
+            let mode = literal_mode_ident();
+            quote_spanned!(span=> #real::#lit(#primal, #reference, #mode))
         }
         // Exact, or a text that is no decimal (it cannot come from a parsed float literal): the compiled value is
         // taken as exact, as for an input.
@@ -126,5 +133,80 @@ impl VisitMut for LiteralRewriter<'_> {
             Expr::Struct(reference) if is_printed_reference(reference) => {}
             _ => visit_mut::visit_expr_mut(self, expr),
         }
+    }
+}
+
+/// The local a twin function reads its literal mode into, once, at its entry: `lit` takes it as an argument.
+///
+/// Reading the per-thread mode inside `lit` instead put a thread-local load in every iteration of a kernel's
+/// loop, which the optimizer could not prove unaffected by the loop's stores, so it could neither hoist it nor
+/// vectorize the loop (`benches/lenses.rs`, 1-D heat with a literal: Bound 14.5× and Shadow 52.5× plain `f64`
+/// with the load, 7.1× and 17.4× without). Read at the entry, the mode is one value for the whole call,
+/// closures included — also those a parallel iterator runs on other threads, whose own thread-local mode would
+/// not be the caller's. The name is hygienic (mixed-site): user code can neither see nor shadow it.
+pub fn literal_mode_ident() -> Ident {
+    Ident::new("twinstep_literal_mode", Span::mixed_site())
+}
+
+/// Gives every twin function whose body has a literal with a reference the binding of
+/// [`literal_mode_ident`] as its first statement:
+/// `let twinstep_literal_mode = ::twinstep::lens::literal_mode();`.
+pub struct LiteralModeBinder;
+
+impl LiteralModeBinder {
+    fn bind(block: &mut Block) {
+        let mut finder = ModeUse { found: false };
+        finder.visit_block(block);
+        if finder.found {
+            let mode = literal_mode_ident();
+            block.stmts.insert(0, syn::parse_quote!(let #mode = ::twinstep::lens::literal_mode();));
+        }
+    }
+}
+
+impl VisitMut for LiteralModeBinder {
+    fn visit_item_fn_mut(&mut self, f: &mut syn::ItemFn) {
+        // Nested functions first: they bind their own.
+        visit_mut::visit_item_fn_mut(self, f);
+        LiteralModeBinder::bind(&mut f.block);
+    }
+    fn visit_impl_item_fn_mut(&mut self, f: &mut syn::ImplItemFn) {
+        visit_mut::visit_impl_item_fn_mut(self, f);
+        LiteralModeBinder::bind(&mut f.block);
+    }
+    fn visit_trait_item_fn_mut(&mut self, f: &mut syn::TraitItemFn) {
+        visit_mut::visit_trait_item_fn_mut(self, f);
+        if let Some(block) = &mut f.default {
+            LiteralModeBinder::bind(block);
+        }
+    }
+}
+
+/// Whether a body uses the literal-mode local, outside nested items (which have their own) and inside macro
+/// invocations (whose tokens the literal pass rewrote).
+struct ModeUse {
+    found: bool,
+}
+
+impl ModeUse {
+    fn scan(&mut self, tokens: proc_macro2::TokenStream) {
+        for tree in tokens {
+            match tree {
+                proc_macro2::TokenTree::Ident(ident) if ident == "twinstep_literal_mode" => self.found = true,
+                proc_macro2::TokenTree::Group(group) => self.scan(group.stream()),
+                _ => {}
+            }
+        }
+    }
+}
+
+impl<'ast> Visit<'ast> for ModeUse {
+    fn visit_item(&mut self, _: &'ast syn::Item) {}
+    fn visit_ident(&mut self, ident: &'ast Ident) {
+        self.found |= ident == "twinstep_literal_mode";
+    }
+    fn visit_macro(&mut self, mac: &'ast syn::Macro) {
+        self.scan(mac.tokens.clone());
+        visit_ref::visit_macro(self, mac);
     }
 }
