@@ -8,7 +8,7 @@
 //! the `twinstep-exact` crate, which the rewrite engine shares.
 //!
 //! Decimal literals get their reference at expansion time: the engine reads the text as an exact rational and
-//! prints the rounded doubles into the twin as a constant (`Real::lit(0.1f64, Reference { … })`), so a literal
+//! prints the rounded doubles into the twin as a constant (`Real::lit(0.1f64, Reference { … }, mode)`), so a literal
 //! in a stencil loop costs no parsing or lookup at run time. (Looking the reference up at run time, in a
 //! per-thread cache, kept a 1-D heat loop with `r = 0.1` from vectorizing: Bound 17× and Shadow 55× slower than
 //! f64, against 6.9× and 20.9× with `r` a variable, `benches/lenses.rs`.) Integers converted with `as` beyond
@@ -18,7 +18,9 @@
 //! [`LiteralMode`] selects what a literal's reference holds: the decimal as written ([`LiteralMode::AsWritten`],
 //! default) or the double the compiler made ([`LiteralMode::AsCompiled`]). Running an audit once in each mode
 //! and comparing tells how much of the error is the representation of the constants rather than the arithmetic.
-//! The mode is a per-thread value that `Real::lit` reads: one load, the same in every iteration of a loop.
+//! The mode is a per-thread value; a twin function reads it once, at its entry, and passes it to every
+//! `Real::lit` of its body (a thread-local read inside `lit`, once per evaluation, kept loops from vectorizing),
+//! so closures of the kernel that run on other threads follow the caller's mode too.
 
 use crate::Constant;
 use core::cell::Cell;
