@@ -55,41 +55,46 @@ fn shadow_near(value: Shadow, x: &RBig) -> bool {
     -&bound <= distance && distance <= bound
 }
 
-#[test]
-fn literals_in_nested_functions_closures_and_macros_follow_the_mode() {
-    let u = [Shadow::from_f64(1.0), Shadow::from_f64(3.0)];
-    for mode in [LiteralMode::AsWritten, LiteralMode::AsCompiled] {
+/// A literal's number in a mode: the decimal as written, or the double the compiler made of it.
+fn literal_in(mode: LiteralMode, text: &str) -> RBig {
+    match mode {
+        LiteralMode::AsWritten => decimal(text),
+        LiteralMode::AsCompiled => double(text.parse().expect("a decimal")),
+    }
+}
+
+/// Runs `kernel` on the cells `inputs` in both literal modes and checks each output against `exact(u, literal)`:
+/// the kernel's number for the input `u` with its literals' numbers in that mode — and not in the other mode.
+fn check_both_modes(
+    kernel: fn(&[Shadow], &mut [Shadow]),
+    inputs: [u8; 2],
+    exact: impl Fn(&RBig, &dyn Fn(&str) -> RBig) -> RBig,
+) {
+    let u = inputs.map(|x| Shadow::from_f64(f64::from(x)));
+    for (mode, other) in
+        [(LiteralMode::AsWritten, LiteralMode::AsCompiled), (LiteralMode::AsCompiled, LiteralMode::AsWritten)]
+    {
         let mut out = [Shadow::from_f64(0.0); 2];
-        with_literal_mode(mode, || blend_twin(&u, &mut out));
-        for (cell, factor) in [1u8, 3].into_iter().enumerate() {
-            let factor = RBig::from(factor);
-            // (u·0.1 + 0.2)·0.3, with the decimals as written or with their doubles.
-            let written = (&factor * decimal("0.1") + decimal("0.2")) * decimal("0.3");
-            let compiled = (&factor * double(0.1) + double(0.2)) * double(0.3);
-            let (expected, other) = match mode {
-                LiteralMode::AsWritten => (&written, &compiled),
-                LiteralMode::AsCompiled => (&compiled, &written),
-            };
-            assert!(shadow_near(out[cell], expected), "{mode:?}, cell {cell}: {:?}", out[cell].shadow());
-            assert!(!shadow_near(out[cell], other), "{mode:?}, cell {cell}: the other mode's number");
+        with_literal_mode(mode, || kernel(&u, &mut out));
+        for (cell, &input) in inputs.iter().enumerate() {
+            let input = RBig::from(input);
+            let expected = exact(&input, &|text| literal_in(mode, text));
+            let unexpected = exact(&input, &|text| literal_in(other, text));
+            assert!(shadow_near(out[cell], &expected), "{mode:?}, cell {cell}: {:?}", out[cell].shadow());
+            assert!(!shadow_near(out[cell], &unexpected), "{mode:?}, cell {cell}: the other mode's number");
         }
     }
 }
 
 #[test]
+fn literals_in_nested_functions_closures_and_macros_follow_the_mode() {
+    // (u·0.1 + 0.2)·0.3
+    check_both_modes(blend_twin, [1, 3], |u, literal| (u * literal("0.1") + literal("0.2")) * literal("0.3"));
+}
+
+#[test]
 fn closures_on_other_threads_see_the_callers_mode() {
-    let u = [Shadow::from_f64(1.0), Shadow::from_f64(2.0)];
-    for mode in [LiteralMode::AsWritten, LiteralMode::AsCompiled] {
-        let mut out = [Shadow::from_f64(0.0); 2];
-        with_literal_mode(mode, || tenth_on_threads_twin(&u, &mut out));
-        for (cell, factor) in [1u8, 2].into_iter().enumerate() {
-            let seven_tenths = match mode {
-                LiteralMode::AsWritten => decimal("0.7"),
-                LiteralMode::AsCompiled => double(0.7),
-            };
-            assert!(shadow_near(out[cell], &(RBig::from(factor) * seven_tenths)), "{mode:?}, cell {cell}");
-        }
-    }
+    check_both_modes(tenth_on_threads_twin, [1, 2], |u, literal| u * literal("0.7"));
 }
 
 #[test]
