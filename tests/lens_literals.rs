@@ -1,15 +1,22 @@
-//! Literals through the attribute, in the places a kernel writes them: a nested function, a closure, a macro
-//! (`vec!`), a closure run on another thread, and the `f32` literal arm. Each twin is run with the Shadow lens in both
-//! literal modes and its double-word reference compared, in exact rational arithmetic (dashu-ratio), with the
-//! number the kernel computes from the decimals as written (`AsWritten`) and from the doubles the compiler made
-//! (`AsCompiled`). The two differ by about 10^-17 relative, the double-word by far less, so each check tells the
-//! modes apart.
+//! Literals through the attribute, in the places a kernel writes them: a nested function, a closure, macros
+//! (`vec!`, one read token by token), a closure run on another thread, and the `f32` literal arm. Each twin is
+//! run with the Shadow lens in both literal modes and its double-word reference compared, in exact rational
+//! arithmetic (dashu-ratio), with the number the kernel computes from the decimals as written (`AsWritten`) and
+//! from the doubles the compiler made (`AsCompiled`). The two differ by about 10^-17 relative, the double-word
+//! by far less, so each check tells the modes apart.
 
 use dashu_ratio::RBig;
 use twinstep::lens::{with_literal_mode, LiteralMode, Reference, Shadow};
 use twinstep::Real;
 
-/// Literals in a nested function, a closure and `vec!`, next to a local the user named like the rewrite's own
+/// `scaled!(x => k)` is `x * k`; its input does not parse as expressions, so the rewrite takes its tokens one by one.
+macro_rules! scaled {
+    ($x:expr => $k:expr) => {
+        $x * $k
+    };
+}
+
+/// Literals in a nested function, a closure, `vec!` and a macro read token by token, next to a local the user named like the rewrite's own
 /// literal-mode binding (the binding is hygienic, so neither sees the other).
 #[twinstep::audit]
 pub fn blend(u: &[f64], out: &mut [f64]) {
@@ -20,7 +27,7 @@ pub fn blend(u: &[f64], out: &mut [f64]) {
     let shift = |x: f64| x + 0.2;
     let weights = vec![0.3; u.len()];
     for i in 0..u.len() {
-        out[i] = shift(tenth_of(u[i])) * weights[i];
+        out[i] = scaled!(shift(tenth_of(u[i])) * weights[i] => 0.9);
     }
     assert_eq!(twinstep_literal_mode, 3);
 }
@@ -88,8 +95,10 @@ fn check_both_modes(
 
 #[test]
 fn literals_in_nested_functions_closures_and_macros_follow_the_mode() {
-    // (u·0.1 + 0.2)·0.3
-    check_both_modes(blend_twin, [1, 3], |u, literal| (u * literal("0.1") + literal("0.2")) * literal("0.3"));
+    // (u·0.1 + 0.2)·0.3·0.9
+    check_both_modes(blend_twin, [1, 3], |u, literal| {
+        (u * literal("0.1") + literal("0.2")) * literal("0.3") * literal("0.9")
+    });
 }
 
 #[test]
