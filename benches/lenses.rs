@@ -13,8 +13,8 @@
 
 use std::hint::black_box;
 use std::time::{Duration, Instant};
-use twinstep::audit::{Audit, FieldSpec, Levels, Scenario, Tolerance};
-use twinstep::lens::{Bound, BoundUnwatched, Interval, IntervalUnwatched, Lens, Shadow, ShadowUnwatched};
+use twinstep::audit::{Audit, AuditLens, FieldSpec, Levels, Scenario, Tolerance};
+use twinstep::lens::{Bound, BoundUnwatched, Interval, IntervalUnwatched, Shadow, ShadowUnwatched};
 use twinstep::{BaseOps, MixedOps, Real, RefOps};
 
 /// One explicit step of the 1-D heat equation `u_t = u_xx`, fixed ends.
@@ -149,15 +149,7 @@ impl Scenario for Rod {
 /// Time per step of a whole audit of [`Rod`] with the one lens `L`: the difference between audits of `2·steps`
 /// and `steps` steps (best of 3 each), divided by `steps`, so the fixed cost of starting an audit (threads, the
 /// trace's header, the initial data) does not count.
-fn time_audit<L>(cells: usize, steps: u64) -> Duration
-where
-    L: Lens,
-    L::Unwatched: BaseOps<f64>,
-    f64: MixedOps<L::Unwatched> + MixedOps<L::Watched>,
-    for<'a> &'a L::Unwatched: RefOps<L::Unwatched>,
-    L::Watched: BaseOps<f64>,
-    for<'a> &'a L::Watched: RefOps<L::Watched>,
-{
+fn time_audit<L: AuditLens>(cells: usize, steps: u64) -> Duration {
     let rod = Rod { cells };
     let trace = std::env::temp_dir().join(format!("twinstep-bench-{}.jsonl", std::process::id()));
     let run = |steps: u64| {

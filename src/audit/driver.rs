@@ -103,7 +103,23 @@ pub trait Scenario: Sync {
 /// What a lens thread sends back for a chunk.
 type ChunkResult = Result<Vec<LensStep>, Error>;
 /// A lens's thread body, instantiated for the lens type when it is added.
-type LensRun<S> = fn(&S, &Plan, Receiver<u64>, Sender<ChunkResult>);
+type LensRun<S> = fn(&S, &Plan, LensChannels);
+
+/// A lens thread's ends of its channels: the steps to run up to, and where the measurements of each chunk go.
+#[doc(hidden)]
+pub struct LensChannels {
+    commands: Receiver<u64>,
+    results: Sender<ChunkResult>,
+}
+
+/// A lens an audit can run: a [`Lens`] whose two variants a twin accepts — the bounds every twin's `where` clause
+/// carries, for the unwatched variant the driver runs and for the watched one it replays with. Implemented for
+/// every such lens, so generic code that starts audits (`fn f<L: AuditLens>`) names this one bound.
+pub trait AuditLens: Lens {
+    /// The body of the lens's thread.
+    #[doc(hidden)]
+    fn run_thread<S: Scenario>(scenario: &S, plan: &Plan, channels: LensChannels);
+}
 
 struct LensEntry<S> {
     info: LensInfo,
@@ -194,16 +210,8 @@ impl<'s, S: Scenario> Audit<'s, S> {
     /// `BoundUnwatched`): the driver runs the unwatched one and replays with the watched one where a value turns
     /// non-finite, so both audit the same way under the watched lens's name.
     #[must_use]
-    pub fn lens<L>(mut self) -> Self
-    where
-        L: Lens,
-        L::Unwatched: BaseOps<f64>,
-        f64: MixedOps<L::Unwatched> + MixedOps<L::Watched>,
-        for<'a> &'a L::Unwatched: RefOps<L::Unwatched>,
-        L::Watched: BaseOps<f64>,
-        for<'a> &'a L::Watched: RefOps<L::Watched>,
-    {
-        self.lenses.push(LensEntry { info: LensInfo::of::<L::Watched>(), run: run_lens::<S, L> });
+    pub fn lens<L: AuditLens>(mut self) -> Self {
+        self.lenses.push(LensEntry { info: LensInfo::of::<L::Watched>(), run: L::run_thread::<S> });
         self
     }
 
@@ -223,10 +231,10 @@ impl<'s, S: Scenario> Audit<'s, S> {
         std::thread::scope(|scope| {
             let mut channels = Vec::new();
             for entry in &self.lenses {
-                let (command_tx, command_rx) = channel::<u64>();
+                let (command_tx, commands) = channel::<u64>();
                 let (result_tx, result_rx) = channel::<ChunkResult>();
                 let run = entry.run;
-                scope.spawn(move || run(scenario, plan, command_rx, result_tx));
+                scope.spawn(move || run(scenario, plan, LensChannels { commands, results: result_tx }));
                 channels.push((command_tx, result_rx));
             }
             let (mut done, mut chunk) = (None::<u64>, 1u64);
@@ -305,9 +313,8 @@ impl ReplayTrigger {
 /// replayed with the watched variant — the same arithmetic, so the same numbers — and the step's events are taken
 /// from the replay, which adds the NaN/∞ events with the line where each value arose. The initial data run with
 /// the watched variant directly (they run once).
-fn run_lens<S, L>(scenario: &S, plan: &Plan, commands: Receiver<u64>, results: Sender<ChunkResult>)
+impl<L> AuditLens for L
 where
-    S: Scenario,
     L: Lens,
     L::Unwatched: BaseOps<f64>,
     f64: MixedOps<L::Unwatched> + MixedOps<L::Watched>,
@@ -315,114 +322,103 @@ where
     L::Watched: BaseOps<f64>,
     for<'a> &'a L::Watched: RefOps<L::Watched>,
 {
-    let (levels, stages) = (scenario.scheme().levels(), scenario.stages());
-    let mut twin = Levels::<L::Unwatched>::new(&plan.fields, levels, stages);
-    let mut original = Levels::<f64>::new(&plan.fields, levels, stages);
-    // The same lens with literals and constants as compiled: what is left is arithmetic error only.
-    let mut compiled = plan.split_representation.then(|| Levels::<L::Unwatched>::new(&plan.fields, levels, stages));
-    let as_compiled = |f: &mut dyn FnMut()| with_literal_mode(LiteralMode::AsCompiled, f);
-    let mut trigger = ReplayTrigger::new(plan.fields.len());
-    let mut checkpoint = None::<(Levels<L::Unwatched>, u64, Instant)>;
-    let mut next = None::<u64>;
-    for to in commands {
-        let mut at = next.unwrap_or(0);
-        let outcome = catch_unwind(AssertUnwindSafe(|| -> ChunkResult {
-            let mut out = Vec::new();
-            if next.is_none() {
-                let _ = crate::events::drain(); // nothing from before the audit belongs to it
-                let _ = crate::events::take_unseen_non_finite();
-                let mut watched = Levels::<L::Watched>::new(&plan.fields, levels, stages);
-                scenario.init(&mut watched)?;
-                let events = crate::events::drain();
-                twin = watched.convert(Lens::unwatched);
-                scenario.init_original(&mut original)?;
-                if let Some(c) = compiled.as_mut() {
-                    let mut result = Ok(());
-                    as_compiled(&mut || result = scenario.init(c));
-                    result?;
-                }
-                let _ = crate::events::drain();
-                let measured = observe(0, &twin, compiled.as_ref(), &original, plan, events);
-                let _ = trigger.fires(&measured, false); // the watched run already saw the initial data
-                out.push(measured);
-                next = Some(0);
+    fn run_thread<S: Scenario>(scenario: &S, plan: &Plan, channels: LensChannels) {
+        let LensChannels { commands, results } = channels;
+        // Runs steps `from..=step` again from the `checkpoint` taken before step `from`, with the watched variant of
+        // the lens, and returns the events of the last of them (the steps before were recorded when they ran).
+        let replay = |checkpoint: &Levels<L::Unwatched>, from: u64, step: u64| {
+            let mut watched = checkpoint.convert(Lens::watched);
+            let mut events = Vec::new();
+            for k in from..=step {
+                watched.step = k;
+                scenario.step(&mut watched);
+                events = crate::events::drain();
+                watched.rotate();
             }
-            // Where a replay begins: the levels before a step and the step. Copying the levels costs about as much
-            // as a step reading and writing them, so the copy is renewed at a chunk's start only every
-            // CHECKPOINT_AGE: a replay then runs at most that much work again.
-            let start = next.unwrap_or(0);
-            if checkpoint.as_ref().is_none_or(|c| c.2.elapsed() >= CHECKPOINT_AGE) {
-                checkpoint = Some((twin.clone(), start, Instant::now()));
-            }
-            while let Some(n) = next.filter(|&n| n < to) {
-                at = n;
-                (twin.step, original.step) = (n, n);
-                let _ = crate::events::take_unseen_non_finite();
-                scenario.step(&mut twin);
-                let events = crate::events::drain();
-                let noted = crate::events::take_unseen_non_finite();
-                scenario.step_original(&mut original);
-                if let Some(c) = compiled.as_mut() {
-                    c.step = n;
-                    as_compiled(&mut || scenario.step(c));
-                    c.rotate();
+            events
+        };
+        let (levels, stages) = (scenario.scheme().levels(), scenario.stages());
+        let mut twin = Levels::<L::Unwatched>::new(&plan.fields, levels, stages);
+        let mut original = Levels::<f64>::new(&plan.fields, levels, stages);
+        // The same lens with literals and constants as compiled: what is left is arithmetic error only.
+        let mut compiled = plan.split_representation.then(|| Levels::<L::Unwatched>::new(&plan.fields, levels, stages));
+        let as_compiled = |f: &mut dyn FnMut()| with_literal_mode(LiteralMode::AsCompiled, f);
+        let mut trigger = ReplayTrigger::new(plan.fields.len());
+        let mut checkpoint = None::<(Levels<L::Unwatched>, u64, Instant)>;
+        let mut next = None::<u64>;
+        for to in commands {
+            let mut at = next.unwrap_or(0);
+            let outcome = catch_unwind(AssertUnwindSafe(|| -> ChunkResult {
+                let mut out = Vec::new();
+                if next.is_none() {
+                    let _ = crate::events::drain(); // nothing from before the audit belongs to it
+                    let _ = crate::events::take_unseen_non_finite();
+                    let mut watched = Levels::<L::Watched>::new(&plan.fields, levels, stages);
+                    scenario.init(&mut watched)?;
+                    let events = crate::events::drain();
+                    twin = watched.convert(Lens::unwatched);
+                    scenario.init_original(&mut original)?;
+                    if let Some(c) = compiled.as_mut() {
+                        let mut result = Ok(());
+                        as_compiled(&mut || result = scenario.init(c));
+                        result?;
+                    }
+                    let _ = crate::events::drain();
+                    let measured = observe(0, &twin, compiled.as_ref(), &original, plan, events);
+                    let _ = trigger.fires(&measured, false); // the watched run already saw the initial data
+                    out.push(measured);
+                    next = Some(0);
                 }
-                // The original and the compiled-literal run record nothing of interest: their events are dropped.
-                let _ = crate::events::drain();
-                let _ = crate::events::take_unseen_non_finite();
-                twin.rotate();
-                original.rotate();
-                let mut measured = observe(n + 1, &twin, compiled.as_ref(), &original, plan, events);
-                if let Some((levels, from, _)) = checkpoint.as_ref().filter(|_| trigger.fires(&measured, noted)) {
-                    measured.events = replay::<S, L>(scenario, levels, *from, n);
-                    // Later replays (a NaN keeps meeting comparisons) start from here and cost one step.
-                    checkpoint = Some((twin.clone(), n + 1, Instant::now()));
+                // Where a replay begins: the levels before a step and the step. Copying the levels costs about as much
+                // as a step reading and writing them, so the copy is renewed at a chunk's start only every
+                // CHECKPOINT_AGE: a replay then runs at most that much work again.
+                let start = next.unwrap_or(0);
+                if checkpoint.as_ref().is_none_or(|c| c.2.elapsed() >= CHECKPOINT_AGE) {
+                    checkpoint = Some((twin.clone(), start, Instant::now()));
                 }
-                out.push(measured);
-                next = Some(n + 1);
+                while let Some(n) = next.filter(|&n| n < to) {
+                    at = n;
+                    (twin.step, original.step) = (n, n);
+                    let _ = crate::events::take_unseen_non_finite();
+                    scenario.step(&mut twin);
+                    let events = crate::events::drain();
+                    let noted = crate::events::take_unseen_non_finite();
+                    scenario.step_original(&mut original);
+                    if let Some(c) = compiled.as_mut() {
+                        c.step = n;
+                        as_compiled(&mut || scenario.step(c));
+                        c.rotate();
+                    }
+                    // The original and the compiled-literal run record nothing of interest: their events are dropped.
+                    let _ = crate::events::drain();
+                    let _ = crate::events::take_unseen_non_finite();
+                    twin.rotate();
+                    original.rotate();
+                    let mut measured = observe(n + 1, &twin, compiled.as_ref(), &original, plan, events);
+                    if let Some((levels, from, _)) = checkpoint.as_ref().filter(|_| trigger.fires(&measured, noted)) {
+                        measured.events = replay(levels, *from, n);
+                        // Later replays (a NaN keeps meeting comparisons) start from here and cost one step.
+                        checkpoint = Some((twin.clone(), n + 1, Instant::now()));
+                    }
+                    out.push(measured);
+                    next = Some(n + 1);
+                }
+                Ok(out)
+            }));
+            let outcome = outcome.unwrap_or_else(|payload| {
+                let message = payload
+                    .downcast_ref::<&str>()
+                    .map(|s| s.to_string())
+                    .or_else(|| payload.downcast_ref::<String>().cloned())
+                    .unwrap_or_else(|| "a panic without a message".into());
+                Err(Error::ScenarioPanicked { lens: L::Watched::NAME.to_string(), step: at, message })
+            });
+            let failed = outcome.is_err();
+            if results.send(outcome).is_err() || failed {
+                return;
             }
-            Ok(out)
-        }));
-        let outcome = outcome.unwrap_or_else(|payload| {
-            let message = payload
-                .downcast_ref::<&str>()
-                .map(|s| s.to_string())
-                .or_else(|| payload.downcast_ref::<String>().cloned())
-                .unwrap_or_else(|| "a panic without a message".into());
-            Err(Error::ScenarioPanicked { lens: L::Watched::NAME.to_string(), step: at, message })
-        });
-        let failed = outcome.is_err();
-        if results.send(outcome).is_err() || failed {
-            return;
         }
     }
-}
-
-/// Runs steps `from..=step` again from the `checkpoint` taken before step `from`, with the watched variant of the
-/// lens, and returns the events of the last of them.
-fn replay<S, L>(
-    scenario: &S,
-    checkpoint: &Levels<L::Unwatched>,
-    from: u64,
-    step: u64,
-) -> Vec<(crate::events::EventKind, crate::events::Site, u64)>
-where
-    S: Scenario,
-    L: Lens,
-    f64: MixedOps<L::Watched>,
-    L::Watched: BaseOps<f64>,
-    for<'a> &'a L::Watched: RefOps<L::Watched>,
-{
-    let mut watched = checkpoint.convert(Lens::watched);
-    let mut events = Vec::new();
-    for k in from..=step {
-        watched.step = k;
-        scenario.step(&mut watched);
-        // The steps before `step` were recorded when they ran: only the last one's events are new.
-        events = crate::events::drain();
-        watched.rotate();
-    }
-    events
 }
 
 /// Measures every field of the current level and compares its primal with the original.

@@ -16,7 +16,7 @@ mod tolerance;
 use std::path::PathBuf;
 
 pub use crate::trace::{FieldSpec, RecordPolicy};
-pub use driver::{Audit, Scenario, Scheme};
+pub use driver::{Audit, AuditLens, Scenario, Scheme};
 pub use field::{Field, Levels};
 pub use recorder::{Plan, Recorder};
 pub use tolerance::{ulp, Tolerance};
