@@ -68,8 +68,9 @@ proptest! {
 
     #[test]
     fn product_with_a_double_operand_is_the_algorithms(a in operand(), b in operand(), f in -1.0f64..1.0) {
-        // Either operand a double (lo = 0), the other a double-word number: the selects that drop the vanishing
-        // terms must give Algorithm 12's doubles (zeros compared by value: the sign of a zero lo may differ).
+        // Either operand a double (lo = 0), the other a double-word number: the select that drops the vanishing
+        // terms of a left double, and the general path for a right one, must give Algorithm 12's doubles (zeros
+        // compared by value: the sign of a zero lo may differ).
         let (x, y) = (DoubleWord::from_f64(a), double_word(b, f));
         for (left, right) in [(x, y), (y, x), (x, DoubleWord::from_f64(b))] {
             let fast = left * right;

@@ -158,26 +158,27 @@ impl core::ops::Mul for DoubleWord {
     type Output = DoubleWord;
     /// `x · y`: DWTimesDW3 (JMP 2017, Algorithm 12, with FMA), relative error ≤ 4u².
     ///
-    /// An operand with `lo = 0` (a double: every exact literal such as `2.0`, every `f64` input) makes the terms
-    /// with its `lo` vanish — for finite operands `tl1 = RN(xh·0 + xl·0) = ±0` when `yl = 0`, and
-    /// `cl2 = RN(0·yh + RN(xh·yl + 0·yl)) = RN(xh·yl)` when `xl = 0` — and the two selects below say so. They give
-    /// the algorithm's own values (up to the sign of a zero `lo`), and for a constant operand the compiler drops
-    /// the dead terms.
+    /// A left operand with `lo = 0` (a double: every literal that is exactly its double, every `f64` input or
+    /// parameter) makes the terms with its `lo` vanish — for finite operands
+    /// `cl2 = RN(0·yh + RN(xh·yl + 0·yl)) = RN(xh·yl)` — and the select on `xl = 0` below says so. It gives the
+    /// algorithm's own values (up to the sign of a zero `lo`), and for a constant operand the compiler drops the
+    /// dead terms. The same select for the right operand measured slower on every kernel of the benchmark (it
+    /// costs a compare and a blend per product of two data values, and the kernels write literals first).
     ///
-    /// A left operand `x = ±2^k` (or ±0) goes further: `xh·yh` is then exact, so `cl1 = 0`, `cl3 = cl2 = RN(xh·yl)`
-    /// and the final Fast2Sum returns its operands unchanged (`|xh·yl| ≤ ulp(xh·yh)/2` when y is normalized, as
-    /// every result of these operations is): the result is `(xh·yh, xh·yl)`, which the last select returns
-    /// directly. The same doubles as the algorithm's whenever `xh·yh` neither overflows nor underflows (an
-    /// overflow gives the exact +∞ or −∞ where the general path gives NaN). For a constant `2.0`, `4.0` or `0.5` this is two multiplications
-    /// instead of 9 operations and a chain of six dependent roundings — the second difference
-    /// `u[i-1] - 2.0 * u[i] + u[i+1]` of every diffusion stencil has one. Only the left operand is tested: every
-    /// literal product in `fixtures/` and `examples/` is written literal-first, and for an operand that is not a
-    /// constant each test costs a few instructions.
+    /// A left operand `x = ±2^k` (or ±0) goes further: `xh·yh` is then exact, so `cl1 = 0`,
+    /// `cl3 = cl2 = RN(xh·yl)` and the final Fast2Sum returns its operands unchanged (`|xh·yl| ≤ ulp(xh·yh)/2`
+    /// when y is normalized, as every result of these operations is): the result is `(xh·yh, xh·yl)`, which the
+    /// last select returns directly. The same doubles as the algorithm's whenever `xh·yh` neither overflows nor
+    /// underflows (an overflow gives the exact ±∞ where the general path gives NaN). For a constant `2.0`, `4.0`
+    /// or `0.5` this is two multiplications instead of 9 operations and a chain of six dependent roundings — the
+    /// second difference `u[i-1] - 2.0 * u[i] + u[i+1]` of every diffusion stencil has one. Only the left operand
+    /// is tested: every literal product in `fixtures/` and `examples/` is written literal-first, and for an
+    /// operand that is not a constant each test costs a few instructions.
     #[inline(always)]
     fn mul(self, y: DoubleWord) -> DoubleWord {
         let (ch, cl1) = two_prod(self.hi, y.hi);
         // tl1 = RN(xh·yl + RN(xl·yl)): xh·yl + xl·yl, one rounding after the product xl·yl
-        let tl1 = if y.lo == 0.0 { -0.0 } else { self.hi.mul_add(y.lo, self.lo * y.lo) };
+        let tl1 = self.hi.mul_add(y.lo, self.lo * y.lo);
         // cl2 = RN(xl·yh + tl1)
         let cl2 = if self.lo == 0.0 { self.hi * y.lo } else { self.lo.mul_add(y.hi, tl1) };
         let cl3 = cl1 + cl2;
