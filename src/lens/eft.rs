@@ -107,7 +107,8 @@ impl DoubleWord {
         (self.lo == 0.0) & (bits & TRAILING_SIGNIFICAND == 0) & (bits & EXPONENT != EXPONENT)
     }
 
-    /// Whether both words are finite.
+    /// Whether the value is finite: `hi` is (beside a finite `hi` the operations leave a finite `lo`; beside a
+    /// non-finite one `lo` is not read, see the module paragraph).
     #[inline(always)]
     #[must_use]
     pub fn is_finite(self) -> bool {
