@@ -10,12 +10,13 @@
 //! quotient without switching the rounding mode (the [`super::Interval`] lens's fast paths): the exact error
 //! says on which side of the round-to-nearest result the exact value lies.
 //!
-//! Everything here is branch-free straight-line code on `f64` in round-to-nearest, so it inlines and vectorizes.
+//! Everything here is branch-free straight-line code on `f64` in round-to-nearest (the selects of × become blends
+//! in vector code), so it inlines and vectorizes.
 //!
 //! Beside a non-finite `hi` the operations leave in `lo` whatever their correction terms made of it (∞ − ∞ is NaN):
-//! an operation on a pair whose `hi` is not finite gives a NaN or the same non-finite `hi` whatever its `lo` is, so
-//! only what *reads* a pair needs `lo = 0` there, and the readers ([`DoubleWord::to_f64`],
-//! [`DoubleWord::partial_cmp`], [`DoubleWord::canonical`]) set it; the hot operations skip that mask.
+//! an operation on a pair whose `hi` is not finite gives a NaN or an infinite `hi` whatever its `lo` is, so only
+//! what *reads* a pair needs `lo = 0` there, and the readers ([`DoubleWord::to_f64`], [`DoubleWord::partial_cmp`],
+//! [`DoubleWord::canonical`]) set it; the hot operations skip that mask.
 
 /// A double-word number `hi + lo`.
 #[derive(Clone, Copy, Debug, Default, PartialEq)]
