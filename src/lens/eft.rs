@@ -2,9 +2,10 @@
 //!
 //! A double-word number is an unevaluated sum `hi + lo` of two doubles with `|lo| ≤ ulp(hi)/2`, about 106
 //! significant bits. The algorithms are the classic ones — TwoSum (Knuth, TAOCP vol. 2, §4.2.2), Fast2Sum
-//! (Dekker 1971), TwoProd with a fused multiply-add — and the double-word operations analysed by Joldes, Muller and
-//! Popescu, "Tight and rigorous error bounds for basic building blocks of double-word arithmetic", ACM TOMS 44(2),
-//! 2017 (algorithm numbers and bounds below are from memory of that paper; u = 2^-53).
+//! (Dekker 1971), TwoProd with a fused multiply-add — the classical double-double sum (bound derived at
+//! `dw_sum`), and the product, quotient and root analysed by Joldes, Muller and Popescu, "Tight and rigorous error
+//! bounds for basic building blocks of double-word arithmetic", ACM TOMS 44(2), 2017 (algorithm numbers and bounds
+//! below are from memory of that paper; u = 2^-53).
 //!
 //! The same transformations give the directed roundings [`round_down`] and [`round_up`] of a sum, product or
 //! quotient without switching the rounding mode (the [`super::Interval`] lens's fast paths): the exact error

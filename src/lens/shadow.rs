@@ -6,8 +6,9 @@
 //! the shadow's own error catches up (ill-conditioned problems such as Rump's polynomial can defeat it: that is
 //! what [`super::Bound`] and [`super::Interval`] are for).
 //!
-//! Sum, difference, product, quotient, √ and `mul_add` are the double-word algorithms of [`super::eft`] (Joldes,
-//! Muller, Popescu, ACM TOMS 2017). The other elementary functions are the double-word ones of [`super::dwmath`];
+//! Sum, difference, product, quotient, √ and `mul_add` are the double-word algorithms of [`super::eft`]: the
+//! classical double-double sum (its error bound is relative to the operands, derived there) and the product,
+//! quotient and root analysed by Joldes, Muller, Popescu (ACM TOMS 2017). The other elementary functions are the double-word ones of [`super::dwmath`];
 //! for the arguments those decline they evaluate the double-word value at 160 bits with `dashu-float` and round
 //! back to double-word: slower, but accurate far beyond the shadow's own precision.
 
