@@ -101,6 +101,9 @@ proptest! {
         // Mixed with a plain f64 on either side, as kernels write `dx * u[i]`.
         let exact = &x.exact * rational(b);
         assert_bound_holds(x.bound * b, &exact, "bound * f64")?;
+        // The exact left operand (radius 0) takes the lens's shortcut for a coefficient times data.
+        assert_bound_holds(b * x.bound, &exact, "f64 * bound")?;
+        assert_bound_holds(Bound::from_f64(b) * x.bound + x.bound, &(&exact + &x.exact), "exact * bound + bound")?;
         assert_interval_holds(b * x.interval, &exact, "f64 * interval")?;
     }
 

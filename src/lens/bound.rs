@@ -146,8 +146,12 @@ impl<const W: bool> Core for BoundOf<W> {
     fn mul(self, rhs: Self) -> Self {
         let (x, r, y, s) = (self.primal, self.radius, rhs.primal, rhs.radius);
         let c = x * y;
-        // |XY − xy| ≤ |x|s + r(|y| + s);  |c − xy| ≤ u|c| + η/2 (η inside `radius_of`)
-        Self { primal: c, radius: radius_of(c, x.abs().mul_add(s, r * (y.abs() + s))) }
+        // |XY − xy| ≤ |x|s + r(|y| + s);  |c − xy| ≤ u|c| + η/2 (η inside `radius_of`). A left operand held
+        // exactly (r = 0: a literal that is its double, an f64 input or parameter, as in `2.0 * u[i]` and
+        // `r * (…)`) leaves |x|s; the select says so, and for a constant operand the compiler drops the other
+        // terms (IEEE arithmetic cannot fold 0·(|y| + s) away by itself). 1-D heat: see docs/lenses.md, Cost.
+        let propagated = if r == 0.0 { x.abs() * s } else { x.abs().mul_add(s, r * (y.abs() + s)) };
+        Self { primal: c, radius: radius_of(c, propagated) }
     }
 
     #[inline(always)]
