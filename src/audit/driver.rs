@@ -274,6 +274,13 @@ impl<'s, S: Scenario> Audit<'s, S> {
 /// comparisons at every step, and every replay after the first finds nothing new.
 const MAX_REPLAYS: usize = 16;
 
+/// What this thread's lens recorded since the last call: its events, and whether an unwatched variant noted a
+/// non-finite value the fields may not show (`events::note_unseen_non_finite`). Taken together after every run
+/// of a step, so that nothing one run leaves behind is read as the next one's.
+fn collect() -> (Vec<(crate::events::EventKind, crate::events::Site, u64)>, bool) {
+    (crate::events::drain(), crate::events::take_unseen_non_finite())
+}
+
 /// How old a checkpoint may grow before a chunk renews it.
 const CHECKPOINT_AGE: Duration = Duration::from_millis(500);
 
@@ -351,11 +358,10 @@ where
             let outcome = catch_unwind(AssertUnwindSafe(|| -> ChunkResult {
                 let mut out = Vec::new();
                 if next.is_none() {
-                    let _ = crate::events::drain(); // nothing from before the audit belongs to it
-                    let _ = crate::events::take_unseen_non_finite();
+                    let _ = collect(); // nothing from before the audit belongs to it
                     let mut watched = Levels::<L::Watched>::new(&plan.fields, levels, stages);
                     scenario.init(&mut watched)?;
-                    let events = crate::events::drain();
+                    let (events, _) = collect(); // the watched variant notes nothing
                     twin = watched.convert(Lens::unwatched);
                     scenario.init_original(&mut original)?;
                     if let Some(c) = compiled.as_mut() {
@@ -363,7 +369,7 @@ where
                         as_compiled(&mut || result = scenario.init(c));
                         result?;
                     }
-                    let _ = crate::events::drain();
+                    let _ = collect();
                     let measured = observe(0, &twin, compiled.as_ref(), &original, plan, events);
                     let _ = trigger.fires(&measured, false); // the watched run already saw the initial data
                     out.push(measured);
@@ -379,10 +385,8 @@ where
                 while let Some(n) = next.filter(|&n| n < to) {
                     at = n;
                     (twin.step, original.step) = (n, n);
-                    let _ = crate::events::take_unseen_non_finite();
                     scenario.step(&mut twin);
-                    let events = crate::events::drain();
-                    let noted = crate::events::take_unseen_non_finite();
+                    let (events, noted) = collect();
                     scenario.step_original(&mut original);
                     if let Some(c) = compiled.as_mut() {
                         c.step = n;
@@ -390,13 +394,14 @@ where
                         c.rotate();
                     }
                     // The original and the compiled-literal run record nothing of interest: their events are dropped.
-                    let _ = crate::events::drain();
-                    let _ = crate::events::take_unseen_non_finite();
+                    let _ = collect();
                     twin.rotate();
                     original.rotate();
                     let mut measured = observe(n + 1, &twin, compiled.as_ref(), &original, plan, events);
-                    if let Some((levels, from, _)) = checkpoint.as_ref().filter(|_| trigger.fires(&measured, noted)) {
-                        measured.events = replay(levels, *from, n);
+                    if trigger.fires(&measured, noted) {
+                        if let Some((levels, from, _)) = &checkpoint {
+                            measured.events = replay(levels, *from, n);
+                        }
                         // Later replays (a NaN keeps meeting comparisons) start from here and cost one step.
                         checkpoint = Some((twin.clone(), n + 1, Instant::now()));
                     }
