@@ -150,6 +150,23 @@ impl Lanes {
             self.bound_ratio[lane] = larger(self.bound_ratio[lane], magnitude(ratio(bound, primal)));
         }
     }
+
+    /// Folds a group's lanes into the field's, lane by lane.
+    fn merge(&mut self, other: &Lanes) {
+        for lane in 0..LANES {
+            self.nan[lane] = larger(self.nan[lane], other.nan[lane]);
+            self.infinite[lane] = larger(self.infinite[lane], other.infinite[lane]);
+            self.bounded[lane] = larger(self.bounded[lane], other.bounded[lane]);
+            self.max_abs[lane] = larger(self.max_abs[lane], other.max_abs[lane]);
+            self.max_err[lane] = larger(self.max_err[lane], other.max_err[lane]);
+            self.sum_err[lane] += other.sum_err[lane];
+            self.max_rel[lane] = larger(self.max_rel[lane], other.max_rel[lane]);
+            self.sum_rel[lane] += other.sum_rel[lane];
+            self.tol_ratio[lane] = larger(self.tol_ratio[lane], other.tol_ratio[lane]);
+            self.bound[lane] = larger(self.bound[lane], other.bound[lane]);
+            self.bound_ratio[lane] = larger(self.bound_ratio[lane], other.bound_ratio[lane]);
+        }
+    }
 }
 
 /// The larger of two numbers that are not NaN (the cell loop makes every NaN infinite first, see [`magnitude`]):
@@ -224,25 +241,6 @@ fn measure_with<L: Lens>(cells: &[L], profiled: bool, ratio: impl Fn(f64, f64) -
         infinite: largest(&all.infinite) > 0.0,
         representation_err: None,
         profile: profiled.then_some(CellProfile { cells_per_value: group, err: profile }),
-    }
-}
-
-impl Lanes {
-    /// Folds a group's lanes into the field's, lane by lane.
-    fn merge(&mut self, other: &Lanes) {
-        for lane in 0..LANES {
-            self.nan[lane] = larger(self.nan[lane], other.nan[lane]);
-            self.infinite[lane] = larger(self.infinite[lane], other.infinite[lane]);
-            self.bounded[lane] = larger(self.bounded[lane], other.bounded[lane]);
-            self.max_abs[lane] = larger(self.max_abs[lane], other.max_abs[lane]);
-            self.max_err[lane] = larger(self.max_err[lane], other.max_err[lane]);
-            self.sum_err[lane] += other.sum_err[lane];
-            self.max_rel[lane] = larger(self.max_rel[lane], other.max_rel[lane]);
-            self.sum_rel[lane] += other.sum_rel[lane];
-            self.tol_ratio[lane] = larger(self.tol_ratio[lane], other.tol_ratio[lane]);
-            self.bound[lane] = larger(self.bound[lane], other.bound[lane]);
-            self.bound_ratio[lane] = larger(self.bound_ratio[lane], other.bound_ratio[lane]);
-        }
     }
 }
 
