@@ -15,7 +15,7 @@ use std::hint::black_box;
 use std::time::{Duration, Instant};
 use twinstep::audit::{Audit, AuditLens, FieldSpec, Levels, Scenario, Tolerance};
 use twinstep::lens::{Bound, BoundUnwatched, Interval, IntervalUnwatched, Shadow, ShadowUnwatched};
-use twinstep::{BaseOps, MixedOps, Real, RefOps};
+use twinstep::Real;
 
 /// One explicit step of the 1-D heat equation `u_t = u_xx`, fixed ends.
 #[twinstep::audit]
@@ -153,6 +153,7 @@ struct Rod {
     cells: usize,
 }
 
+#[twinstep::scenario]
 impl Scenario for Rod {
     fn fields(&self) -> Vec<FieldSpec> {
         vec![FieldSpec::new("u", &[self.cells])]
@@ -162,12 +163,7 @@ impl Scenario for Rod {
         vec![profile::<f64>(self.cells)]
     }
 
-    fn step<T>(&self, levels: &mut Levels<T>)
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
+    fn step<T>(&self, levels: &mut Levels<T>) {
         heat_1d_twin::<T>(&levels.current[0], &mut levels.next[0], T::from_f64(0.25));
     }
 
@@ -186,7 +182,7 @@ fn time_audit<L: AuditLens>(cells: usize, steps: u64) -> Duration {
         (0..3)
             .map(|_| {
                 let start = Instant::now();
-                let audit = Audit::new(&rod, Tolerance::absolute(1e-9).expect("tolerance"), steps).trace(&trace);
+                let audit = Audit::new(&rod, Tolerance::absolute(1e-9), steps).trace(&trace);
                 black_box(audit.lens::<L>().run().expect("the audit runs"));
                 start.elapsed()
             })

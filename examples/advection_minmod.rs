@@ -4,13 +4,10 @@
 //!
 //! Run: `cargo run --release --example advection_minmod`.
 
-mod common;
-
 use std::process::ExitCode;
 
-use twinstep::audit::{Error, FieldSpec, Levels, Scenario, Tolerance};
+use twinstep::audit::{Audit, Error, FieldSpec, Levels, Scenario, Tolerance};
 use twinstep::lens::{Bound, Shadow};
-use twinstep::{BaseOps, MixedOps, Real, RefOps};
 
 #[twinstep::audit]
 mod ring {
@@ -45,26 +42,17 @@ struct Pipe {
     courant: f64,
 }
 
+#[twinstep::scenario]
 impl Scenario for Pipe {
     fn fields(&self) -> Vec<FieldSpec> {
         vec![FieldSpec::new("dye", &[self.dye.len()])]
     }
 
-    fn init<T>(&self, levels: &mut Levels<T>) -> Result<(), Error>
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
+    fn init<T>(&self, levels: &mut Levels<T>) -> Result<(), Error> {
         levels.current[0].set_f64(&self.dye)
     }
 
-    fn step<T>(&self, levels: &mut Levels<T>)
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
+    fn step<T>(&self, levels: &mut Levels<T>) {
         ring_twin::advect::<T>(&levels.current[0], &mut levels.next[0], T::from_f64(self.courant));
     }
 
@@ -77,11 +65,10 @@ fn main() -> ExitCode {
     let cells = 120;
     let dye = (0..cells).map(|i| if (40..80).contains(&i) { 0.9 } else { 0.2 }).collect();
     let pipe = Pipe { dye, courant: 0.5 };
-    let example = common::Example {
-        name: "advection_minmod",
-        kernel: "ring::advect",
-        about: "dye slug on a ring, 120 cells, Courant 0.5, minmod MUSCL",
-        steps: 2_400,
-    };
-    example.run(&pipe, Tolerance::mixed(1e-12, 1e-10), |audit| audit.lens::<Bound>().lens::<Shadow>())
+    Audit::new(&pipe, Tolerance::mixed(1e-12, 1e-10), 2_400)
+        .kernel("ring::advect")
+        .describe("dye slug on a ring, 120 cells, Courant 0.5, minmod MUSCL")
+        .lens::<Bound>()
+        .lens::<Shadow>()
+        .report()
 }

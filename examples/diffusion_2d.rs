@@ -4,13 +4,10 @@
 //!
 //! Run: `cargo run --release --example diffusion_2d`.
 
-mod common;
-
 use std::process::ExitCode;
 
-use twinstep::audit::{Error, FieldSpec, Levels, Scenario, Tolerance};
+use twinstep::audit::{Audit, Error, FieldSpec, Levels, Scenario, Tolerance};
 use twinstep::lens::{Bound, Shadow};
-use twinstep::{BaseOps, MixedOps, Real, RefOps};
 
 /// One step on an `ny × nx` row-major grid, edges held at their values.
 #[twinstep::audit]
@@ -41,27 +38,18 @@ struct Greenhouse {
     r: f64,
 }
 
+#[twinstep::scenario]
 impl Scenario for Greenhouse {
     fn fields(&self) -> Vec<FieldSpec> {
         vec![FieldSpec::new("air_temperature", &[self.n, self.n])]
     }
 
-    fn init<T>(&self, levels: &mut Levels<T>) -> Result<(), Error>
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
+    fn init<T>(&self, levels: &mut Levels<T>) -> Result<(), Error> {
         levels.current[0].fill(|ix| draught_twin::<T>(ix[0], ix[1], self.n));
         Ok(())
     }
 
-    fn step<T>(&self, levels: &mut Levels<T>)
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
+    fn step<T>(&self, levels: &mut Levels<T>) {
         greenhouse_step_twin::<T>(&levels.current[0], &mut levels.next[0], self.n, self.n, T::from_f64(self.r));
     }
 
@@ -78,11 +66,11 @@ impl Scenario for Greenhouse {
 fn main() -> ExitCode {
     let greenhouse = Greenhouse { n: 48, r: 0.2 };
     // 1e-12 K absolute: a thousandth of the draught's amplitude.
-    let example = common::Example {
-        name: "diffusion_2d",
-        kernel: "greenhouse_step",
-        about: "greenhouse air, 48 x 48, r = 0.2, 300 K + 1 nK draught",
-        steps: 1_500,
-    };
-    example.run(&greenhouse, Tolerance::absolute(1e-12), |audit| audit.horizon(20_000).lens::<Bound>().lens::<Shadow>())
+    Audit::new(&greenhouse, Tolerance::absolute(1e-12), 1_500)
+        .kernel("greenhouse_step")
+        .describe("greenhouse air, 48 x 48, r = 0.2, 300 K + 1 nK draught")
+        .horizon(20_000)
+        .lens::<Bound>()
+        .lens::<Shadow>()
+        .report()
 }

@@ -4,13 +4,10 @@
 //!
 //! Run: `cargo run --release --example heat_rod`.
 
-mod common;
-
 use std::process::ExitCode;
 
-use twinstep::audit::{Error, FieldSpec, Levels, Scenario, Tolerance};
+use twinstep::audit::{Audit, Error, FieldSpec, Levels, Scenario, Tolerance};
 use twinstep::lens::{Bound, Interval, Shadow};
-use twinstep::{BaseOps, MixedOps, Real, RefOps};
 
 /// One step of the explicit scheme with diffusion number `r`, ends held at their values.
 #[twinstep::audit]
@@ -37,27 +34,18 @@ struct Rod {
     r: f64,
 }
 
+#[twinstep::scenario]
 impl Scenario for Rod {
     fn fields(&self) -> Vec<FieldSpec> {
         vec![FieldSpec::new("temperature", &[self.points])]
     }
 
-    fn init<T>(&self, levels: &mut Levels<T>) -> Result<(), Error>
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
+    fn init<T>(&self, levels: &mut Levels<T>) -> Result<(), Error> {
         levels.current[0].fill(|ix| torch_profile_twin::<T>(ix[0], self.points));
         Ok(())
     }
 
-    fn step<T>(&self, levels: &mut Levels<T>)
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
+    fn step<T>(&self, levels: &mut Levels<T>) {
         rod_step_twin::<T>(&levels.current[0], &mut levels.next[0], T::from_f64(self.r));
     }
 
@@ -73,13 +61,13 @@ impl Scenario for Rod {
 
 fn main() -> ExitCode {
     let rod = Rod { points: 101, r: 0.45 };
-    let example = common::Example {
-        name: "heat_rod",
-        kernel: "rod_step",
-        about: "torch-warmed rod, 101 points, r = 0.45",
-        steps: 2_000,
-    };
-    example.run(&rod, Tolerance::mixed(1e-13, 1e-9), |audit| {
-        audit.horizon(200_000).split_representation().lens::<Bound>().lens::<Interval>().lens::<Shadow>()
-    })
+    Audit::new(&rod, Tolerance::mixed(1e-13, 1e-9), 2_000)
+        .kernel("rod_step")
+        .describe("torch-warmed rod, 101 points, r = 0.45")
+        .horizon(200_000)
+        .split_representation()
+        .lens::<Bound>()
+        .lens::<Interval>()
+        .lens::<Shadow>()
+        .report()
 }

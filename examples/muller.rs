@@ -4,13 +4,10 @@
 //!
 //! Run: `cargo run --release --example muller`.
 
-mod common;
-
 use std::process::ExitCode;
 
-use twinstep::audit::{Error, FieldSpec, Levels, Scenario, Scheme, Tolerance};
+use twinstep::audit::{Audit, Error, FieldSpec, Levels, Scenario, Scheme, Tolerance};
 use twinstep::lens::{Bound, Shadow};
-use twinstep::{BaseOps, MixedOps, Real, RefOps};
 
 /// The next term from the two before it.
 #[twinstep::audit]
@@ -21,6 +18,7 @@ pub fn next_term(before: f64, now: f64) -> f64 {
 /// The recurrence as a three-level scheme on one cell.
 pub struct Recurrence;
 
+#[twinstep::scenario]
 impl Scenario for Recurrence {
     fn fields(&self) -> Vec<FieldSpec> {
         vec![FieldSpec::new("u", &[1])]
@@ -30,22 +28,12 @@ impl Scenario for Recurrence {
         Scheme::ThreeLevel
     }
 
-    fn init<T>(&self, levels: &mut Levels<T>) -> Result<(), Error>
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
+    fn init<T>(&self, levels: &mut Levels<T>) -> Result<(), Error> {
         levels.previous[0].set_f64(&[2.0])?;
         levels.current[0].set_f64(&[-4.0])
     }
 
-    fn step<T>(&self, levels: &mut Levels<T>)
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
+    fn step<T>(&self, levels: &mut Levels<T>) {
         levels.next[0][0] = next_term_twin::<T>(levels.previous[0][0], levels.current[0][0]);
     }
 
@@ -55,11 +43,11 @@ impl Scenario for Recurrence {
 }
 
 fn main() -> ExitCode {
-    let example = common::Example {
-        name: "muller",
-        kernel: "next_term",
-        about: "Muller's recurrence, u0 = 2, u1 = -4",
-        steps: 30,
-    };
-    example.run(&Recurrence, Tolerance::relative(1e-6), |audit| audit.every_step().lens::<Bound>().lens::<Shadow>())
+    Audit::new(&Recurrence, Tolerance::relative(1e-6), 30)
+        .kernel("next_term")
+        .describe("Muller's recurrence, u0 = 2, u1 = -4")
+        .every_step()
+        .lens::<Bound>()
+        .lens::<Shadow>()
+        .report()
 }

@@ -4,13 +4,10 @@
 //!
 //! Run: `cargo run --release --example wave_leapfrog`.
 
-mod common;
-
 use std::process::ExitCode;
 
-use twinstep::audit::{Error, FieldSpec, Levels, Scenario, Scheme, Tolerance};
+use twinstep::audit::{Audit, Error, FieldSpec, Levels, Scenario, Scheme, Tolerance};
 use twinstep::lens::{Bound, Shadow};
-use twinstep::{BaseOps, MixedOps, Real, RefOps};
 
 #[twinstep::audit]
 mod string {
@@ -47,10 +44,10 @@ mod string {
 
 struct GuitarString {
     points: usize,
-    /// C², computed once: inside `init`/`step` an `f64 * f64` would resolve to the `f64: MixedOps<T>` operator.
-    courant_squared: f64,
+    courant: f64,
 }
 
+#[twinstep::scenario]
 impl Scenario for GuitarString {
     fn fields(&self) -> Vec<FieldSpec> {
         vec![FieldSpec::new("displacement", &[self.points])]
@@ -60,48 +57,38 @@ impl Scenario for GuitarString {
         Scheme::ThreeLevel
     }
 
-    fn init<T>(&self, levels: &mut Levels<T>) -> Result<(), Error>
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
-        let c2 = T::from_f64(self.courant_squared);
+    fn init<T>(&self, levels: &mut Levels<T>) -> Result<(), Error> {
+        let c2 = T::from_f64(self.courant * self.courant);
         levels.previous[0].fill(|ix| string_twin::pluck::<T>(ix[0], self.points));
         string_twin::start_from_rest::<T>(&levels.previous[0], &mut levels.current[0], c2);
         Ok(())
     }
 
-    fn step<T>(&self, levels: &mut Levels<T>)
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
-        let c2 = T::from_f64(self.courant_squared);
+    fn step<T>(&self, levels: &mut Levels<T>) {
+        let c2 = T::from_f64(self.courant * self.courant);
         string_twin::leapfrog::<T>(&levels.previous[0], &levels.current[0], &mut levels.next[0], c2);
     }
 
     fn init_original(&self, levels: &mut Levels<f64>) -> Result<(), Error> {
-        let c2 = self.courant_squared;
+        let c2 = self.courant * self.courant;
         levels.previous[0].fill(|ix| string::pluck(ix[0], self.points));
         string::start_from_rest(&levels.previous[0], &mut levels.current[0], c2);
         Ok(())
     }
 
     fn step_original(&self, levels: &mut Levels<f64>) {
-        let c2 = self.courant_squared;
+        let c2 = self.courant * self.courant;
         string::leapfrog(&levels.previous[0], &levels.current[0], &mut levels.next[0], c2);
     }
 }
 
 fn main() -> ExitCode {
-    let string = GuitarString { points: 201, courant_squared: 0.9 * 0.9 };
-    let example = common::Example {
-        name: "wave_leapfrog",
-        kernel: "string::leapfrog",
-        about: "plucked string, 201 points, Courant 0.9, leapfrog",
-        steps: 5_000,
-    };
-    example.run(&string, Tolerance::absolute(1e-12), |audit| audit.horizon(1_000_000).lens::<Bound>().lens::<Shadow>())
+    let string = GuitarString { points: 201, courant: 0.9 };
+    Audit::new(&string, Tolerance::absolute(1e-12), 5_000)
+        .kernel("string::leapfrog")
+        .describe("plucked string, 201 points, Courant 0.9, leapfrog")
+        .horizon(1_000_000)
+        .lens::<Bound>()
+        .lens::<Shadow>()
+        .report()
 }

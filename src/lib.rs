@@ -18,4 +18,4 @@ pub mod twin;
 pub mod verdict;
 
 pub use real::{BaseOps, Constant, MixedOps, Real, RefOps};
-pub use twinstep_macros::audit;
+pub use twinstep_macros::{audit, scenario};

@@ -7,7 +7,7 @@ use audit_support::kernels::Fold;
 use audit_support::scratch;
 use twinstep::audit::{Audit, Error, FieldSpec, Levels, Plan, Recorder, Scenario, Tolerance};
 use twinstep::lens::Shadow;
-use twinstep::{BaseOps, MixedOps, Real, RefOps};
+use twinstep::Real;
 
 /// A scenario whose fields or initial data are wrong in a chosen way, or whose step panics at a chosen step.
 struct Faulty {
@@ -16,6 +16,7 @@ struct Faulty {
     panic_at: Option<u64>,
 }
 
+#[twinstep::scenario]
 impl Scenario for Faulty {
     fn fields(&self) -> Vec<FieldSpec> {
         self.fields.clone()
@@ -25,12 +26,7 @@ impl Scenario for Faulty {
         vec![self.initial.clone()]
     }
 
-    fn step<T>(&self, levels: &mut Levels<T>)
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
+    fn step<T>(&self, levels: &mut Levels<T>) {
         if Some(levels.step) == self.panic_at {
             panic!("deliberate failure in the user's step");
         }
@@ -44,18 +40,21 @@ fn faulty(shape: &[usize], initial: Vec<f64>) -> Faulty {
 }
 
 fn tol() -> Tolerance {
-    Tolerance::absolute(1e-9).unwrap()
+    Tolerance::absolute(1e-9)
 }
 
 #[test]
 fn bad_tolerances_are_rejected() {
-    for bad in [0.0, -1e-9, f64::NAN, f64::INFINITY] {
-        assert!(matches!(Tolerance::absolute(bad), Err(Error::BadTolerance { parameter: "atol", .. })));
-        assert!(matches!(Tolerance::mixed(1e-12, bad), Err(Error::BadTolerance { parameter: "rtol", .. })));
-        assert!(matches!(Tolerance::ulps(bad), Err(Error::BadTolerance { parameter: "ulps", .. })));
-    }
-    // A tolerance built by struct literal is checked when the audit starts, before any file exists.
+    // The constructors give plain values; the audit checks them when it starts, before any file exists.
     let path = scratch("audit_errors_tol").join("t.jsonl");
+    let run = |tolerance: Tolerance| Audit::new(&Fold, tolerance, 5).trace(&path).lens::<Shadow>().run();
+    for bad in [0.0, -1e-9, f64::NAN, f64::INFINITY] {
+        assert!(matches!(run(Tolerance::absolute(bad)), Err(Error::BadTolerance { parameter: "atol", .. })));
+        assert!(matches!(run(Tolerance::mixed(1e-12, bad)), Err(Error::BadTolerance { parameter: "rtol", .. })));
+        assert!(matches!(run(Tolerance::ulps(bad)), Err(Error::BadTolerance { parameter: "ulps", .. })));
+        assert!(!path.exists());
+    }
+    // So is a tolerance built by struct literal.
     let result = Audit::new(&Fold, Tolerance::Relative { rtol: f64::NAN }, 5).trace(&path).lens::<Shadow>().run();
     assert!(matches!(result, Err(Error::BadTolerance { .. })));
     assert!(!path.exists());

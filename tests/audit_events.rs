@@ -8,7 +8,6 @@ use twinstep::audit::{Audit, FieldSpec, Levels, Scenario, Tolerance};
 use twinstep::lens::{Bound, Shadow};
 use twinstep::trace::EventName;
 use twinstep::verdict::Status;
-use twinstep::{BaseOps, MixedOps, Real, RefOps};
 
 /// A square root of something that goes negative.
 #[twinstep::audit]
@@ -33,6 +32,7 @@ struct Case {
     tenth: bool,
 }
 
+#[twinstep::scenario]
 impl Scenario for Case {
     fn fields(&self) -> Vec<FieldSpec> {
         vec![FieldSpec::new("u", &[1])]
@@ -42,12 +42,7 @@ impl Scenario for Case {
         vec![vec![self.start]]
     }
 
-    fn step<T>(&self, levels: &mut Levels<T>)
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
+    fn step<T>(&self, levels: &mut Levels<T>) {
         if self.tenth {
             levels.next[0][0] = tenth_by_division_twin::<T>(levels.current[0][0]);
         } else {
@@ -69,7 +64,7 @@ fn a_field_turning_nan_is_an_event_and_a_crossing() {
     // √(0.5 − 1) is an invalid operation whose default result is NaN (IEEE 754-2019 §7.2 and §9.2).
     assert!((0.5f64 - 1.0).sqrt().is_nan());
     let path = scratch("audit_events_nan").join("nan.jsonl");
-    let trace = Audit::new(&Case { start: 0.5, tenth: false }, Tolerance::absolute(1e-9).unwrap(), 5)
+    let trace = Audit::new(&Case { start: 0.5, tenth: false }, Tolerance::absolute(1e-9), 5)
         .trace(&path)
         .lens::<Bound>()
         .lens::<Shadow>()
@@ -99,7 +94,7 @@ fn a_twin_that_departs_from_the_original_is_reported() {
     // 3/10 correctly rounded is the double nearest 0.3, while 3 × fl(0.1) rounds to the next double up
     // (IEEE 754-2019 §4.3 correct rounding; both computed here by the hardware, not by twinstep).
     assert_ne!(3.0f64 / 10.0, 3.0 * 0.1);
-    let trace = Audit::new(&Case { start: 3.0, tenth: true }, Tolerance::relative(1e-6).unwrap(), 4)
+    let trace = Audit::new(&Case { start: 3.0, tenth: true }, Tolerance::relative(1e-6), 4)
         .trace(scratch("audit_events_mismatch").join("m.jsonl"))
         .lens::<Shadow>()
         .run()

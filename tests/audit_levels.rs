@@ -13,7 +13,7 @@ use dashu_ratio::RBig;
 use twinstep::audit::{Audit, Field, FieldSpec, Levels, Plan, Recorder, Scenario, Scheme, Tolerance};
 use twinstep::lens::{Bound, Lens, Shadow, ShadowUnwatched};
 use twinstep::trace::EventName;
-use twinstep::{BaseOps, MixedOps, Real, RefOps};
+use twinstep::Real;
 
 /// Scales one cell of a grid by a tenth and every other cell by a half, in place.
 #[twinstep::audit]
@@ -29,6 +29,7 @@ fn scale_grid(u: &mut [f64], special: usize) {
 
 struct Grid;
 
+#[twinstep::scenario]
 impl Scenario for Grid {
     fn fields(&self) -> Vec<FieldSpec> {
         vec![FieldSpec::new("g", &[3, 4])]
@@ -42,12 +43,7 @@ impl Scenario for Grid {
         vec![vec![1.0; 12]]
     }
 
-    fn step<T>(&self, levels: &mut Levels<T>)
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
+    fn step<T>(&self, levels: &mut Levels<T>) {
         // Row-major: cell (2, 1) of a 3 × 4 grid is flat index 2·4 + 1 = 9.
         scale_grid_twin::<T>(&mut levels.current[0], 9);
     }
@@ -59,7 +55,7 @@ impl Scenario for Grid {
 
 #[test]
 fn in_place_2d_field_reports_the_worst_multi_index() {
-    let trace = Audit::new(&Grid, Tolerance::absolute(1.0).unwrap(), 3)
+    let trace = Audit::new(&Grid, Tolerance::absolute(1.0), 3)
         .trace(scratch("audit_levels_grid").join("g.jsonl"))
         .every_step()
         .split_representation()
@@ -100,6 +96,7 @@ struct Decay {
     seen: Mutex<Vec<(u64, f64, f64)>>,
 }
 
+#[twinstep::scenario]
 impl Scenario for Decay {
     fn fields(&self) -> Vec<FieldSpec> {
         vec![FieldSpec::new("u", &[1])]
@@ -113,12 +110,7 @@ impl Scenario for Decay {
         vec![vec![1.0]]
     }
 
-    fn step<T>(&self, levels: &mut Levels<T>)
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
+    fn step<T>(&self, levels: &mut Levels<T>) {
         let h = T::from_f64(0.3);
         heun_stage_twin::<T>(&levels.current[0], &mut levels.stages[0][0], h);
         heun_finish_twin::<T>(&levels.current[0], &levels.stages[0][0], &mut levels.next[0], h);
@@ -139,7 +131,7 @@ impl Scenario for Decay {
 #[test]
 fn runge_kutta_stages_match_the_exact_amplification_factor() {
     let decay = Decay { seen: Mutex::new(Vec::new()) };
-    let trace = Audit::new(&decay, Tolerance::relative(1e-12).unwrap(), 60)
+    let trace = Audit::new(&decay, Tolerance::relative(1e-12), 60)
         .trace(scratch("audit_levels_rk").join("rk.jsonl"))
         .lens::<Shadow>()
         .run()
@@ -169,7 +161,7 @@ fn runge_kutta_stages_match_the_exact_amplification_factor() {
 #[test]
 fn recorder_in_a_users_own_loop() {
     let path = scratch("audit_levels_recorder").join("fold.jsonl");
-    let plan = Plan::new("fold_step", Fold.fields(), Tolerance::absolute(1e-3).unwrap(), 30, path.clone());
+    let plan = Plan::new("fold_step", Fold.fields(), Tolerance::absolute(1e-3), 30, path.clone());
     let mut recorder = Recorder::create::<Bound>(&plan).unwrap();
     let mut u = vec![Bound::from_f64(1.0)];
     recorder.record_step(0, &[&u]).unwrap();

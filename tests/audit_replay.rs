@@ -9,7 +9,6 @@ use audit_support::scratch;
 use twinstep::audit::{Audit, FieldSpec, Levels, Scenario, Tolerance};
 use twinstep::lens::{Bound, BoundUnwatched, Interval, Shadow};
 use twinstep::trace::{EventName, Trace};
-use twinstep::{BaseOps, MixedOps, Real, RefOps};
 
 /// A value walking down by a quarter per step, and its square root above 1 (NaN once the value is below 1).
 #[twinstep::audit]
@@ -57,6 +56,7 @@ struct Walk {
     start: f64,
 }
 
+#[twinstep::scenario]
 impl Scenario for Walk {
     fn fields(&self) -> Vec<FieldSpec> {
         vec![FieldSpec::new("u", &[1]), FieldSpec::new("derived", &[1])]
@@ -66,12 +66,7 @@ impl Scenario for Walk {
         vec![vec![self.start], vec![0.0]]
     }
 
-    fn step<T>(&self, levels: &mut Levels<T>)
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
+    fn step<T>(&self, levels: &mut Levels<T>) {
         let (u, rest) = levels.next.split_at_mut(1);
         let (out, derived) = (&mut u[0], &mut rest[0]);
         let current = &levels.current[0];
@@ -113,7 +108,7 @@ fn first_site(trace: &Trace, lens: &str, kind: EventName) -> Option<(u64, u32)> 
 }
 
 fn audit(kernel: Kernel, start: f64, steps: u64, name: &str) -> Trace {
-    Audit::new(&Walk { kernel, start }, Tolerance::absolute(1e-9).unwrap(), steps)
+    Audit::new(&Walk { kernel, start }, Tolerance::absolute(1e-9), steps)
         .trace(scratch(name).join("replay.jsonl"))
         .lens::<Bound>()
         .lens::<Shadow>()
@@ -173,12 +168,12 @@ fn an_overflow_turned_finite_again_is_reported_where_the_reference_shows_it() {
 
 #[test]
 fn either_variant_of_a_lens_audits_the_same_under_one_name() {
-    let watched = Audit::new(&Walk { kernel: Kernel::Descent, start: 11.0 }, Tolerance::absolute(1e-9).unwrap(), 50)
+    let watched = Audit::new(&Walk { kernel: Kernel::Descent, start: 11.0 }, Tolerance::absolute(1e-9), 50)
         .trace(scratch("audit_replay_variant").join("watched.jsonl"))
         .lens::<Bound>()
         .run()
         .unwrap();
-    let unwatched = Audit::new(&Walk { kernel: Kernel::Descent, start: 11.0 }, Tolerance::absolute(1e-9).unwrap(), 50)
+    let unwatched = Audit::new(&Walk { kernel: Kernel::Descent, start: 11.0 }, Tolerance::absolute(1e-9), 50)
         .trace(scratch("audit_replay_variant").join("unwatched.jsonl"))
         .lens::<BoundUnwatched>()
         .run()
@@ -187,7 +182,7 @@ fn either_variant_of_a_lens_audits_the_same_under_one_name() {
     assert_eq!(watched.events, unwatched.events);
     assert!(unwatched.steps.iter().all(|s| s.lens == "bound"));
     // The two variants are one lens: adding both is a duplicate.
-    let both = Audit::new(&Walk { kernel: Kernel::Descent, start: 11.0 }, Tolerance::absolute(1e-9).unwrap(), 5)
+    let both = Audit::new(&Walk { kernel: Kernel::Descent, start: 11.0 }, Tolerance::absolute(1e-9), 5)
         .trace(scratch("audit_replay_variant").join("both.jsonl"))
         .lens::<Bound>()
         .lens::<BoundUnwatched>()

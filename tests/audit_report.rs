@@ -14,7 +14,7 @@ use twinstep::trace::{self, EventName};
 #[test]
 fn report_has_every_section() {
     let path = scratch("audit_report").join("fold.jsonl");
-    let trace = Audit::new(&Fold, Tolerance::absolute(1e-16).unwrap(), 60)
+    let trace = Audit::new(&Fold, Tolerance::absolute(1e-16), 60)
         .kernel("fold_step")
         .describe("one cell")
         .trace(&path)
@@ -60,8 +60,7 @@ fn report_has_every_section() {
 #[test]
 fn worst_field_ranks_a_nan_ratio_as_infinite_whatever_its_sign() {
     let path = scratch("audit_report_nan").join("fold.jsonl");
-    let mut trace =
-        Audit::new(&Fold, Tolerance::absolute(1e-3).unwrap(), 5).trace(&path).lens::<Shadow>().run().unwrap();
+    let mut trace = Audit::new(&Fold, Tolerance::absolute(1e-3), 5).trace(&path).lens::<Shadow>().run().unwrap();
     // A second field whose last ratio is NaN, as an infinite ratio reads back (`docs/trace.md`: JSON writes ∞ as
     // null, null reads as NaN); `-NaN` is what arithmetic on NaN may give, and `total_cmp` puts it below 0.
     trace.header.fields.push(twinstep::trace::FieldSpec::new("w", &[1]));
@@ -76,12 +75,8 @@ fn worst_field_ranks_a_nan_ratio_as_infinite_whatever_its_sign() {
 #[test]
 fn guaranteed_lenses_come_from_the_header_and_older_traces_still_infer_them() {
     let path = scratch("audit_report_guaranteed").join("fold.jsonl");
-    let mut trace = Audit::new(&Fold, Tolerance::absolute(1e-3).unwrap(), 5)
-        .trace(&path)
-        .lens::<Bound>()
-        .lens::<Shadow>()
-        .run()
-        .unwrap();
+    let mut trace =
+        Audit::new(&Fold, Tolerance::absolute(1e-3), 5).trace(&path).lens::<Bound>().lens::<Shadow>().run().unwrap();
     // The bound lens is the one with a guarantee (its documented contract); the shadow lens estimates.
     assert_eq!(trace.header.guaranteed_lenses, Some(vec!["bound".to_string()]));
     // Every bound overflowed (written as null): the header still says which lens is guaranteed.

@@ -54,10 +54,10 @@ fn audited_crossing(tolerance: Tolerance, name: &str) -> Option<u64> {
 #[test]
 fn every_kind_crosses_where_its_definition_says() {
     let cases: [(&str, Tolerance, Allowance); 4] = [
-        ("absolute", Tolerance::absolute(1e-16).unwrap(), Box::new(|_| 1e-16)),
-        ("relative", Tolerance::relative(1e-15).unwrap(), Box::new(|u: f64| 1e-15 * u.abs())),
-        ("mixed", Tolerance::mixed(1e-17, 1e-15).unwrap(), Box::new(|u: f64| 1e-17 + 1e-15 * u.abs())),
-        ("ulps", Tolerance::ulps(3.0).unwrap(), Box::new(|u: f64| 3.0 * binade_ulp(u))),
+        ("absolute", Tolerance::absolute(1e-16), Box::new(|_| 1e-16)),
+        ("relative", Tolerance::relative(1e-15), Box::new(|u: f64| 1e-15 * u.abs())),
+        ("mixed", Tolerance::mixed(1e-17, 1e-15), Box::new(|u: f64| 1e-17 + 1e-15 * u.abs())),
+        ("ulps", Tolerance::ulps(3.0), Box::new(|u: f64| 3.0 * binade_ulp(u))),
     ];
     for (name, tolerance, allowed) in cases {
         let expected = first_crossing(&allowed);

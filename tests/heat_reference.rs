@@ -15,7 +15,7 @@ use dashu_ratio::RBig;
 use twinstep::audit::{Audit, Error, Field, FieldSpec, Levels, Scenario, Tolerance};
 use twinstep::lens::{Bound, Interval, Lens, Shadow};
 use twinstep::trace::EventName;
-use twinstep::{BaseOps, MixedOps, Real, RefOps};
+use twinstep::Real;
 
 /// The example's rod kernel (`examples/heat_rod.rs`): the explicit scheme, ends held — so the check covers it.
 #[allow(dead_code)]
@@ -81,17 +81,13 @@ fn values_of<L: Lens<Watched = L> + 'static>(field: &dyn Any) -> Option<Vec<L>> 
     Some(unwatched.iter().map(|&cell| cell.watched()).collect())
 }
 
+#[twinstep::scenario]
 impl Scenario for Rod {
     fn fields(&self) -> Vec<FieldSpec> {
         vec![FieldSpec::new("u", &[self.n + 1])]
     }
 
-    fn init<T>(&self, levels: &mut Levels<T>) -> Result<(), Error>
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
+    fn init<T>(&self, levels: &mut Levels<T>) -> Result<(), Error> {
         match &self.start {
             Some(values) => levels.current[0].set_f64(values)?,
             None => levels.current[0].fill(|ix| initial_twin::<T>(ix[0], self.n)),
@@ -100,12 +96,7 @@ impl Scenario for Rod {
         Ok(())
     }
 
-    fn step<T>(&self, levels: &mut Levels<T>)
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
+    fn step<T>(&self, levels: &mut Levels<T>) {
         heat_step_twin::<T>(&levels.current[0], &mut levels.next[0], T::from_f64(self.r));
         self.observe(levels.step + 1, &levels.next[0]);
     }
@@ -135,7 +126,7 @@ fn exact_discrete_solution_lies_inside_bound_and_interval_enclosures() {
     for r in [0.25, 0.5] {
         let rod = Rod::new(N, r, None);
         let dir = scratch("heat_enclosures");
-        let tolerance = Tolerance::mixed(1e-12, 1e-9).unwrap();
+        let tolerance = Tolerance::mixed(1e-12, 1e-9);
         let trace = Audit::new(&rod, tolerance, 500)
             .kernel("heat_step")
             .trace(dir.join(format!("heat-r{r}.jsonl")))
@@ -201,7 +192,7 @@ fn shadow_estimate_equals_the_true_arithmetic_error() {
         let start: Vec<f64> = (0..=N).map(|i| initial(i, N)).collect();
         let rod = Rod::new(N, r, Some(start.clone()));
         let dir = scratch("heat_shadow");
-        let tolerance = Tolerance::absolute(1e-12).unwrap();
+        let tolerance = Tolerance::absolute(1e-12);
         let trace = Audit::new(&rod, tolerance, 100)
             .kernel("heat_step")
             .trace(dir.join(format!("heat-r{r}.jsonl")))
@@ -244,7 +235,7 @@ fn bound_lost_is_reported_with_both_numbers() {
     // DESIGN §3), while the true error stays near the rounding level.
     let rod = Rod::new(N, 0.5, None);
     let dir = scratch("heat_bound_lost");
-    let trace = Audit::new(&rod, Tolerance::mixed(1e-12, 1e-9).unwrap(), 200)
+    let trace = Audit::new(&rod, Tolerance::mixed(1e-12, 1e-9), 200)
         .kernel("heat_step")
         .trace(dir.join("heat.jsonl"))
         .lens::<Bound>()

@@ -44,7 +44,7 @@ fn first_relative_error_above_1e_minus_6_matches_exact_rationals() {
     assert!((float[29] - 100.0).abs() < 1e-6);
 
     let dir = scratch("muller");
-    let trace = Audit::new(&Recurrence, Tolerance::relative(1e-6).unwrap(), 25)
+    let trace = Audit::new(&Recurrence, Tolerance::relative(1e-6), 25)
         .kernel("next_term")
         .trace(dir.join("muller.jsonl"))
         .every_step()

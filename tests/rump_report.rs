@@ -13,7 +13,6 @@ use audit_support::{rational, rational_to_f64, scratch};
 use dashu_ratio::RBig;
 use twinstep::audit::{Audit, Error, FieldSpec, Levels, Scenario, Scheme, Tolerance};
 use twinstep::lens::{Bound, Interval, Shadow};
-use twinstep::{BaseOps, MixedOps, Real, RefOps};
 
 /// The polynomial as a user would write it.
 #[twinstep::audit]
@@ -27,6 +26,7 @@ fn rump(a: f64, b: f64) -> f64 {
 /// One cell, computed once: the step evaluates the polynomial at the cell's inputs.
 struct Evaluation;
 
+#[twinstep::scenario]
 impl Scenario for Evaluation {
     fn fields(&self) -> Vec<FieldSpec> {
         vec![FieldSpec::new("f", &[1])]
@@ -36,21 +36,11 @@ impl Scenario for Evaluation {
         Scheme::TwoLevel
     }
 
-    fn init<T>(&self, levels: &mut Levels<T>) -> Result<(), Error>
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
+    fn init<T>(&self, levels: &mut Levels<T>) -> Result<(), Error> {
         levels.current[0].set_f64(&[0.0])
     }
 
-    fn step<T>(&self, levels: &mut Levels<T>)
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
+    fn step<T>(&self, levels: &mut Levels<T>) {
         levels.next[0][0] = rump_twin::<T>(T::from_f64(77617.0), T::from_f64(33096.0));
     }
 
@@ -76,7 +66,7 @@ fn exact() -> RBig {
 /// The audit of the evaluation with the two guaranteed lenses and the shadow.
 fn audit(test: &str) -> twinstep::trace::Trace {
     let dir = scratch(test);
-    Audit::new(&Evaluation, Tolerance::relative(1e-6).expect("tolerance"), 1)
+    Audit::new(&Evaluation, Tolerance::relative(1e-6), 1)
         .kernel("rump")
         .every_step()
         .trace(dir.join("rump.jsonl"))

@@ -14,7 +14,7 @@ const STEPS: u64 = 1_000_000;
 #[test]
 fn a_million_steps_write_a_few_hundred_lines() {
     let path = scratch("trace_bounded").join("fold.jsonl");
-    let written = Audit::new(&Fold, Tolerance::absolute(1e-3).unwrap(), STEPS)
+    let written = Audit::new(&Fold, Tolerance::absolute(1e-3), STEPS)
         .kernel("fold_step")
         .trace(&path)
         .lens::<Shadow>()

@@ -8,7 +8,6 @@ use dashu_ratio::RBig;
 use twinstep::audit::{Audit, FieldSpec, Levels, Scenario, Tolerance};
 use twinstep::lens::{Bound, Shadow};
 use twinstep::trace::{self, ProfileRecord};
-use twinstep::{BaseOps, MixedOps, Real, RefOps};
 
 /// Cells of the 1-D field: more than 256, so that the profile groups ⌈1000 / 256⌉ = 4 cells per value.
 const CELLS: usize = 1000;
@@ -23,6 +22,7 @@ fn third(u: f64) -> f64 {
 /// A rod of `CELLS` cells holding 0, 1, 2, … and a 4 × 4 grid holding the same, each divided by 3 per step.
 struct Thirds;
 
+#[twinstep::scenario]
 impl Scenario for Thirds {
     fn fields(&self) -> Vec<FieldSpec> {
         vec![FieldSpec::new("rod", &[CELLS]), FieldSpec::new("plate", &[4, 4])]
@@ -34,12 +34,7 @@ impl Scenario for Thirds {
         vec![ramp, plate]
     }
 
-    fn step<T>(&self, levels: &mut Levels<T>)
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
+    fn step<T>(&self, levels: &mut Levels<T>) {
         for field in 0..2 {
             for i in 0..levels.current[field].len() {
                 levels.next[field][i] = third_twin::<T>(levels.current[field][i]);
@@ -63,12 +58,8 @@ fn profile<'t>(profiles: &'t [ProfileRecord], step: u64, lens: &str) -> &'t Prof
 #[test]
 fn profiles_hold_the_largest_error_of_each_cell_group() {
     let path = scratch("trace_profiles").join("thirds.jsonl");
-    let written = Audit::new(&Thirds, Tolerance::absolute(1e-3).unwrap(), 1)
-        .trace(&path)
-        .lens::<Bound>()
-        .lens::<Shadow>()
-        .run()
-        .unwrap();
+    let written =
+        Audit::new(&Thirds, Tolerance::absolute(1e-3), 1).trace(&path).lens::<Bound>().lens::<Shadow>().run().unwrap();
     let read = trace::read(&path).unwrap();
     assert_eq!(read, written);
     // Only the 1-D field, at steps 0 and 1, for both lenses.
@@ -106,7 +97,7 @@ fn profiles_hold_the_largest_error_of_each_cell_group() {
 fn profiles_are_bounded_and_can_be_turned_off() {
     let dir = scratch("trace_profiles_bounded");
     let steps = 20_000;
-    let read = Audit::new(&Thirds, Tolerance::absolute(1e-3).unwrap(), steps)
+    let read = Audit::new(&Thirds, Tolerance::absolute(1e-3), steps)
         .trace(dir.join("long.jsonl"))
         .every_step()
         .lens::<Shadow>()
@@ -116,7 +107,7 @@ fn profiles_are_bounded_and_can_be_turned_off() {
     assert_eq!(read.steps.len() as u64, steps + 1);
     assert!(read.profiles.len() <= 201 && read.profiles.len() >= 60, "{} profiles", read.profiles.len());
     assert_eq!(read.profiles.last().map(|p| p.step), Some(steps));
-    let off = Audit::new(&Thirds, Tolerance::absolute(1e-3).unwrap(), 3)
+    let off = Audit::new(&Thirds, Tolerance::absolute(1e-3), 3)
         .trace(dir.join("off.jsonl"))
         .without_profiles()
         .lens::<Shadow>()

@@ -12,7 +12,7 @@ use twinstep::trace::{self, ReadError};
 /// A complete trace, written in a directory of the calling test's own (tests run in parallel).
 fn good_trace(test: &str) -> String {
     let path = scratch(test).join("fold.jsonl");
-    Audit::new(&Fold, Tolerance::absolute(1e-3).unwrap(), 12).trace(&path).lens::<Shadow>().run().unwrap();
+    Audit::new(&Fold, Tolerance::absolute(1e-3), 12).trace(&path).lens::<Shadow>().run().unwrap();
     std::fs::read_to_string(path).unwrap()
 }
 

@@ -17,12 +17,7 @@ fn valid() -> &'static str {
     static TEXT: OnceLock<String> = OnceLock::new();
     TEXT.get_or_init(|| {
         let path = scratch("trace_reader_props").join("fold.jsonl");
-        Audit::new(&Fold, Tolerance::absolute(1e-16).unwrap(), 30)
-            .trace(&path)
-            .lens::<Bound>()
-            .lens::<Shadow>()
-            .run()
-            .unwrap();
+        Audit::new(&Fold, Tolerance::absolute(1e-16), 30).trace(&path).lens::<Bound>().lens::<Shadow>().run().unwrap();
         std::fs::read_to_string(path).unwrap()
     })
 }

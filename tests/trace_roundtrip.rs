@@ -12,7 +12,7 @@ use twinstep::trace::{self, EventName, Record, FORMAT, VERSION};
 #[test]
 fn written_trace_reads_back_identical() {
     let path = scratch("trace_roundtrip").join("fold.jsonl");
-    let written = Audit::new(&Fold, Tolerance::absolute(1e-3).unwrap(), 40)
+    let written = Audit::new(&Fold, Tolerance::absolute(1e-3), 40)
         .kernel("fold_step")
         .describe("one cell, a tenth off per step")
         .trace(&path)

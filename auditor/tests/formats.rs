@@ -102,6 +102,7 @@ fn output_file_matches_stdout() {
 /// Eight cells divided by 3 per step: the errors shrink with the values, through the subnormal range to 0.
 struct Thirds;
 
+#[twinstep::scenario]
 impl twinstep::audit::Scenario for Thirds {
     fn fields(&self) -> Vec<twinstep::audit::FieldSpec> {
         vec![twinstep::audit::FieldSpec::new("u", &[8])]
@@ -111,12 +112,7 @@ impl twinstep::audit::Scenario for Thirds {
         vec![(1..=8).map(f64::from).collect()]
     }
 
-    fn step<T>(&self, levels: &mut twinstep::audit::Levels<T>)
-    where
-        T: twinstep::Real + twinstep::BaseOps<f64>,
-        f64: twinstep::MixedOps<T>,
-        for<'a> &'a T: twinstep::RefOps<T>,
-    {
+    fn step<T>(&self, levels: &mut twinstep::audit::Levels<T>) {
         for i in 0..8 {
             levels.next[0][i] = levels.current[0][i] / T::from_f64(3.0);
         }
@@ -129,7 +125,7 @@ fn html_axes_stay_bounded_when_errors_underflow() {
     // the recorded errors fall through the subnormal range to 0, as those of a field decaying to 0 do. The log axes
     // keep at most 24 decades and the page is drawn.
     let path = scratch("underflow.jsonl");
-    let tolerance = twinstep::audit::Tolerance::absolute(1e-9).unwrap();
+    let tolerance = twinstep::audit::Tolerance::absolute(1e-9);
     twinstep::audit::Audit::new(&Thirds, tolerance, 700)
         .trace(&path)
         .every_step()

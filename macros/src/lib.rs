@@ -10,3 +10,10 @@ use proc_macro::TokenStream;
 pub fn audit(attr: TokenStream, item: TokenStream) -> TokenStream {
     twinstep_engine::expand_attribute(attr.into(), item.into()).into()
 }
+
+/// Adds to the lens-generic methods (`init`, `step`) of an `impl Scenario for …` block the bounds every twin carries,
+/// so the harness writes none. See `docs/audit.md`.
+#[proc_macro_attribute]
+pub fn scenario(attr: TokenStream, item: TokenStream) -> TokenStream {
+    twinstep_engine::scenario::expand_scenario(attr.into(), item.into()).into()
+}

@@ -3,23 +3,36 @@
 //! file).
 //!
 //! Two ways in. A [`Scenario`] describes the fields and gives the initial data and the step, generic over the
-//! scalar; [`Audit`] runs it with every lens on its own thread (`std::thread::scope`) and the f64 original
-//! alongside each. A [`Recorder`] is for a loop the user keeps as it is: call [`Recorder::record_step`] after each
-//! step.
+//! scalar ([`scenario`](mod@scenario), written under `#[twinstep::scenario]`); [`Audit`] runs it with every lens on
+//! its own thread ([`lens_thread`]) and the f64 original alongside each ([`driver`]), and [`Audit::report`] ends a
+//! harness's `main`. A [`Recorder`] is for a loop the user keeps as it is: call [`Recorder::record_step`] after
+//! each step.
 
 mod driver;
 mod field;
+mod lens_thread;
 mod measure;
 mod recorder;
+mod scenario;
 mod tolerance;
 
 use std::path::PathBuf;
 
 pub use crate::trace::{FieldSpec, RecordPolicy};
-pub use driver::{Audit, AuditLens, Scenario, Scheme};
+pub use driver::Audit;
 pub use field::{Field, Levels};
+pub use lens_thread::AuditLens;
 pub use recorder::{Plan, Recorder};
+pub use scenario::{Scenario, Scheme};
 pub use tolerance::{ulp, Tolerance};
+
+/// The environment variable that tells a harness where to write its trace: `twinstep run` sets it, and
+/// [`Audit::new`] writes there unless [`Audit::trace`] says otherwise.
+pub const TRACE_ENV: &str = "TWINSTEP_TRACE";
+
+/// The environment variable `twinstep run` sets for the harness it runs: the CLI renders the report itself, so
+/// [`Audit::report`] then prints only where the trace went.
+pub const RUN_ENV: &str = "TWINSTEP_RUN";
 
 /// Why an audit could not run, or stopped.
 #[derive(Debug)]
@@ -96,6 +109,19 @@ or override init"
             Error::ScenarioPanicked { lens, step, message } => {
                 write!(f, "the scenario panicked in lens {lens} at step {step}: {message}")
             }
+        }
+    }
+}
+
+impl Error {
+    /// The exit code a harness returns for this error (`docs/cli.md`): 3 when the audited program itself failed
+    /// (a panic in the scenario's `init` or `step`), 2 for everything else — a mistake in the harness's setup
+    /// (tolerance, fields, lenses, steps, initial data) or a trace that cannot be written.
+    #[must_use]
+    pub fn exit_code(&self) -> u8 {
+        match self {
+            Error::ScenarioPanicked { .. } => 3,
+            _ => 2,
         }
     }
 }

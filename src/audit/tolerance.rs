@@ -2,7 +2,9 @@
 //!
 //! Four kinds, one rule each (`err` is the rounding error of a cell, `u` its computed value):
 //! absolute `err ≤ atol`, relative `err ≤ rtol·|u|`, mixed `err ≤ atol + rtol·|u|`, and ulps `err ≤ k·ulp(u)`.
-//! A tolerance is validated when it is built, so the audit never divides by a zero or NaN allowance by mistake.
+//! The constructors give plain values, so a harness writes `Tolerance::mixed(1e-12, 1e-9)` without `?`; the
+//! audit validates the tolerance before it starts ([`Tolerance::validated`]), so it never divides by a zero or
+//! NaN allowance by mistake, and a bad parameter is [`Error::BadTolerance`] naming it.
 
 use serde::{Deserialize, Serialize};
 
@@ -23,29 +25,33 @@ pub enum Tolerance {
 }
 
 impl Tolerance {
-    /// An absolute tolerance; `atol` must be finite and positive.
-    pub fn absolute(atol: f64) -> Result<Tolerance, Error> {
-        Tolerance::Absolute { atol }.validated()
+    /// An absolute tolerance; `atol` must be finite and positive (checked when the audit runs).
+    #[must_use]
+    pub const fn absolute(atol: f64) -> Tolerance {
+        Tolerance::Absolute { atol }
     }
 
     /// A relative tolerance; `rtol` must be finite and positive.
-    pub fn relative(rtol: f64) -> Result<Tolerance, Error> {
-        Tolerance::Relative { rtol }.validated()
+    #[must_use]
+    pub const fn relative(rtol: f64) -> Tolerance {
+        Tolerance::Relative { rtol }
     }
 
     /// A mixed tolerance `atol + rtol·|u|`; both must be finite and positive.
-    pub fn mixed(atol: f64, rtol: f64) -> Result<Tolerance, Error> {
-        Tolerance::Mixed { atol, rtol }.validated()
+    #[must_use]
+    pub const fn mixed(atol: f64, rtol: f64) -> Tolerance {
+        Tolerance::Mixed { atol, rtol }
     }
 
     /// A tolerance of `ulps` units in the last place of the computed value; must be finite and positive.
-    pub fn ulps(ulps: f64) -> Result<Tolerance, Error> {
-        Tolerance::Ulps { ulps }.validated()
+    #[must_use]
+    pub const fn ulps(ulps: f64) -> Tolerance {
+        Tolerance::Ulps { ulps }
     }
 
     /// The tolerance itself when every parameter is finite and positive, a clear error otherwise.
     ///
-    /// Tolerances read from a trace or built by struct literal go through here before an audit uses them.
+    /// Every tolerance goes through here before an audit or a recorder uses it.
     pub fn validated(self) -> Result<Tolerance, Error> {
         let parameters: &[(&'static str, f64)] = match &self {
             Tolerance::Absolute { atol } => &[("atol", *atol)],
@@ -139,21 +145,26 @@ mod tests {
     #[test]
     fn bad_parameters_are_errors() {
         for bad in [0.0, -1.0, f64::NAN, f64::INFINITY] {
-            assert!(Tolerance::absolute(bad).is_err());
-            assert!(Tolerance::relative(bad).is_err());
-            assert!(Tolerance::mixed(1e-12, bad).is_err());
-            assert!(Tolerance::mixed(bad, 1e-9).is_err());
-            assert!(Tolerance::ulps(bad).is_err());
+            assert!(Tolerance::absolute(bad).validated().is_err());
+            assert!(Tolerance::relative(bad).validated().is_err());
+            assert!(Tolerance::mixed(1e-12, bad).validated().is_err());
+            assert!(Tolerance::mixed(bad, 1e-9).validated().is_err());
+            assert!(Tolerance::ulps(bad).validated().is_err());
+        }
+        for good in [1e-300, 1.0, 3.0] {
+            assert!(Tolerance::absolute(good).validated().is_ok());
+            assert!(Tolerance::mixed(good, good).validated().is_ok());
+            assert!(Tolerance::ulps(good).validated().is_ok());
         }
     }
 
     #[test]
     fn mixed_allowance_is_atol_plus_rtol_times_u() {
         // err <= atol + rtol |u| by definition (docs/trace.md); 1e-3 + 1e-2 * 2 = 0.021 within one rounding.
-        let t = Tolerance::mixed(1e-3, 1e-2).unwrap();
+        let t = Tolerance::mixed(1e-3, 1e-2);
         assert!((t.allowed(-2.0) - 0.021).abs() <= 0.021 * f64::EPSILON);
         assert_eq!(t.ratio(0.0, 0.0), 0.0);
-        let r = Tolerance::relative(1e-6).unwrap();
+        let r = Tolerance::relative(1e-6);
         assert_eq!(r.ratio(1e-20, 0.0), f64::INFINITY);
     }
 }

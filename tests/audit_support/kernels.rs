@@ -1,7 +1,6 @@
 //! Small annotated kernels the audit and trace tests share.
 
 use twinstep::audit::{FieldSpec, Levels, Scenario};
-use twinstep::{BaseOps, MixedOps, Real, RefOps};
 
 /// Takes a tenth off and folds at zero: `0.1` is not a double, so after ten steps from 1 the primal is a rounding
 /// residue while the exact value is 0, and the comparison cannot be decided by the reference.
@@ -18,6 +17,7 @@ pub fn fold_step(u: f64) -> f64 {
 /// One cell running [`fold_step`], from 1.
 pub struct Fold;
 
+#[twinstep::scenario]
 impl Scenario for Fold {
     fn fields(&self) -> Vec<FieldSpec> {
         vec![FieldSpec::new("u", &[1])]
@@ -27,12 +27,7 @@ impl Scenario for Fold {
         vec![vec![1.0]]
     }
 
-    fn step<T>(&self, levels: &mut Levels<T>)
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
+    fn step<T>(&self, levels: &mut Levels<T>) {
         levels.next[0][0] = fold_step_twin::<T>(levels.current[0][0]);
     }
 

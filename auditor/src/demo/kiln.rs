@@ -8,7 +8,6 @@
 //! second difference), which the tests compare the lenses' references with.
 
 use twinstep::audit::{Error, FieldSpec, Levels, Scenario};
-use twinstep::{BaseOps, MixedOps, Real, RefOps};
 
 /// The rounding budget of the demo: 1 nK per cell, in kelvin.
 pub const BUDGET_K: f64 = 1e-9;
@@ -55,8 +54,7 @@ impl Wall {
         )
     }
 
-    /// The initial `T` and `rise`, as f64. (Outside the generic `init`, whose `f64: MixedOps<T>` bound would
-    /// make `f64 + f64` ambiguous to type inference.)
+    /// The initial `T` and `rise`, as f64.
     #[must_use]
     pub fn initial(&self) -> (Vec<f64>, Vec<f64>) {
         let rise: Vec<f64> = (0..self.cells).map(|i| self.band_at(i)).collect();
@@ -71,29 +69,20 @@ impl Wall {
     }
 }
 
+#[twinstep::scenario]
 impl Scenario for Wall {
     fn fields(&self) -> Vec<FieldSpec> {
         vec![FieldSpec::new("T", &[self.cells]), FieldSpec::new("rise", &[self.cells])]
     }
 
-    fn init<T>(&self, levels: &mut Levels<T>) -> Result<(), Error>
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
+    fn init<T>(&self, levels: &mut Levels<T>) -> Result<(), Error> {
         // The initial data are the f64 values given, taken as exact.
         let (temperature, rise) = self.initial();
         levels.current[0].set_f64(&temperature)?;
         levels.current[1].set_f64(&rise)
     }
 
-    fn step<T>(&self, levels: &mut Levels<T>)
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
+    fn step<T>(&self, levels: &mut Levels<T>) {
         let (r, heat) = (T::from_f64(self.r), T::from_f64(self.heat));
         for (current, next) in levels.current.iter().zip(levels.next.iter_mut()) {
             wall_step_twin(current, next, r, heat);

@@ -38,8 +38,7 @@ pub fn run_with_progress(trace: &Path, steps: u64, progress: bool) -> Result<(),
 /// Runs the demo audit, writing its trace to `trace`.
 pub fn run(trace: &Path, steps: u64) -> Result<(), Failure> {
     let wall = kiln::Wall::default();
-    let tolerance = Tolerance::absolute(kiln::BUDGET_K).map_err(|e| Failure::input(e.to_string()))?;
-    Audit::new(&wall, tolerance, steps)
+    Audit::new(&wall, Tolerance::absolute(kiln::BUDGET_K), steps)
         .kernel("wall_step")
         .describe(&wall.describe())
         .trace(trace)

@@ -19,6 +19,7 @@ pub mod options;
 pub mod paths;
 pub mod pipeline;
 pub mod reject;
+pub mod scenario;
 pub mod tokens;
 pub mod types;
 

@@ -1,0 +1,273 @@
+//! A lens's thread: keeps the lens's time levels and the plain f64 original's, runs the steps the main thread asks
+//! for, and sends back what it measured after each of them.
+//!
+//! One step, in one place ([`LensThread::advance`]): (seed — nothing yet; per-step hooks go here) → step the
+//! lens's twin → collect the events it recorded → step the original (and the compiled-literal run) → measure.
+//!
+//! The lens runs as its unwatched variant, whose loops vectorize. Each chunk of steps starts from a checkpoint of
+//! the levels; when a step turns a value non-finite ([`ReplayTrigger`]), the steps from the checkpoint to it are
+//! replayed with the watched variant — the same arithmetic, so the same numbers — and the step's events are taken
+//! from the replay, which adds the NaN/∞ events with the line where each value arose. The initial data run with
+//! the watched variant directly (they run once).
+
+use std::panic::{catch_unwind, AssertUnwindSafe};
+use std::sync::mpsc::{Receiver, Sender};
+use std::time::{Duration, Instant};
+
+use super::measure::{first_mismatch, measure, representation, FieldMeasure, LensStep};
+use super::recorder::Plan;
+use super::{Error, Levels, Scenario};
+use crate::events::{EventKind, Site};
+use crate::lens::{with_literal_mode, Lens, LiteralMode};
+use crate::{BaseOps, MixedOps, RefOps};
+
+/// What a lens thread sends back for a chunk.
+pub(super) type ChunkResult = Result<Vec<LensStep>, Error>;
+
+/// The events one run of a step recorded on this thread.
+type Events = Vec<(EventKind, Site, u64)>;
+
+/// A lens thread's ends of its channels: the steps to run up to, and where the measurements of each chunk go.
+#[doc(hidden)]
+pub struct LensChannels {
+    pub(super) commands: Receiver<u64>,
+    pub(super) results: Sender<ChunkResult>,
+}
+
+/// A lens an audit can run: a [`Lens`] whose two variants a twin accepts — the bounds every twin's `where` clause
+/// carries, for the unwatched variant the driver runs and for the watched one it replays with. Implemented for
+/// every such lens, so generic code that starts audits (`fn f<L: AuditLens>`) names this one bound.
+pub trait AuditLens: Lens {
+    /// The body of the lens's thread.
+    #[doc(hidden)]
+    fn run_thread<S: Scenario>(scenario: &S, plan: &Plan, channels: LensChannels);
+}
+
+impl<L> AuditLens for L
+where
+    L: Lens,
+    L::Unwatched: BaseOps<f64>,
+    f64: MixedOps<L::Unwatched> + MixedOps<L::Watched>,
+    for<'a> &'a L::Unwatched: RefOps<L::Unwatched>,
+    L::Watched: BaseOps<f64>,
+    for<'a> &'a L::Watched: RefOps<L::Watched>,
+{
+    fn run_thread<S: Scenario>(scenario: &S, plan: &Plan, channels: LensChannels) {
+        LensThread::<L, S>::new(scenario, plan).serve(channels);
+    }
+}
+
+/// The most steps one lens thread replays with the watched lens; past it, NaN/∞ events still name the step and the
+/// field (from the measurements) but no longer the line. A field that holds NaN usually keeps meeting it in
+/// comparisons at every step, and every replay after the first finds nothing new.
+const MAX_REPLAYS: usize = 16;
+
+/// How old a checkpoint may grow before a chunk renews it.
+const CHECKPOINT_AGE: Duration = Duration::from_millis(500);
+
+/// What this thread's lens recorded since the last call: its events, and whether an unwatched variant noted a
+/// non-finite value the fields may not show (`events::note_unseen_non_finite`). Taken together after every run
+/// of a step, so that nothing one run leaves behind is read as the next one's.
+fn collect() -> (Events, bool) {
+    (crate::events::drain(), crate::events::take_unseen_non_finite())
+}
+
+/// When a step needs a replay with the watched lens: the first step at which a field's primal or its error turns
+/// non-finite, and a step in which the unwatched lens noted a non-finite value that the fields may not show.
+struct ReplayTrigger {
+    primal_non_finite: Vec<bool>,
+    error_non_finite: Vec<bool>,
+    replays: usize,
+}
+
+impl ReplayTrigger {
+    fn new(fields: usize) -> ReplayTrigger {
+        ReplayTrigger { primal_non_finite: vec![false; fields], error_non_finite: vec![false; fields], replays: 0 }
+    }
+
+    /// Whether the step just measured needs a replay; `noted` is the unwatched lens's note.
+    fn fires(&mut self, measured: &LensStep, noted: bool) -> bool {
+        let mut fires = noted;
+        for (i, field) in measured.fields.iter().enumerate() {
+            let primal = field.nan || field.infinite;
+            let error = !field.max_err.is_finite();
+            fires |= (primal && !self.primal_non_finite[i]) || (error && !self.error_non_finite[i]);
+            self.primal_non_finite[i] |= primal;
+            self.error_non_finite[i] |= error;
+        }
+        let fires = fires && self.replays < MAX_REPLAYS;
+        self.replays += usize::from(fires);
+        fires
+    }
+}
+
+/// Where a replay begins: the levels before a step, that step, and when the copy was taken.
+struct Checkpoint<T> {
+    levels: Levels<T>,
+    step: u64,
+    taken: Instant,
+}
+
+/// The state of one lens's thread between chunks.
+struct LensThread<'s, L: Lens, S> {
+    scenario: &'s S,
+    plan: &'s Plan,
+    /// The lens's levels, unwatched.
+    twin: Levels<L::Unwatched>,
+    /// The plain f64 original's levels.
+    original: Levels<f64>,
+    /// The same lens with literals and constants as compiled, when the audit splits off the representation error:
+    /// what is left in it is arithmetic error only.
+    compiled: Option<Levels<L::Unwatched>>,
+    trigger: ReplayTrigger,
+    checkpoint: Option<Checkpoint<L::Unwatched>>,
+    /// The next step to run (`n` of `n → n + 1`); `None` before the initial data.
+    next: Option<u64>,
+}
+
+impl<'s, L, S> LensThread<'s, L, S>
+where
+    L: Lens,
+    L::Unwatched: BaseOps<f64>,
+    f64: MixedOps<L::Unwatched> + MixedOps<L::Watched>,
+    for<'a> &'a L::Unwatched: RefOps<L::Unwatched>,
+    L::Watched: BaseOps<f64>,
+    for<'a> &'a L::Watched: RefOps<L::Watched>,
+    S: Scenario,
+{
+    fn new(scenario: &'s S, plan: &'s Plan) -> Self {
+        let (levels, stages) = (scenario.scheme().levels(), scenario.stages());
+        LensThread {
+            scenario,
+            plan,
+            twin: Levels::new(&plan.fields, levels, stages),
+            original: Levels::new(&plan.fields, levels, stages),
+            compiled: plan.split_representation.then(|| Levels::new(&plan.fields, levels, stages)),
+            trigger: ReplayTrigger::new(plan.fields.len()),
+            checkpoint: None,
+            next: None,
+        }
+    }
+
+    /// Runs the chunks the main thread asks for until it hangs up, or until a chunk fails (the error is the
+    /// thread's last message).
+    fn serve(mut self, channels: LensChannels) {
+        for to in channels.commands {
+            let outcome = catch_unwind(AssertUnwindSafe(|| self.chunk(to))).unwrap_or_else(|payload| {
+                let message = payload
+                    .downcast_ref::<&str>()
+                    .map(|s| s.to_string())
+                    .or_else(|| payload.downcast_ref::<String>().cloned())
+                    .unwrap_or_else(|| "a panic without a message".into());
+                // `next` is the step that was running: it moves on only once a step is measured.
+                let step = self.next.unwrap_or(0);
+                Err(Error::ScenarioPanicked { lens: L::Watched::NAME.to_string(), step, message })
+            });
+            let failed = outcome.is_err();
+            if channels.results.send(outcome).is_err() || failed {
+                return;
+            }
+        }
+    }
+
+    /// The measurements of every step up to state `to` not yet run (the first chunk is the initial data, step 0).
+    fn chunk(&mut self, to: u64) -> ChunkResult {
+        let mut out = Vec::new();
+        if self.next.is_none() {
+            out.push(self.initial()?);
+            self.next = Some(0);
+        }
+        // Copying the levels costs about as much as a step reading and writing them, so the checkpoint is renewed
+        // at a chunk's start only every CHECKPOINT_AGE: a replay then runs at most that much work again.
+        if self.checkpoint.as_ref().is_none_or(|c| c.taken.elapsed() >= CHECKPOINT_AGE) {
+            self.checkpoint =
+                Some(Checkpoint { levels: self.twin.clone(), step: self.next.unwrap_or(0), taken: Instant::now() });
+        }
+        while let Some(n) = self.next.filter(|&n| n < to) {
+            out.push(self.advance(n));
+            self.next = Some(n + 1);
+        }
+        Ok(out)
+    }
+
+    /// The initial data, written by the watched variant (they run once) and measured.
+    fn initial(&mut self) -> Result<LensStep, Error> {
+        let _ = collect(); // nothing from before the audit belongs to it
+        let mut watched = self.twin.convert(Lens::watched);
+        self.scenario.init(&mut watched)?;
+        let (events, _) = collect(); // the watched variant notes nothing
+        self.twin = watched.convert(Lens::unwatched);
+        self.scenario.init_original(&mut self.original)?;
+        if let Some(compiled) = self.compiled.as_mut() {
+            with_literal_mode(LiteralMode::AsCompiled, || self.scenario.init(compiled))?;
+        }
+        let _ = collect();
+        let measured = self.observe(0, events);
+        let _ = self.trigger.fires(&measured, false); // the watched run already saw the initial data
+        Ok(measured)
+    }
+
+    /// One step `n → n + 1` of the lens, the original and the compiled-literal run, measured.
+    fn advance(&mut self, n: u64) -> LensStep {
+        (self.twin.step, self.original.step) = (n, n);
+        self.scenario.step(&mut self.twin);
+        let (events, noted) = collect();
+        self.scenario.step_original(&mut self.original);
+        if let Some(compiled) = self.compiled.as_mut() {
+            compiled.step = n;
+            with_literal_mode(LiteralMode::AsCompiled, || self.scenario.step(compiled));
+            compiled.rotate();
+        }
+        // The original and the compiled-literal run record nothing of interest: their events are dropped.
+        let _ = collect();
+        self.twin.rotate();
+        self.original.rotate();
+        let mut measured = self.observe(n + 1, events);
+        if self.trigger.fires(&measured, noted) {
+            if let Some(checkpoint) = &self.checkpoint {
+                measured.events = self.replay(checkpoint, n);
+            }
+            // Later replays (a NaN keeps meeting comparisons) start from here and cost one step.
+            self.checkpoint = Some(Checkpoint { levels: self.twin.clone(), step: n + 1, taken: Instant::now() });
+        }
+        measured
+    }
+
+    /// Runs steps `checkpoint.step..=step` again from the checkpoint, with the watched variant of the lens, and
+    /// returns the events of the last of them (the steps before were recorded when they ran).
+    fn replay(&self, checkpoint: &Checkpoint<L::Unwatched>, step: u64) -> Events {
+        let mut watched = checkpoint.levels.convert(Lens::watched);
+        let mut events = Vec::new();
+        for k in checkpoint.step..=step {
+            watched.step = k;
+            self.scenario.step(&mut watched);
+            events = crate::events::drain();
+            watched.rotate();
+        }
+        events
+    }
+
+    /// Measures every field of the current level and compares its primal with the original.
+    fn observe(&self, step: u64, events: Events) -> LensStep {
+        let plan = self.plan;
+        let fields = self
+            .twin
+            .current
+            .iter()
+            .enumerate()
+            .map(|(i, f)| FieldMeasure {
+                representation_err: self.compiled.as_ref().map(|c| representation(f, &c.current[i])),
+                ..measure(f, &plan.tolerance, plan.profiled(i))
+            })
+            .collect();
+        let mismatches = self
+            .twin
+            .current
+            .iter()
+            .zip(&self.original.current)
+            .enumerate()
+            .filter_map(|(i, (t, o))| first_mismatch(i, t, o))
+            .collect();
+        LensStep { step, fields, events, mismatches }
+    }
+}
