@@ -19,3 +19,8 @@ pub mod verdict;
 
 pub use real::{BaseOps, Constant, MixedOps, Real, RefOps};
 pub use twinstep_macros::{audit, scenario};
+
+/// The README's code blocks, compiled and run as doctests, so the harness it shows stays one that works.
+#[doc = include_str!("../README.md")]
+#[cfg(doctest)]
+pub struct ReadmeDoctests;
