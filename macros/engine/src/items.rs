@@ -325,7 +325,7 @@ fn twin_impl_block(ctx: &mut Ctx, imp: &ItemImpl) -> syn::Result<ItemImpl> {
 
 /// Reads what the module declares that changes how its items are twinned: precision aliases, imported
 /// constants, float constants, and which structs and enums become generic.
-fn collect_module_facts(ctx: &mut Ctx, m: &ItemMod) {
+pub(crate) fn collect_module_facts(ctx: &mut Ctx, m: &ItemMod) {
     let Some((_, items)) = &m.content else { return };
     for item in items {
         match item {

@@ -20,6 +20,7 @@ pub mod paths;
 pub mod pipeline;
 pub mod reject;
 pub mod scenario;
+pub mod signature;
 pub mod tokens;
 pub mod types;
 
@@ -97,7 +98,7 @@ fn source_errors(error: syn::Error) -> Vec<SourceError> {
 }
 
 /// Whether an attribute is `#[twinstep::audit]` (or `#[audit]`, as after `use twinstep::audit`).
-fn is_audit_attribute(attr: &syn::Attribute) -> bool {
+pub(crate) fn is_audit_attribute(attr: &syn::Attribute) -> bool {
     let names: Vec<String> = attr.path().segments.iter().map(|s| s.ident.to_string()).collect();
     matches!(names.iter().map(String::as_str).collect::<Vec<_>>().as_slice(), ["twinstep", "audit"] | ["audit"])
 }
