@@ -1,5 +1,5 @@
-//! Library half of the `twinstep` command: the trace reader, the report formats, the gate, and the `run` and
-//! `demo` drivers. The binary (`main.rs`) only parses arguments and prints; keeping the rest here lets the tests
+//! Library half of the `twinstep` command: the trace reader, the report formats, the gate, the `run` and `demo`
+//! drivers, and `init`. The binary (`main.rs`) only parses arguments and prints; keeping the rest here lets the tests
 //! drive the reader and renderers in memory.
 
 pub mod analysis;
@@ -7,6 +7,7 @@ pub mod demo;
 pub mod document;
 pub mod failure;
 pub mod gate;
+pub mod init;
 pub mod input;
 pub mod progress;
 pub mod report;

@@ -74,9 +74,34 @@ Exit codes: 0 the report was written, 2 unwritable output, 3 the audit failed.")
         #[arg(long, value_name = "FILE")]
         trace: Option<PathBuf>,
     },
+    /// Add twinstep to your crate and write an audit harness for an annotated kernel.
+    #[command(
+        after_help = "With --kernel src/solver.rs::step (a function, Type::method of an annotated impl block, or \
+module::function of an annotated module; the file relative to the crate), the harness is written to \
+examples/twinstep_<kernel>.rs from the kernel's signature: fill in the places marked todo! with your run's initial \
+data and parameters, then run the command printed.\n\
+The dependency goes to [dependencies] (the attribute is on your own code), with your formatting and comments kept; \
+nothing is written unless every check passes.\n\
+Exit codes: 0 done, 2 usage or input error (no such kernel, a signature init cannot take, the harness exists)."
+    )]
+    Init {
+        /// The annotated kernel: FILE::ITEM, e.g. src/solver.rs::step.
+        #[arg(long, value_name = "FILE::ITEM")]
+        kernel: Option<String>,
+        /// The Cargo.toml of your crate [default: ./Cargo.toml].
+        #[arg(long, value_name = "PATH")]
+        manifest_path: Option<PathBuf>,
+        /// Depend on a local checkout of twinstep instead of the registry's version.
+        #[arg(long, value_name = "DIR")]
+        twinstep_path: Option<PathBuf>,
+        /// Replace the harness file if it exists.
+        #[arg(long)]
+        force: bool,
+    },
     /// Build and run your audit harness through cargo, then print its report.
     #[command(after_help = "The harness (an example, binary or test of your crate) must write its trace to the path \
-in the TWINSTEP_TRACE environment variable, e.g. `Audit::new(..).trace(std::env::var(\"TWINSTEP_TRACE\")?)`.\n\
+in the TWINSTEP_TRACE environment variable, which `Audit::new` does unless told otherwise (`twinstep init` writes \
+such a harness).\n\
 It is built in its own target directory (default <workspace>/target/twinstep) with -C target-cpu=haswell on x86-64 \
 appended to CARGO_ENCODED_RUSTFLAGS, so your own build settings and artefacts stay untouched.\n\
 A progress bar is drawn on stderr when it is a terminal.\n\
@@ -248,6 +273,22 @@ fn demo(html: Option<&Path>, steps: u64, trace: Option<&Path>) -> Result<(), Fai
     Ok(())
 }
 
+fn init(request: &twinstep_cli::init::InitRequest) -> Result<(), Failure> {
+    let outcome = twinstep_cli::init::init(request)?;
+    let manifest = request.manifest_path.as_deref().unwrap_or(Path::new("Cargo.toml")).display().to_string();
+    if outcome.dependency_added {
+        println!("twinstep init: added twinstep to [dependencies] of {manifest}");
+    } else {
+        println!("twinstep init: {manifest} already depends on twinstep");
+    }
+    if let (Some((path, _)), Some(command)) = (&outcome.harness, &outcome.command) {
+        println!("twinstep init: wrote {}", path.display());
+        println!("Fill in the places marked todo! with your run's initial data and parameters, then run:");
+        println!("    {command}");
+    }
+    Ok(())
+}
+
 fn main() -> ExitCode {
     let cli = Cli::parse();
     let result = match &cli.command {
@@ -255,6 +296,28 @@ fn main() -> ExitCode {
         Command::Report { trace, format, output } => report(trace, *format, output.as_deref()),
         Command::Gate { trace, tolerance, lenses } => gate(trace, tolerance, lenses),
         Command::Demo { html, steps, trace } => demo(html.as_deref(), *steps, trace.as_deref()),
+        Command::Init { kernel, manifest_path, twinstep_path, force } => {
+            let source = match twinstep_path {
+                // Cargo reads a relative path from the manifest's directory; the user typed it from theirs.
+                Some(path) => match std::fs::canonicalize(path) {
+                    Ok(path) => Ok(twinstep_cli::init::Source::Path(path)),
+                    Err(e) => Err(Failure::input(format!(
+                        "{}: cannot open: {}",
+                        path.display(),
+                        twinstep_cli::input::plain(&e)
+                    ))),
+                },
+                None => Ok(twinstep_cli::init::Source::Version(env!("CARGO_PKG_VERSION").to_owned())),
+            };
+            source.and_then(|source| {
+                init(&twinstep_cli::init::InitRequest {
+                    kernel: kernel.clone(),
+                    manifest_path: manifest_path.clone(),
+                    source,
+                    force: *force,
+                })
+            })
+        }
         Command::Run { harness, manifest_path, features, profile, target_dir, trace, format, output, args } => {
             let request = RunRequest {
                 harness: harness.resolve(),

@@ -7,7 +7,8 @@
 //! The flag is passed through `CARGO_ENCODED_RUSTFLAGS`, appended to what the user's environment already sets.
 //!
 //! The harness learns where to write its trace from the `TWINSTEP_TRACE` environment variable; while it runs, the
-//! growing trace feeds a progress bar on stderr when stderr is a terminal. When it ends, the trace is rendered.
+//! growing trace feeds a progress bar on stderr when stderr is a terminal. When it ends, the trace is rendered; the
+//! harness is told so by `TWINSTEP_RUN`, and `Audit::report` then does not print the report a second time.
 
 use crate::failure::Failure;
 use crate::input::plain;
@@ -15,8 +16,9 @@ use std::ffi::OsString;
 use std::path::{Path, PathBuf};
 use std::process::Command;
 
-/// The environment variable that tells a harness where to write its trace.
-pub const TRACE_ENV: &str = "TWINSTEP_TRACE";
+/// The environment variables that tell a harness where to write its trace, and that the CLI renders the report
+/// (the runtime's own names, so the two cannot drift apart).
+pub use twinstep::audit::{RUN_ENV, TRACE_ENV};
 
 /// Which target of the user's crate is the harness.
 #[derive(Clone, Debug, PartialEq, Eq)]
@@ -151,6 +153,7 @@ pub fn command(plan: &RunPlan) -> Command {
     );
     command.env_remove("RUSTFLAGS");
     command.env(TRACE_ENV, &plan.trace);
+    command.env(RUN_ENV, "1");
     command
 }
 

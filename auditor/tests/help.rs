@@ -13,7 +13,7 @@ fn help(args: &[&str]) -> String {
 #[test]
 fn top_level_help_lists_every_subcommand() {
     let text = help(&["--help"]);
-    for sub in ["expand", "report", "gate", "run", "demo"] {
+    for sub in ["expand", "report", "gate", "run", "demo", "init"] {
         assert!(text.contains(sub), "{sub} listed");
     }
     assert!(text.contains("Exit codes"));
@@ -23,7 +23,7 @@ fn top_level_help_lists_every_subcommand() {
 
 #[test]
 fn every_subcommand_documents_its_options() {
-    let cases: [(&str, &[&str]); 5] = [
+    let cases: [(&str, &[&str]); 6] = [
         ("expand", &["--item"]),
         ("report", &["--format", "--output", "text", "md", "json", "csv", "html", "incomplete run", "Exit codes"]),
         ("gate", &["--atol", "--rtol", "--ulps", "--lens", "Exit codes", "first crossing"]),
@@ -42,6 +42,7 @@ fn every_subcommand_documents_its_options() {
             ],
         ),
         ("demo", &["--html", "--steps", "Exit codes"]),
+        ("init", &["--kernel", "--manifest-path", "--twinstep-path", "--force", "todo!", "Exit codes"]),
     ];
     for (sub, words) in cases {
         let text = help(&[sub, "--help"]);

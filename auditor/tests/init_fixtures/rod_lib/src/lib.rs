@@ -1,0 +1,3 @@
+//! A heated rod, solved with the explicit scheme.
+
+pub mod solver;
