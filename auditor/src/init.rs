@@ -203,7 +203,7 @@ enum TimeLevels {
 
 /// `heat_step` → `HeatStep`.
 fn camel(path: &str) -> String {
-    path.split(|c: char| c == '_' || c == ':')
+    path.split(['_', ':'])
         .filter(|w| !w.is_empty())
         .map(|w| w[..1].to_uppercase() + &w[1..])
         .collect()
