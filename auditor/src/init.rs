@@ -203,10 +203,7 @@ enum TimeLevels {
 
 /// `heat_step` → `HeatStep`.
 fn camel(path: &str) -> String {
-    path.split(['_', ':'])
-        .filter(|w| !w.is_empty())
-        .map(|w| w[..1].to_uppercase() + &w[1..])
-        .collect()
+    path.split(['_', ':']).filter(|w| !w.is_empty()).map(|w| w[..1].to_uppercase() + &w[1..]).collect()
 }
 
 /// Appends a line to the harness text (writing to a `String` cannot fail).
@@ -422,7 +419,7 @@ fn harness_text(kernel: &Kernel, file: &str, reach: &Reach) -> Result<String, St
     }
     emit!(w, "}}");
     emit!(w);
-    emit!(w, "#[allow(unreachable_code)] // until the todo!s are filled in");
+    emit!(w, "#[allow(unreachable_code, unused_variables)] // until the todo!s are filled in");
     emit!(w, "fn main() -> ExitCode {{");
     emit!(w, "    let run = {run} {{");
     for (name, _, what) in &members {

@@ -11,7 +11,7 @@ use std::process::ExitCode;
 use std::sync::mpsc::{channel, Receiver, Sender};
 use std::time::{Duration, Instant};
 
-use super::lens_thread::{AuditLens, ChunkResult, LensChannels};
+use super::lens_thread::{self, AuditLens, ChunkResult, LensChannels};
 use super::recorder::{LensInfo, Plan};
 use super::{Error, RecordPolicy, Recorder, Scenario, Tolerance, RUN_ENV, TRACE_ENV};
 use crate::trace::Trace;
@@ -110,7 +110,7 @@ impl<'s, S: Scenario> Audit<'s, S> {
     /// non-finite, so both audit the same way under the watched lens's name.
     #[must_use]
     pub fn lens<L: AuditLens>(mut self) -> Self {
-        self.lenses.push(LensEntry { info: LensInfo::of::<L::Watched>(), run: L::run_thread::<S> });
+        self.lenses.push(LensEntry { info: LensInfo::of::<L::Watched>(), run: lens_thread::run::<L, S> });
         self
     }
 

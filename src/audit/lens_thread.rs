@@ -28,8 +28,7 @@ pub(super) type ChunkResult = Result<Vec<LensStep>, Error>;
 type Events = Vec<(EventKind, Site, u64)>;
 
 /// A lens thread's ends of its channels: the steps to run up to, and where the measurements of each chunk go.
-#[doc(hidden)]
-pub struct LensChannels {
+pub(super) struct LensChannels {
     pub(super) commands: Receiver<u64>,
     pub(super) results: Sender<ChunkResult>,
 }
@@ -37,10 +36,22 @@ pub struct LensChannels {
 /// A lens an audit can run: a [`Lens`] whose two variants a twin accepts — the bounds every twin's `where` clause
 /// carries, for the unwatched variant the driver runs and for the watched one it replays with. Implemented for
 /// every such lens, so generic code that starts audits (`fn f<L: AuditLens>`) names this one bound.
+///
+/// Its methods are the scenario's own, for the two variants: the one place where those bounds are needed (Rust does
+/// not imply them), so that the lens thread is written against `L: AuditLens` alone.
 pub trait AuditLens: Lens {
-    /// The body of the lens's thread.
+    /// The scenario's initial data, with the watched variant.
     #[doc(hidden)]
-    fn run_thread<S: Scenario>(scenario: &S, plan: &Plan, channels: LensChannels);
+    fn init_watched<S: Scenario>(scenario: &S, levels: &mut Levels<Self::Watched>) -> Result<(), Error>;
+    /// The scenario's initial data, with the unwatched variant.
+    #[doc(hidden)]
+    fn init_unwatched<S: Scenario>(scenario: &S, levels: &mut Levels<Self::Unwatched>) -> Result<(), Error>;
+    /// One step of the scenario, with the unwatched variant.
+    #[doc(hidden)]
+    fn step_unwatched<S: Scenario>(scenario: &S, levels: &mut Levels<Self::Unwatched>);
+    /// One step of the scenario, with the watched variant.
+    #[doc(hidden)]
+    fn step_watched<S: Scenario>(scenario: &S, levels: &mut Levels<Self::Watched>);
 }
 
 impl<L> AuditLens for L
@@ -52,9 +63,26 @@ where
     L::Watched: BaseOps<f64>,
     for<'a> &'a L::Watched: RefOps<L::Watched>,
 {
-    fn run_thread<S: Scenario>(scenario: &S, plan: &Plan, channels: LensChannels) {
-        LensThread::<L, S>::new(scenario, plan).serve(channels);
+    fn init_watched<S: Scenario>(scenario: &S, levels: &mut Levels<Self::Watched>) -> Result<(), Error> {
+        scenario.init(levels)
     }
+
+    fn init_unwatched<S: Scenario>(scenario: &S, levels: &mut Levels<Self::Unwatched>) -> Result<(), Error> {
+        scenario.init(levels)
+    }
+
+    fn step_unwatched<S: Scenario>(scenario: &S, levels: &mut Levels<Self::Unwatched>) {
+        scenario.step(levels);
+    }
+
+    fn step_watched<S: Scenario>(scenario: &S, levels: &mut Levels<Self::Watched>) {
+        scenario.step(levels);
+    }
+}
+
+/// The body of a lens's thread, instantiated for the lens and the scenario when the lens is added to an audit.
+pub(super) fn run<L: AuditLens, S: Scenario>(scenario: &S, plan: &Plan, channels: LensChannels) {
+    LensThread::<L, S>::new(scenario, plan).serve(channels);
 }
 
 /// The most steps one lens thread replays with the watched lens; past it, NaN/∞ events still name the step and the
@@ -125,16 +153,7 @@ struct LensThread<'s, L: Lens, S> {
     next: Option<u64>,
 }
 
-impl<'s, L, S> LensThread<'s, L, S>
-where
-    L: Lens,
-    L::Unwatched: BaseOps<f64>,
-    f64: MixedOps<L::Unwatched> + MixedOps<L::Watched>,
-    for<'a> &'a L::Unwatched: RefOps<L::Unwatched>,
-    L::Watched: BaseOps<f64>,
-    for<'a> &'a L::Watched: RefOps<L::Watched>,
-    S: Scenario,
-{
+impl<'s, L: AuditLens, S: Scenario> LensThread<'s, L, S> {
     fn new(scenario: &'s S, plan: &'s Plan) -> Self {
         let (levels, stages) = (scenario.scheme().levels(), scenario.stages());
         LensThread {
@@ -194,12 +213,12 @@ where
     fn initial(&mut self) -> Result<LensStep, Error> {
         let _ = collect(); // nothing from before the audit belongs to it
         let mut watched = self.twin.convert(Lens::watched);
-        self.scenario.init(&mut watched)?;
+        L::init_watched(self.scenario, &mut watched)?;
         let (events, _) = collect(); // the watched variant notes nothing
         self.twin = watched.convert(Lens::unwatched);
         self.scenario.init_original(&mut self.original)?;
         if let Some(compiled) = self.compiled.as_mut() {
-            with_literal_mode(LiteralMode::AsCompiled, || self.scenario.init(compiled))?;
+            with_literal_mode(LiteralMode::AsCompiled, || L::init_unwatched(self.scenario, compiled))?;
         }
         let _ = collect();
         let measured = self.observe(0, events);
@@ -210,12 +229,12 @@ where
     /// One step `n → n + 1` of the lens, the original and the compiled-literal run, measured.
     fn advance(&mut self, n: u64) -> LensStep {
         (self.twin.step, self.original.step) = (n, n);
-        self.scenario.step(&mut self.twin);
+        L::step_unwatched(self.scenario, &mut self.twin);
         let (events, noted) = collect();
         self.scenario.step_original(&mut self.original);
         if let Some(compiled) = self.compiled.as_mut() {
             compiled.step = n;
-            with_literal_mode(LiteralMode::AsCompiled, || self.scenario.step(compiled));
+            with_literal_mode(LiteralMode::AsCompiled, || L::step_unwatched(self.scenario, compiled));
             compiled.rotate();
         }
         // The original and the compiled-literal run record nothing of interest: their events are dropped.
@@ -240,7 +259,7 @@ where
         let mut events = Vec::new();
         for k in checkpoint.step..=step {
             watched.step = k;
-            self.scenario.step(&mut watched);
+            L::step_watched(self.scenario, &mut watched);
             events = crate::events::drain();
             watched.rotate();
         }
