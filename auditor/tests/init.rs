@@ -127,21 +127,21 @@ fn library_kernel_harness_is_written_then_built_and_run() {
 
 #[test]
 fn method_and_module_kernels_of_a_crate_without_library() {
-    let krate = copy_fixture("cable_bin", "cable");
-    let output = init(&krate, "src/cable.rs::Cable::step", &[]);
+    let krate = copy_fixture("fin_bin", "fin");
+    let output = init(&krate, "src/fin.rs::Fin::step", &[]);
     assert_eq!(output.status.code(), Some(0), "{}", stderr(&output));
     insta::assert_snapshot!(
-        "init_cable_step_harness",
-        std::fs::read_to_string(krate.join("examples/twinstep_cable_step.rs")).unwrap()
+        "init_fin_step_harness",
+        std::fs::read_to_string(krate.join("examples/twinstep_fin_step.rs")).unwrap()
     );
-    let output = init(&krate, "src/cable.rs::wave::leapfrog", &[]);
+    let output = init(&krate, "src/fin.rs::wave::leapfrog", &[]);
     assert_eq!(output.status.code(), Some(0), "{}", stderr(&output));
     assert!(stdout(&output).contains("already depends on twinstep"), "{}", stdout(&output));
     insta::assert_snapshot!(
         "init_wave_leapfrog_harness",
         std::fs::read_to_string(krate.join("examples/twinstep_wave_leapfrog.rs")).unwrap()
     );
-    insta::assert_snapshot!("init_cable_bin_manifest", manifest(&krate));
+    insta::assert_snapshot!("init_fin_bin_manifest", manifest(&krate));
 }
 
 #[test]
