@@ -181,7 +181,7 @@ fn recorder_in_a_users_own_loop() {
     assert_eq!(trace, twinstep::trace::read(&path).unwrap());
     // 1 − 10 × (1/10) = 0 exactly (arithmetic), while ten subtractions of the double 0.1 leave a residue: the
     // fold's comparison first becomes undecidable at step 10.
-    let first = trace.events.iter().find(|e| e.kind == EventName::BranchInstability).unwrap();
+    let first = trace.events.iter().find(|e| e.kind == EventName::UndecidedComparison).unwrap();
     assert_eq!(first.step, 10);
     assert!(first.site.as_ref().unwrap().file.ends_with("kernels.rs"));
     assert_eq!(trace.steps.last().unwrap().step, 30);

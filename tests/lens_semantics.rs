@@ -1,5 +1,5 @@
 //! What every lens promises besides its reference: the primal is the float program's value bit for bit,
-//! comparisons and integer conversions follow it and report instabilities, non-finite results are events, and
+//! comparisons and integer conversions follow it and report undecided comparisons and indices, non-finite results are events, and
 //! the literal modes switch what a literal's reference holds.
 
 use twinstep::events::{drain, EventKind};
@@ -82,7 +82,7 @@ fn index_conversion_reports_an_integer_the_reference_allows() {
     let near_three = Bound::new(3.0, 1e-9);
     assert_eq!(near_three.to_i128(), 3);
     let events = drain();
-    assert!(events.iter().any(|(k, _, _)| *k == EventKind::IndexInstability), "{events:?}");
+    assert!(events.iter().any(|(k, _, _)| *k == EventKind::UndecidedIndex), "{events:?}");
     assert_eq!(Bound::new(3.5, 1e-9).to_i128(), 3);
     assert!(drain().is_empty());
 }
@@ -135,9 +135,9 @@ fn unwatched_lenses_skip_only_the_non_finite_events() {
     assert!(nan.primal().is_nan());
     let _ = ShadowUnwatched::from_f64(f64::MAX) * 2.0;
     assert!(drain().is_empty());
-    // Branch instabilities are still recorded.
+    // Undecided comparisons are still recorded.
     let _ = BoundUnwatched::new(1.0, 1e-9) < BoundUnwatched::from_f64(1.0);
     let kinds: Vec<EventKind> = drain().into_iter().map(|(k, _, _)| k).collect();
-    assert_eq!(kinds, vec![EventKind::BranchInstability]);
+    assert_eq!(kinds, vec![EventKind::UndecidedComparison]);
     assert_eq!(<BoundUnwatched as Lens>::NAME, "bound-unwatched");
 }

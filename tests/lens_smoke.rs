@@ -19,7 +19,7 @@ fn one_tenth_as_written() {
 }
 
 #[test]
-fn comparison_records_branch_instability_at_the_callers_line() {
+fn comparison_records_an_undecided_comparison_at_the_callers_line() {
     let _ = drain();
     let x = Bound::new(1.0, 1e-10);
     let y = Bound::from_f64(1.0 + 1e-12);
@@ -28,6 +28,6 @@ fn comparison_records_branch_instability_at_the_callers_line() {
     assert!(below);
     let events = drain();
     assert_eq!(events.len(), 1, "{events:?}");
-    assert_eq!(events[0].0, EventKind::BranchInstability);
+    assert_eq!(events[0].0, EventKind::UndecidedComparison);
     assert_eq!(events[0].1.line, line);
 }

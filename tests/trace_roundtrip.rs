@@ -36,7 +36,7 @@ fn written_trace_reads_back_identical() {
     assert_eq!(read.steps.len(), 2 * 41);
     // 1 − 0.1·10 is 0 in exact arithmetic, the double 0.1 is not a tenth (IEEE 754-2019 binary64 has no exact
     // tenth): the fold's comparison at step 10 is undecidable for the bound lens.
-    assert!(read.events.iter().any(|e| e.kind == EventName::BranchInstability && e.site.is_some()));
+    assert!(read.events.iter().any(|e| e.kind == EventName::UndecidedComparison && e.site.is_some()));
 
     let text = std::fs::read_to_string(&path).unwrap();
     let lines: Vec<&str> = text.lines().collect();
