@@ -457,14 +457,20 @@ arithmetic",
                     format::error(r)
                 )
             });
-            blocks.push(Block::Paragraph {
-                text: format!(
-                    "Worst field: {} (lens {lens}): at step {step} the largest error is {} in cell {:?}, {} of what \
-the tolerance allows, {} correct bits{representation}.",
-                    f.name,
+            let what = if f.max_err.is_finite() {
+                format!(
+                    "the largest error is {} in cell {:?}, {} of what the tolerance allows",
                     format::error(f.max_err),
                     f.worst_cell,
-                    format::ratio(severity(f.tol_ratio)),
+                    format::ratio(severity(f.tol_ratio))
+                )
+            } else {
+                format!("its error estimate is lost (not a finite number) in cell {:?}", f.worst_cell)
+            };
+            blocks.push(Block::Paragraph {
+                text: format!(
+                    "Worst field: {} (lens {lens}): at step {step} {what}, {} correct bits{representation}.",
+                    f.name,
                     format::bits(f.correct_bits)
                 ),
             });
@@ -545,7 +551,7 @@ the tolerance allows, {} correct bits{representation}.",
                             Cell::plain(f.name.clone()),
                             Cell::plain(format::error(f.max_err)),
                             Cell::plain(format::error(f.mean_err)),
-                            Cell::plain(format::ratio(f.max_rel_err)),
+                            Cell::plain(format::error(f.max_rel_err)),
                             Cell::plain(format::bound(self.bound_cell(lens, f))),
                             Cell::plain(format::bits(f.correct_bits)),
                             Cell::plain(format!("{:?}", f.worst_cell)),
@@ -612,11 +618,9 @@ the tolerance allows, {} correct bits{representation}.",
             _ => Tone::Warn,
         };
         let title = Some("Events".to_owned());
-        if let Some(summary) = &self.trace.summary {
-            let totals = &summary.event_totals;
-            if totals.is_empty() {
-                return Section::new(SectionKind::Events, title, totals, vec![no_events()]);
-            }
+        // The totals count every event of the run; a trace without them (an incomplete run, or one written before
+        // totals existed) lists the event records it has.
+        if let Some(totals) = self.trace.summary.as_ref().map(|s| &s.event_totals).filter(|t| !t.is_empty()) {
             let head = ["event", "kind", "lens", "field", "site", "count", "steps", "first step", "last step"];
             let mut align = vec![Align::Left; 5];
             align.extend([Align::Right; 4]);
@@ -638,7 +642,6 @@ the tolerance allows, {} correct bits{representation}.",
                 .collect();
             return Section::new(SectionKind::Events, title, totals, vec![Block::Table { head: strings(&head), align, rows }]);
         }
-        // An incomplete run has no totals: the event records it wrote, as far as they go.
         let events = &self.trace.events;
         if events.is_empty() {
             return Section::new(SectionKind::Events, title, events, vec![no_events()]);
@@ -926,6 +929,10 @@ fn digit_text(d: &DigitFinding) -> String {
 is at least the largest value of the field{}.",
             format::bound(Some(*bound)),
             if *estimates == 0 { String::new() } else { ", and the estimates agree".to_owned() }
+        ),
+        DigitFinding::NoDigit { field, step, lens, bound, .. } if !bound.is_finite() => format!(
+            "field {field} at step {step}: no digit of the f64 result is guaranteed (lens {lens}'s bound \
+overflowed); the estimates give more, without a guarantee."
         ),
         DigitFinding::NoDigit { field, step, lens, bound, .. } => format!(
             "field {field} at step {step}: no digit of the f64 result is guaranteed (lens {lens}'s bound {} is at \

@@ -88,7 +88,8 @@ pub fn times(x: f64) -> String {
 #[must_use]
 pub fn bits(x: f64) -> String {
     if x.is_finite() {
-        format!("{x:.1}")
+        // `+ 0.0` turns −0 (a clamp of −0.0 bits) into +0, so the report never reads "-0.0 correct bits".
+        format!("{:.1}", x + 0.0)
     } else {
         ABSENT.to_owned()
     }

@@ -18,6 +18,7 @@ pub fn render_analysis(analysis: &Analysis<'_>) -> String {
         match (section.kind, &section.title) {
             (SectionKind::Run, Some(title)) => out.push_str(&format!("{title}\n")),
             (SectionKind::Caution, _) => out.push_str("\nNote. "),
+            (SectionKind::Figures, _) => {}
             (_, Some(title)) => out.push_str(&format!("\n{title}\n")),
             (_, None) => out.push('\n'),
         }

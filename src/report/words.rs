@@ -26,7 +26,7 @@ fn basis(b: Basis) -> &'static str {
 fn against_allowed(err: f64, allowed: f64) -> String {
     match (err.is_finite(), allowed.is_finite() && allowed > 0.0) {
         (true, true) => format!("{} against {} allowed", format::error(err), format::error(allowed)),
-        (false, _) => "its estimate is lost (not a finite number: the field overflowed or holds NaN)".to_owned(),
+        (false, _) => "its estimate is lost (not a finite number: the field overflowed or stopped being a number)".to_owned(),
         (true, false) => format!("{}, where the tolerance allows no error", format::error(err)),
     }
 }
@@ -219,17 +219,27 @@ pub fn headline(worst: Option<&Outcome>, early_bounds: &[(String, String, u64)])
     let Some(worst) = worst else {
         return "No step records an error ratio, so no field can be judged against the tolerance.".to_owned();
     };
-    let ratio = format::ratio_opt(worst.peak_tol_ratio);
+    let ratio = match worst.peak_tol_ratio {
+        Some(r) if r.is_finite() => format!("up to {} what the tolerance allows", format::times(r)),
+        Some(_) => "beyond any finite multiple of what the tolerance allows".to_owned(),
+        None => "no ratio to the tolerance recorded".to_owned(),
+    };
+    let lost = worst.final_max_err.is_some_and(|e| !e.is_finite());
     let err = format::error_opt(worst.final_max_err);
-    let mut line = match worst.first_crossing {
-        Some(step) => format!(
+    let mut line = match (worst.first_crossing, lost) {
+        (Some(step), false) => format!(
             "Field `{}` drifts most: under the {} lens its rounding error crosses the tolerance at step {step} and \
-reaches {err} (up to {ratio} times what the tolerance allows).",
+reaches {err} ({ratio}).",
             worst.field, worst.lens
         ),
-        None => format!(
-            "No field crosses the tolerance. The closest is `{}` under the {} lens: final rounding error {err}, at \
-most {ratio} times what the tolerance allows.",
+        (Some(step), true) => format!(
+            "Field `{}` drifts most: under the {} lens its rounding error crosses the tolerance at step {step}, and \
+by the last recorded step its estimate is lost, not a finite number ({ratio}).",
+            worst.field, worst.lens
+        ),
+        (None, _) => format!(
+            "No field crosses the tolerance. The closest is `{}` under the {} lens: final rounding error {err}, \
+{ratio}.",
             worst.field, worst.lens
         ),
     };

@@ -321,14 +321,16 @@ pub fn heat_map(field: &str, lens: &str, profiles: &[&Profile], ceiling: f64) ->
         let mut parts = Vec::new();
         if above > 0 {
             parts.push(format!(
-                "the colour scale stops at 1e{top:.1} (three decades above the largest error the judging lenses reach \
-                 and the absolute tolerance); {above} of {total} cells lie above it and are drawn in the top colour"
+                "the colour scale stops at {} (three decades above the largest error the judging lenses reach and \
+                 the absolute tolerance); {above} of {total} cells lie above it and are drawn in the top colour",
+                twinstep::report::format::error(10f64.powf(top))
             ));
         }
         if below > 0 {
             parts.push(format!(
-                "it spans at most {MAX_DECADES} decades; {below} of {total} cells lie below 1e{bottom:.1} and are drawn \
-                 in the bottom colour"
+                "it spans at most {MAX_DECADES} decades; {below} of {total} cells lie below {} and are drawn in the \
+                 bottom colour",
+                twinstep::report::format::error(10f64.powf(bottom))
             ));
         }
         format!("Clipped: {}.", parts.join("; "))
