@@ -15,6 +15,8 @@ fn one_tenth_as_written() {
     let s = Shadow::lit(0.1, Reference::of_decimal("0.1").unwrap(), literal_mode());
     assert_eq!(s.error_estimate(), excess);
     let i = Interval::lit(0.1, Reference::of_decimal("0.1").unwrap(), literal_mode());
+    // fl(0.1) lies above 1/10 (the excess just computed is positive), so the tightest enclosure of 1/10 in doubles
+    // is [pred(fl(0.1)), fl(0.1)] (IEEE 1788-2015 asks for the tightest, §12.12.8 for the inf-sup form, from memory).
     assert!(i.enclosure().inf() < 0.1 && i.enclosure().sup() == 0.1);
 }
 

@@ -151,8 +151,10 @@ pub fn gate(trace: &Trace, tolerance: Option<Tolerance>, lenses: &[String]) -> G
             "pass: every field stays within tolerance ({tolerance}) for all {steps} steps (lenses judged: {})",
             judged_by.join(", ")
         ));
+        lines.push(format!("note: {}", crate::analysis::CAUTION));
         GateOutcome { passed: true, lines }
     } else {
+        lines.push(format!("note: {}", crate::analysis::CAUTION));
         GateOutcome { passed: false, lines }
     }
 }

@@ -20,8 +20,8 @@ use twinstep::{BaseOps, MixedOps, Real, RefOps};
 use twinstep_cli::report::{render, Format};
 
 /// An explicit heat scheme on 16 cells with `r = 1/2`, ends held: the Bound lens's radius grows by about
-/// `1 + 4r = 3` per step (the dependency effect of enclosure arithmetic: the stencil reads `u[i]` twice; DESIGN's
-/// note is restated in docs/lenses.md), so it passes 10¹⁷⁰ within 400 steps and overflows before 800
+/// `1 + 4r = 3` per step (the dependency effect of enclosure arithmetic: the stencil reads `u[i]` twice;
+/// docs/lenses.md, "The dependency effect: bound versus shadow"), so it passes 10¹⁷⁰ within 400 steps and overflows before 800
 /// (3⁸⁰⁰·10⁻¹⁶ > 1.8·10³⁰⁸, the largest double, IEEE 754-2019 Table 3.5), while the shadow stays at rounding level.
 struct Runaway;
 

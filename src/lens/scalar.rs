@@ -7,7 +7,7 @@
 //! `Sum`/`Product`, `Zero`/`One`/`Default` and the whole [`crate::Real`] trait. Operators and comparisons are `#[track_caller]` so
 //! that events land at the user's own source line.
 //!
-//! Semantics shared by all lenses (DESIGN §3): branches, `max`/`min`, rounding to integers and integer
+//! Semantics shared by all lenses (docs/lenses.md, "Branches, integer conversions and events"): branches, `max`/`min`, rounding to integers and integer
 //! conversions follow the primal; when the reference cannot decide them the same way, a
 //! [`EventKind::UndecidedComparison`] or [`EventKind::UndecidedIndex`] is recorded, and the result continues
 //! along the primal's path. An operation whose primal becomes NaN or infinite from finite operands records
