@@ -74,10 +74,11 @@ pub fn ratio_opt(x: Option<f64>) -> String {
     x.map_or_else(|| ABSENT.to_owned(), ratio)
 }
 
-/// How many times larger one magnitude is than another, for a sentence: `614.9 times`, `6.0e89 times`.
+/// How many times larger one magnitude is than another, for a sentence: `614.9 times`, `6.0e89 times`, and below 1
+/// as a ratio (`0.010 times`), where one decimal would round it to nothing.
 #[must_use]
 pub fn times(x: f64) -> String {
-    if x.is_finite() && (1e-3..1e3).contains(&x.abs()) {
+    if x.is_finite() && (1.0..1e3).contains(&x.abs()) {
         format!("{x:.1} times")
     } else {
         format!("{} times", ratio(x))
@@ -106,6 +107,7 @@ mod tests {
         assert_eq!(ratio(6.0e89), "6.0e89");
         assert_eq!(times(6.0e89), "6.0e89 times");
         assert_eq!(times(614.92), "614.9 times");
+        assert_eq!(times(0.0104), "0.010 times");
         assert_eq!(ratio(0.958), "0.958");
         assert_eq!(ratio(2.3e-5), "2.3e-5");
         assert_eq!(ratio(0.0), "0");
