@@ -157,7 +157,15 @@ pub enum Finding {
     /// No lens and field had a usable measurement.
     NoMeasurement,
     /// A judging lens and field leaves the tolerance at `step`, `observed` or extrapolated by `growth`.
-    Crosses { lens: String, field: String, step: u64, observed: bool, growth: Option<Growth>, final_max_err: f64, allowed_at_end: f64 },
+    Crosses {
+        lens: String,
+        field: String,
+        step: u64,
+        observed: bool,
+        growth: Option<Growth>,
+        final_max_err: f64,
+        allowed_at_end: f64,
+    },
     /// Every judging lens and field stays within tolerance; this one comes closest.
     Within { lens: String, field: String, final_max_err: f64, allowed_at_end: f64, growth: Option<Growth> },
 }

@@ -138,17 +138,17 @@ proptest! {
         for &t in &terms[1..] {
             if multiply {
                 computed *= t;
-                exact = exact * rational(t);
+                exact *= rational(t);
             } else {
                 computed += t;
-                exact = exact + rational(t);
+                exact += rational(t);
             }
         }
         prop_assume!(computed.is_normal());
         let k = i32::try_from(terms.len() - 1).expect("few terms");
         let mut factor = RBig::ONE;
         for _ in 0..k {
-            factor = factor * (RBig::ONE - u());
+            factor *= RBig::ONE - u();
         }
         prop_assert!(rational(computed) >= factor * exact);
     }
@@ -169,7 +169,7 @@ fn rounding_bound_holds(a: f64, b: f64) {
         let error = magnitude(&(rational(computed) - &exact));
         let mut bound = u() * magnitude(&rational(computed));
         if subnormal_term {
-            bound = bound + &half_eta;
+            bound += &half_eta;
         }
         assert!(error <= bound, "{a:e} and {b:e}: {computed:e}");
     }

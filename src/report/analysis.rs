@@ -82,7 +82,15 @@ pub struct BoundComparison {
 pub enum DigitFinding {
     /// The guaranteed bound is at least the field's largest value: no digit is guaranteed; `estimates_agree` when
     /// every estimate of the field also keeps less than one bit (over the field).
-    NoDigit { field: String, step: u64, lens: String, bound: f64, max_abs: f64, estimates: usize, estimates_agree: bool },
+    NoDigit {
+        field: String,
+        step: u64,
+        lens: String,
+        bound: f64,
+        max_abs: f64,
+        estimates: usize,
+        estimates_agree: bool,
+    },
     /// An estimate puts its value further from the primal than the guaranteed bound allows: it is wrong there.
     EstimateWrong { field: String, step: u64, lens: String, estimate: f64, bound_lens: String, bound: f64 },
 }
@@ -144,13 +152,28 @@ pub enum Align {
 #[serde(tag = "block", rename_all = "snake_case")]
 pub enum Block {
     /// Key–value lines.
-    Facts { facts: Vec<(String, String)> },
+    Facts {
+        facts: Vec<(String, String)>,
+    },
     /// Something the reader must notice first.
-    Notice { text: String },
+    Notice {
+        text: String,
+    },
     /// The verdict: a short label (`ENOUGH UNTIL STEP 41`), its sentence, tone and explanation.
-    Verdict { label: String, line: String, tone: Tone, explanation: String },
-    Paragraph { text: String },
-    Table { head: Vec<String>, align: Vec<Align>, rows: Vec<Vec<Cell>> },
+    Verdict {
+        label: String,
+        line: String,
+        tone: Tone,
+        explanation: String,
+    },
+    Paragraph {
+        text: String,
+    },
+    Table {
+        head: Vec<String>,
+        align: Vec<Align>,
+        rows: Vec<Vec<Cell>>,
+    },
     /// Where formats that draw plots put them; the others skip it.
     Figures,
 }
@@ -350,13 +373,22 @@ impl<'a> Analysis<'a> {
     /// The per-step rows, in trace order.
     #[must_use]
     pub fn rows(&self) -> Vec<Row> {
-        self.trace.steps.iter().flat_map(|step| step.fields.iter().map(move |f| row(step.step, &step.lens, f))).collect()
+        self.trace
+            .steps
+            .iter()
+            .flat_map(|step| step.fields.iter().map(move |f| row(step.step, &step.lens, f)))
+            .collect()
     }
 
     fn lay_out(&self) -> Vec<Section> {
         let mut sections = vec![self.run_section()];
         if let Some(notice) = &self.notice {
-            sections.push(Section::new(SectionKind::Notice, None, notice, vec![Block::Notice { text: notice.clone() }]));
+            sections.push(Section::new(
+                SectionKind::Notice,
+                None,
+                notice,
+                vec![Block::Notice { text: notice.clone() }],
+            ));
         }
         sections.push(self.verdict_section());
         sections.push(self.drift_section());
@@ -367,7 +399,12 @@ impl<'a> Analysis<'a> {
         }
         if !self.digits.is_empty() {
             let blocks = self.digits.iter().map(|d| Block::Paragraph { text: digit_text(d) }).collect();
-            sections.push(Section::new(SectionKind::Digits, Some("Digits and consistency".into()), &self.digits, blocks));
+            sections.push(Section::new(
+                SectionKind::Digits,
+                Some("Digits and consistency".into()),
+                &self.digits,
+                blocks,
+            ));
         }
         sections.push(Section::new(SectionKind::Figures, None, (), vec![Block::Figures]));
         sections.push(self.events_section());
@@ -446,9 +483,9 @@ impl<'a> Analysis<'a> {
 
     fn drift_section(&self) -> Section {
         let mut blocks = vec![Block::Paragraph { text: self.headline.clone() }];
-        let last = self.worst().and_then(|w| {
-            finals(self.trace).into_iter().find(|(lens, _, f)| *lens == w.lens && f.name == w.field)
-        });
+        let last = self
+            .worst()
+            .and_then(|w| finals(self.trace).into_iter().find(|(lens, _, f)| *lens == w.lens && f.name == w.field));
         if let Some((lens, step, f)) = last {
             let representation = f.representation_err.map_or_else(String::new, |r| {
                 format!(
@@ -522,7 +559,16 @@ arithmetic",
         ];
         let complete = self.trace.is_complete();
         let rows = self.outcomes.iter().map(|o| outcome_row(o, complete)).collect();
-        let align = vec![Align::Left, Align::Left, Align::Right, Align::Right, Align::Right, Align::Left, Align::Left, Align::Right];
+        let align = vec![
+            Align::Left,
+            Align::Left,
+            Align::Right,
+            Align::Right,
+            Align::Right,
+            Align::Left,
+            Align::Left,
+            Align::Right,
+        ];
         Section::new(
             SectionKind::Outcomes,
             Some("Fields".into()),
@@ -561,7 +607,8 @@ arithmetic",
                 })
                 .collect();
             let title = format!("Error by step, lens {lens} ({} of {} recorded steps shown)", shown.len(), steps.len());
-            let data = serde_json::json!({ "lens": lens, "shown_steps": shown.iter().map(|s| s.step).collect::<Vec<_>>() });
+            let data =
+                serde_json::json!({ "lens": lens, "shown_steps": shown.iter().map(|s| s.step).collect::<Vec<_>>() });
             sections.push(Section::new(
                 SectionKind::Steps,
                 Some(title),
@@ -611,7 +658,8 @@ arithmetic",
     }
 
     fn events_section(&self) -> Section {
-        let site = |s: &Option<crate::trace::SiteRecord>| s.as_ref().map_or(format::ABSENT.to_owned(), ToString::to_string);
+        let site =
+            |s: &Option<crate::trace::SiteRecord>| s.as_ref().map_or(format::ABSENT.to_owned(), ToString::to_string);
         let field = |f: &Option<String>| f.clone().unwrap_or_else(|| format::ABSENT.to_owned());
         let tone = |kind: EventName| match kind {
             EventName::Nan | EventName::Infinity | EventName::ToleranceCrossed | EventName::PrimalMismatch => Tone::Bad,
@@ -640,14 +688,28 @@ arithmetic",
                     ]
                 })
                 .collect();
-            return Section::new(SectionKind::Events, title, totals, vec![Block::Table { head: strings(&head), align, rows }]);
+            return Section::new(
+                SectionKind::Events,
+                title,
+                totals,
+                vec![Block::Table { head: strings(&head), align, rows }],
+            );
         }
         let events = &self.trace.events;
         if events.is_empty() {
             return Section::new(SectionKind::Events, title, events, vec![no_events()]);
         }
         let head = ["step", "event", "kind", "lens", "field", "site", "count", "detail"];
-        let align = vec![Align::Right, Align::Left, Align::Left, Align::Left, Align::Left, Align::Left, Align::Right, Align::Left];
+        let align = vec![
+            Align::Right,
+            Align::Left,
+            Align::Left,
+            Align::Left,
+            Align::Left,
+            Align::Left,
+            Align::Right,
+            Align::Left,
+        ];
         let rows = events
             .iter()
             .take(MAX_LISTED_EVENTS)
@@ -778,7 +840,11 @@ fn outcome_row(o: &Outcome, complete: bool) -> Vec<Cell> {
         // A guaranteed lens's error is its bound, which may run away while the error does not: say which it is.
         Cell::plain(if o.guaranteed { format!("{} (guaranteed)", o.lens) } else { o.lens.clone() }),
         Cell::plain(format::error_opt(o.final_max_err)),
-        Cell::plain(if o.guaranteed { format::bound(Some(o.final_bound.unwrap_or(f64::INFINITY))) } else { format::bound(o.final_bound) }),
+        Cell::plain(if o.guaranteed {
+            format::bound(Some(o.final_bound.unwrap_or(f64::INFINITY)))
+        } else {
+            format::bound(o.final_bound)
+        }),
         Cell { text: format::ratio_opt(o.peak_tol_ratio), tone: ratio_tone(o.peak_tol_ratio) },
         Cell {
             text: match (o.first_crossing, complete) {
@@ -818,8 +884,11 @@ fn comparisons(outcomes: &[Outcome]) -> Vec<BoundComparison> {
 }
 
 fn comparison_text(c: &BoundComparison) -> String {
-    let source =
-        if c.estimate_lens == c.lens { format!("lens {}'s own estimate", c.lens) } else { format!("estimate of lens {}", c.estimate_lens) };
+    let source = if c.estimate_lens == c.lens {
+        format!("lens {}'s own estimate", c.lens)
+    } else {
+        format!("estimate of lens {}", c.estimate_lens)
+    };
     let how = if !c.bound.is_finite() {
         "the bound overflowed".to_owned()
     } else if !c.estimate.is_finite() {
@@ -969,8 +1038,10 @@ pub fn notes(events: &[EventRecord], totals: &[EventTotal]) -> Vec<Note> {
             estimate: lost.estimate,
         });
     }
-    let undecided: Vec<&EventTotal> =
-        totals.iter().filter(|t| matches!(t.kind, EventName::UndecidedComparison | EventName::UndecidedIndex)).collect();
+    let undecided: Vec<&EventTotal> = totals
+        .iter()
+        .filter(|t| matches!(t.kind, EventName::UndecidedComparison | EventName::UndecidedIndex))
+        .collect();
     if let Some(first) = undecided.iter().min_by_key(|t| t.first_step) {
         let sites: std::collections::BTreeSet<_> = undecided.iter().filter_map(|t| t.site.as_ref()).collect();
         notes.push(Note::UndecidedPaths {

@@ -26,7 +26,9 @@ fn basis(b: Basis) -> &'static str {
 fn against_allowed(err: f64, allowed: f64) -> String {
     match (err.is_finite(), allowed.is_finite() && allowed > 0.0) {
         (true, true) => format!("{} against {} allowed", format::error(err), format::error(allowed)),
-        (false, _) => "its estimate is lost (not a finite number: the field overflowed or stopped being a number)".to_owned(),
+        (false, _) => {
+            "its estimate is lost (not a finite number: the field overflowed or stopped being a number)".to_owned()
+        }
         (true, false) => format!("{}, where the tolerance allows no error", format::error(err)),
     }
 }

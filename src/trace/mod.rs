@@ -294,7 +294,12 @@ pub const EVENT_NAMES: [EventNaming; 8] = [
         version_1_name: None,
         wording: "tolerance crossed",
     },
-    EventNaming { kind: EventName::BoundLost, name: "bound_lost", version_1_name: None, wording: "guaranteed bound lost" },
+    EventNaming {
+        kind: EventName::BoundLost,
+        name: "bound_lost",
+        version_1_name: None,
+        wording: "guaranteed bound lost",
+    },
     EventNaming {
         kind: EventName::PrimalMismatch,
         name: "primal_mismatch",

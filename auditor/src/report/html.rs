@@ -94,8 +94,7 @@ fn figures(analysis: &Analysis<'_>, out: &mut String) {
                 continue;
             }
             shown_heat_map = true;
-            let outcomes: Vec<Outcome> =
-                analysis.outcomes.iter().filter(|o| o.field == field.name).cloned().collect();
+            let outcomes: Vec<Outcome> = analysis.outcomes.iter().filter(|o| o.field == field.name).cloned().collect();
             let ceiling = plots::ceiling(&outcomes, analysis.trace.header.tolerance);
             let caption = format!(
                 "Field `{}`, {lens} lens: where along the field the rounding error sits, step by step (rows at the \
@@ -126,7 +125,8 @@ fn figures(analysis: &Analysis<'_>, out: &mut String) {
 /// Writes the report as one HTML page.
 #[must_use]
 pub fn render(analysis: &Analysis<'_>) -> String {
-    let title = analysis.sections.iter().find(|s| s.kind == SectionKind::Run).and_then(|s| s.title.clone()).unwrap_or_default();
+    let title =
+        analysis.sections.iter().find(|s| s.kind == SectionKind::Run).and_then(|s| s.title.clone()).unwrap_or_default();
     let mut out = format!(
         "<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n<title>{}</title>\n<style>{STYLE}</style>\n\
          </head>\n<body>\n",
@@ -172,7 +172,11 @@ pub fn render(analysis: &Analysis<'_>) -> String {
                     for row in rows {
                         out.push_str("<tr>");
                         for cell in row {
-                            out.push_str(&format!("<td class=\"{}\">{}</td>", tone_class(cell.tone), escape(&cell.text)));
+                            out.push_str(&format!(
+                                "<td class=\"{}\">{}</td>",
+                                tone_class(cell.tone),
+                                escape(&cell.text)
+                            ));
                         }
                         out.push_str("</tr>\n");
                     }

@@ -215,8 +215,10 @@ pub fn field_errors(field: &str, outcomes: &[Outcome], tolerance: Tolerance) -> 
 /// Every field and lens as `err / allowed`, against the tolerance line at 1: which field crosses, and when.
 pub fn tolerance_ratios(outcomes: &[Outcome]) -> Result<Option<String>, String> {
     // As in `field_errors`: three decades above what the judging lenses reach (and above the line at 1).
-    let ceiling =
-        1e3 * judging(outcomes).flat_map(|o| o.points.iter().filter_map(|p| positive(Some(p.tol_ratio)))).fold(1.0, f64::max);
+    let ceiling = 1e3
+        * judging(outcomes)
+            .flat_map(|o| o.points.iter().filter_map(|p| positive(Some(p.tol_ratio))))
+            .fold(1.0, f64::max);
     let lines: Vec<Line> = outcomes
         .iter()
         .enumerate()
@@ -314,9 +316,8 @@ pub fn heat_map(field: &str, lens: &str, profiles: &[&Profile], ceiling: f64) ->
     let top = if ceiling.is_finite() && ceiling > 0.0 { hi.min(ceiling.log10()) } else { hi };
     let bottom = lo.max(top - f64::from(MAX_DECADES)).min(top);
     let cells = grid.iter().flat_map(|(_, v)| v.iter().flatten());
-    let (above, below, total) = cells.fold((0usize, 0usize, 0usize), |(a, b, t), &v| {
-        (a + usize::from(v > top), b + usize::from(v < bottom), t + 1)
-    });
+    let (above, below, total) = cells
+        .fold((0usize, 0usize, 0usize), |(a, b, t), &v| (a + usize::from(v > top), b + usize::from(v < bottom), t + 1));
     let clip = (above + below > 0).then(|| {
         let mut parts = Vec::new();
         if above > 0 {

@@ -41,7 +41,10 @@ pub fn json(analysis: &Analysis<'_>) -> String {
         tolerance: &trace.header.tolerance,
         verdict: trace.summary.as_ref().map(|s| &s.verdict),
         verdict_view: analysis.verdict.as_ref(),
-        verdict_line: analysis.verdict.as_ref().map_or_else(|| twinstep::report::words::verdict_line(None), |v| v.line.clone()),
+        verdict_line: analysis
+            .verdict
+            .as_ref()
+            .map_or_else(|| twinstep::report::words::verdict_line(None), |v| v.line.clone()),
         outcomes: &analysis.outcomes,
         events: &trace.events,
         sections: &analysis.sections,
@@ -77,7 +80,8 @@ fn csv_value(value: Option<&serde_json::Value>) -> String {
 /// [`ROW_COLUMNS`], then one line per row. Readers that do not skip comments can drop the lines before the header.
 #[must_use]
 pub fn csv(analysis: &Analysis<'_>) -> String {
-    let verdict = analysis.verdict.as_ref().map_or_else(|| twinstep::report::words::verdict_line(None), |v| v.line.clone());
+    let verdict =
+        analysis.verdict.as_ref().map_or_else(|| twinstep::report::words::verdict_line(None), |v| v.line.clone());
     let mut out = format!(
         "# twinstep per-step rounding error rows of {} (one row per recorded step, lens and field; docs/cli.md)\n\
          # verdict: {verdict}\n# {CAUTION}\n",

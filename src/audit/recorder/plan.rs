@@ -79,4 +79,3 @@ impl LensInfo {
         LensInfo { name: L::NAME, guaranteed: L::GUARANTEED }
     }
 }
-

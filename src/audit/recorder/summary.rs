@@ -36,11 +36,8 @@ pub(super) fn summarize(recorder: &Recorder) -> Summary {
             // The error the tolerance allowed at the worst cell: err / (err / allowed), when both are finite numbers;
             // otherwise (an error that overflowed, a ratio of 0) what the tolerance allows at the largest |u|.
             let quotient = last.max_err / last.tol_ratio;
-            let allowed_at_end = if last.tol_ratio > 0.0 && quotient.is_finite() {
-                quotient
-            } else {
-                tolerance.allowed(last.max_abs)
-            };
+            let allowed_at_end =
+                if last.tol_ratio > 0.0 && quotient.is_finite() { quotient } else { tolerance.allowed(last.max_abs) };
             evidence.push(Evidence {
                 lens: info.name.to_string(),
                 field,
