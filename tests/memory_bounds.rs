@@ -13,41 +13,12 @@
 //! A check that failed would mean the recalled statement is wrong for the code as written, whatever the paper says;
 //! passing shows the statements hold on these operands, not that they are the papers' words.
 
+mod double_word_support;
+
 use dashu_ratio::RBig;
+use double_word_support::{double_word, magnitude, rational, unit_roundoff as u, value};
 use proptest::prelude::*;
 use twinstep::lens::eft::DoubleWord;
-
-fn rational(x: f64) -> RBig {
-    RBig::try_from(x).expect("finite")
-}
-
-fn value(x: DoubleWord) -> RBig {
-    rational(x.hi) + rational(x.lo)
-}
-
-fn magnitude(x: &RBig) -> RBig {
-    if *x < RBig::ZERO {
-        -x.clone()
-    } else {
-        x.clone()
-    }
-}
-
-/// u = 2⁻⁵³, the unit roundoff of binary64 (IEEE 754-2019 Table 3.5, p = 53), exactly.
-fn u() -> RBig {
-    RBig::ONE / RBig::from(2u128.pow(53))
-}
-
-/// The gap from |x| to the next double away from zero (consecutive encodings of same-signed doubles, IEEE
-/// 754-2019 §3.4).
-fn ulp(x: f64) -> f64 {
-    f64::from_bits(x.abs().to_bits() + 1) - x.abs()
-}
-
-/// A normalized double-word number, `lo = fraction · ulp(hi)/2` with `fraction ∈ [−1, 1]`.
-fn double_word(hi: f64, fraction: f64) -> DoubleWord {
-    DoubleWord { hi, lo: fraction * ulp(hi) / 2.0 }
-}
 
 /// Relative error of `computed` against `exact` at most `bound` (all exact rationals).
 fn within(computed: DoubleWord, exact: &RBig, bound: &RBig) -> bool {
