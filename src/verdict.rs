@@ -316,4 +316,21 @@ mod tests {
         let until = v.until_step.unwrap();
         assert!((999_990..=1_000_000).contains(&until), "until {until}");
     }
+
+    #[test]
+    fn estimates_judge_when_there_are_any_and_a_lost_error_ranks_worst() {
+        // The rule of `judging` (docs/cli.md, "Which lenses judge"): a guaranteed lens judges only without estimates.
+        let bound = Evidence { guaranteed: true, lens: "bound".into(), ..evidence(None, None) };
+        let both = [bound.clone(), evidence(None, None)];
+        let (basis, judges) = judging(&both, |e| e.guaranteed);
+        assert_eq!((basis, judges.len(), judges[0].lens.as_str()), (Basis::Estimate, 1, "shadow"));
+        let (basis, judges) = judging(std::slice::from_ref(&bound), |e| e.guaranteed);
+        assert_eq!((basis, judges.len()), (Basis::Bound, 1));
+        // An error that overflowed (NaN against its allowance) is the closest to the tolerance, not the farthest.
+        let lost = Evidence { field: "w".into(), final_max_err: f64::NAN, ..evidence(None, None) };
+        match decide(&[evidence(None, None), lost], 100, 100).finding {
+            Finding::Within { field, .. } => assert_eq!(field, "w"),
+            other => panic!("{other:?}"),
+        }
+    }
 }
