@@ -45,8 +45,5 @@ pub fn describe(kind: EventName) -> &'static str {
     kind.wording()
 }
 
-/// A number a lens may not have had: NaN (written `null` in the trace) becomes `None`.
-#[must_use]
-pub fn known(value: f64) -> Option<f64> {
-    (!value.is_nan()).then_some(value)
-}
+/// A number a lens may not have had: NaN (written `null` in the trace) becomes `None` (the library's function).
+pub use twinstep::report::analysis::known;
