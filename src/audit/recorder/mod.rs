@@ -7,6 +7,11 @@
 //! after an event, and at the end; repeated events at one site are written at their 1st, 2nd, 4th, 8th …
 //! occurrence and counted in full in the summary's `event_totals`. Under [`RecordPolicy::Every`] nothing is
 //! thinned.
+//!
+//! Three parts: [`plan`] (what an audit is about, checked before a file is created), this module (recording: the
+//! header, step records, events, profiles and the policy that thins them), and [`summary`] (at the end: results,
+//! growth fits, the evidence, the verdict and its notes). Every sentence the recorder writes into the trace — event
+//! details, the verdict text — comes from `crate::report::words`.
 
 mod plan;
 mod summary;
