@@ -1,6 +1,6 @@
 //! A slug of dye carried around a ring pipe: periodic linear advection with a MUSCL reconstruction limited by
 //! minmod, Courant number 0.5, 120 cells. The limiter's comparisons on nearly equal neighbours are exactly where
-//! rounding can flip a branch: the audit reports those branch instabilities with their source sites.
+//! rounding can flip a branch: the audit reports those undecided comparisons with their source sites.
 //!
 //! Run: `cargo run --release --example advection_minmod`.
 

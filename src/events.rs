@@ -10,32 +10,27 @@ use std::cell::RefCell;
 use std::collections::BTreeMap;
 use std::panic::Location;
 
-/// What happened.
+/// What happened. The names a trace and a report use for each kind are in one table, `crate::trace::EventName`.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord, Hash)]
 pub enum EventKind {
-    /// A comparison followed the primal while the reference could not decide it.
-    BranchInstability,
+    /// A comparison followed the primal while the reference could not decide it: exact arithmetic might have
+    /// taken the other branch.
+    UndecidedComparison,
     /// A float→integer conversion followed the primal while the reference allows another integer.
-    IndexInstability,
+    UndecidedIndex,
     /// An operation produced NaN.
     Nan,
     /// An operation produced an infinity from finite operands.
     Infinity,
-    /// A division by a reference that contains zero.
-    DivisionByZeroEnclosure,
+    /// A division whose divisor's reference contains zero: the exact divisor may be zero.
+    DivisorMayBeZero,
 }
 
 impl EventKind {
-    /// The name used in traces and reports.
+    /// The name used in traces and reports (from the one table of `crate::trace::EventName`).
     #[must_use]
     pub fn name(self) -> &'static str {
-        match self {
-            EventKind::BranchInstability => "branch_instability",
-            EventKind::IndexInstability => "index_instability",
-            EventKind::Nan => "nan",
-            EventKind::Infinity => "infinity",
-            EventKind::DivisionByZeroEnclosure => "division_by_zero_enclosure",
-        }
+        crate::trace::EventName::from(self).name()
     }
 }
 

@@ -157,7 +157,7 @@ impl<T, R> RefOps<T> for R where
 ///
 /// Branches, comparisons and float→integer conversions follow [`Real::primal`]: the twin takes the path the float
 /// program takes. A lens whose reference cannot decide a comparison or an integer conversion records an
-/// instability at the caller's source location (the operator impls carry `#[track_caller]`).
+/// undecided comparison at the caller's source location (the operator impls carry `#[track_caller]`).
 pub trait Real:
     Copy
     + Send
@@ -213,7 +213,7 @@ pub trait Real:
     /// The number the float program computes.
     fn primal(self) -> f64;
     /// `self as usize` (and the other integer types): converts the primal with Rust's saturating `as`, and lets a
-    /// lens record an index instability when the reference could convert to another integer.
+    /// lens record an undecided index when the reference could convert to another integer.
     #[track_caller]
     fn to_i128(self) -> i128;
     /// Same as [`Real::to_i128`] for conversions to unsigned types (saturating at 0 as `as` does).

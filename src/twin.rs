@@ -2,7 +2,7 @@
 //!
 //! The rewrite cannot see types, so a cast `x as usize` in a kernel may convert an integer or a float. Both go
 //! through [`IndexCast`]: integers convert exactly as `as` would, and a [`Real`] converts its primal (Rust's
-//! saturating `as`) while a lens records an index instability when its reference rounds to another integer. A cast
+//! saturating `as`) while a lens records an undecided index when its reference rounds to another integer. A cast
 //! into the float type, `n as f64`, goes through [`IntoReal`]: integers round as `as` would in the primal format
 //! and are exact in the reference. A bare constant name whose origin the rewrite cannot see (`PI` after a
 //! file-level `use std::f64::consts::PI`) goes through [`math_constant`].

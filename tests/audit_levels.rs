@@ -152,9 +152,13 @@ fn runge_kutta_stages_match_the_exact_amplification_factor() {
         let truth = rational_to_f64(&(rational(primal) - &exact)).abs();
         if truth > 0.0 {
             nonzero += 1;
+            // The truth is dashu-ratio's exact rational run; agreement to 1e-10 relative is what a ~106-bit shadow
+            // gives an error of relative size ≥ 2^-53 with room for cancellation (common practice, no source).
             assert!((estimate - truth).abs() <= 1e-10 * truth, "step {step}: {estimate:e} vs {truth:e}");
         }
     }
+    // Most of the 60 steps carry rounding error (a count of this run, not a numeric claim: common practice, no
+    // source — the test must not pass on a run where nothing rounds).
     assert!(nonzero > 40);
 }
 
@@ -173,7 +177,7 @@ fn recorder_in_a_users_own_loop() {
     assert_eq!(trace, twinstep::trace::read(&path).unwrap());
     // 1 − 10 × (1/10) = 0 exactly (arithmetic), while ten subtractions of the double 0.1 leave a residue: the
     // fold's comparison first becomes undecidable at step 10.
-    let first = trace.events.iter().find(|e| e.kind == EventName::BranchInstability).unwrap();
+    let first = trace.events.iter().find(|e| e.kind == EventName::UndecidedComparison).unwrap();
     assert_eq!(first.step, 10);
     assert!(first.site.as_ref().unwrap().file.ends_with("kernels.rs"));
     assert_eq!(trace.steps.last().unwrap().step, 30);

@@ -30,8 +30,9 @@ fn report_has_every_section() {
         "Worst field: u",
         "First crossing: step",
         "Guaranteed bound against estimate",
-        "Events:",
-        "branch_instability",
+        "Events",
+        "undecided_comparison",
+        "comparison undecided by rounding",
         "Verdict:",
         "rounding error only, not discretization or modelling error",
         "licensed review",
@@ -39,7 +40,7 @@ fn report_has_every_section() {
         assert!(text.contains(needle), "missing {needle:?} in\n{text}");
     }
     // Events carry the kernel's own source site (the comparison in kernels.rs).
-    let site = trace.events.iter().find(|e| e.kind == EventName::BranchInstability).unwrap().site.clone().unwrap();
+    let site = trace.events.iter().find(|e| e.kind == EventName::UndecidedComparison).unwrap().site.clone().unwrap();
     assert!(text.contains(&site.to_string()), "{text}");
     // The crossing step shown is the trace's.
     let crossing = trace.events.iter().find(|e| e.kind == EventName::ToleranceCrossed && e.lens == "shadow");

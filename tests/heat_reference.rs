@@ -215,10 +215,13 @@ fn shadow_estimate_equals_the_true_arithmetic_error() {
                 } else {
                     nonzero += 1;
                     let digits = (cell.estimate - truth).abs() / truth;
+                    // Against the exact rational run (dashu-ratio); 1e-10 relative is the ~106-bit shadow's accuracy
+                    // on an error of relative size ≥ 2^-53, with room for cancellation (common practice, no source).
                     assert!(digits <= 1e-10, "r = {r}, step {step}, cell {i}: {} vs {truth:e}", cell.estimate);
                 }
             }
         }
+        // The run must exercise the estimate (a count, no numeric claim: common practice, no source).
         assert!(nonzero > 1000, "r = {r}: only {nonzero} cells carried rounding error");
         // The trace's largest error per step is the largest of those same estimates.
         for record in &trace.steps {
@@ -232,7 +235,8 @@ fn shadow_estimate_equals_the_true_arithmetic_error() {
 #[test]
 fn bound_lost_is_reported_with_both_numbers() {
     // r = 0.5: enclosure arithmetic grows the radius by about 1 + 4r = 3 per step (the dependency effect,
-    // DESIGN §3), while the true error stays near the rounding level.
+    // docs/lenses.md, "The dependency effect: bound versus shadow"), while the true error stays near the rounding
+    // level.
     let rod = Rod::new(N, 0.5, None);
     let dir = scratch("heat_bound_lost");
     let trace = Audit::new(&rod, Tolerance::mixed(1e-12, 1e-9), 200)
@@ -262,7 +266,11 @@ fn bound_lost_is_reported_with_both_numbers() {
         })
         .fold(0.0, f64::max);
     assert!(bound >= truth, "bound {bound:e} below the true error {truth:e}");
+    // The truth is the closed form λⁿ sin(π x_i) at 320 bits (dashu-float, above); 1e-6 relative allows for the
+    // closed form's own rounding at that precision and for the maximum over cells (common practice, no source).
     assert!((estimate - truth).abs() <= 1e-6 * truth, "estimate {estimate:e} vs true error {truth:e}");
+    // Lost means far above: three decades is the report's own threshold for a runaway axis (docs/cli.md; common
+    // practice, no source).
     assert!(bound > 1e3 * estimate, "the bound should be far above the estimate when lost");
     let text = twinstep::report::render_text(&trace);
     assert!(text.contains("BOUND LOST"), "{text}");

@@ -217,8 +217,9 @@ proptest! {
     }
 }
 
-/// The shadow of a function at a double x against the 256-bit dashu-float value: relative agreement to 2^-90
-/// (double-word evaluation, about 100 bits, documented in `src/lens/dwmath.rs`).
+/// The shadow of a function at a double x against the 256-bit dashu-float value (the oracle): relative agreement
+/// to 2^-90 (double-word evaluation, about 100 bits, the accuracy `src/lens/dwmath.rs` documents for its own
+/// algorithms; common practice, no source for the margin of 10 bits).
 fn assert_shadow_accurate(out: Shadow, value: &Big, what: &str) -> Result<(), TestCaseError> {
     let (hi, lo) = out.shadow();
     let shadow = big(hi) + big(lo);
@@ -306,6 +307,8 @@ fn constants_match_inaris_enclosures() {
         let theirs = inari_value(c);
         assert_eq!((ours.inf(), ours.sup()), (theirs.inf(), theirs.sup()), "{}", c.name());
         let ball = Bound::constant(c);
+        // A constant held to the nearest double is off by at most half an ulp, u·|x| with u = 2^-53 (IEEE
+        // 754-2019 §4.3.1, round to nearest): a radius below 2u·|x| = ε·|x| is the tightest a ball can honestly be.
         assert!(ball.radius() < ball.primal().abs() * f64::EPSILON, "{}: {ball}", c.name());
     }
 }

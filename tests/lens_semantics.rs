@@ -1,5 +1,5 @@
 //! What every lens promises besides its reference: the primal is the float program's value bit for bit,
-//! comparisons and integer conversions follow it and report instabilities, non-finite results are events, and
+//! comparisons and integer conversions follow it and report undecided comparisons and indices, non-finite results are events, and
 //! the literal modes switch what a literal's reference holds.
 
 use twinstep::events::{drain, EventKind};
@@ -82,7 +82,9 @@ fn index_conversion_reports_an_integer_the_reference_allows() {
     let near_three = Bound::new(3.0, 1e-9);
     assert_eq!(near_three.to_i128(), 3);
     let events = drain();
-    assert!(events.iter().any(|(k, _, _)| *k == EventKind::IndexInstability), "{events:?}");
+    assert!(events.iter().any(|(k, _, _)| *k == EventKind::UndecidedIndex), "{events:?}");
+    // 3.5 ± 1e-9 lies inside (3, 4): every value truncates to 3 (truncation toward zero, Rust Reference "Numeric
+    // cast", from memory), so the conversion is decided.
     assert_eq!(Bound::new(3.5, 1e-9).to_i128(), 3);
     assert!(drain().is_empty());
 }
@@ -110,9 +112,12 @@ fn literal_modes_switch_the_reference() {
     let compiled = with_literal_mode(LiteralMode::AsCompiled, || {
         Bound::lit(0.1, Reference::of_decimal("0.1").unwrap(), literal_mode())
     });
+    // As compiled, the literal *is* the double, so no representation error remains (a radius of exactly 0); as
+    // written it is 1/10, which no double equals (1/10 has no finite binary expansion: 10 = 2·5).
     assert!(written.radius() > 0.0);
     assert_eq!(compiled.radius(), 0.0);
     let shadow_compiled = with_literal_mode(LiteralMode::AsCompiled, || Shadow::constant(Constant::PI));
+    // The same for π as compiled: the shadow holds fl(π) itself and estimates no error.
     assert_eq!(shadow_compiled.error_estimate(), 0.0);
 }
 
@@ -124,6 +129,7 @@ fn pi_as_written_is_pi() {
     assert!(pi.inf() == std::f64::consts::PI && pi.sup() > std::f64::consts::PI);
     let shadow = Shadow::constant(Constant::PI);
     let gap = shadow.shadow().1;
+    // The recalled gap, to 1e-31 (about 2^-103, the shadow's ~106 bits of π less a margin; common practice).
     assert!((gap - 1.224_646_799_147_353_2e-16).abs() < 1e-31, "{gap:e}");
     assert!((gap - std::f64::consts::PI.sin()).abs() < 1e-31);
 }
@@ -135,9 +141,9 @@ fn unwatched_lenses_skip_only_the_non_finite_events() {
     assert!(nan.primal().is_nan());
     let _ = ShadowUnwatched::from_f64(f64::MAX) * 2.0;
     assert!(drain().is_empty());
-    // Branch instabilities are still recorded.
+    // Undecided comparisons are still recorded.
     let _ = BoundUnwatched::new(1.0, 1e-9) < BoundUnwatched::from_f64(1.0);
     let kinds: Vec<EventKind> = drain().into_iter().map(|(k, _, _)| k).collect();
-    assert_eq!(kinds, vec![EventKind::BranchInstability]);
+    assert_eq!(kinds, vec![EventKind::UndecidedComparison]);
     assert_eq!(<BoundUnwatched as Lens>::NAME, "bound-unwatched");
 }

@@ -3,40 +3,12 @@
 //! operands — and the normalization of the result (`|zl| ≤ ulp(zh)/2`), on random operands and on operands
 //! built to cancel, where the bound is relative to the operands and not to the result.
 
+mod double_word_support;
+
 use dashu_ratio::RBig;
+use double_word_support::{double_word, magnitude, rational, ulp, unit_roundoff, value};
 use proptest::prelude::*;
 use twinstep::lens::eft::DoubleWord;
-
-fn rational(x: f64) -> RBig {
-    RBig::try_from(x).expect("finite")
-}
-
-fn value(x: DoubleWord) -> RBig {
-    rational(x.hi) + rational(x.lo)
-}
-
-fn magnitude(x: &RBig) -> RBig {
-    if *x < RBig::ZERO {
-        -x.clone()
-    } else {
-        x.clone()
-    }
-}
-
-/// u = 2^-53, the unit roundoff of binary64 (IEEE 754-2019 Table 3.5, p = 53), exactly.
-fn unit_roundoff() -> RBig {
-    RBig::from(1) / RBig::from(dashu_int::UBig::ONE << 53)
-}
-
-/// The gap from |x| to the next larger double (x finite, non-zero).
-fn ulp(x: f64) -> f64 {
-    f64::from_bits(x.abs().to_bits() + 1) - x.abs()
-}
-
-/// A normalized double-word number hi + lo with lo = fraction · ulp(hi)/2, |fraction| ≤ 1.
-fn double_word(hi: f64, fraction: f64) -> DoubleWord {
-    DoubleWord { hi, lo: fraction * ulp(hi) / 2.0 }
-}
 
 /// Random doubles of magnitude between 2^-60 and 2^60, either sign, non-zero.
 fn operand() -> impl Strategy<Value = f64> {

@@ -1,9 +1,11 @@
 //! Rump's polynomial through the audit and the report: a one-step kernel whose f64 result has no correct digit.
 //!
 //! `f(a, b) = 333.75 b⁶ + a² (11 a² b² − b⁶ − 121 b⁴ − 2) + 5.5 b⁸ + a / (2b)` at a = 77617, b = 33096 has the exact
-//! value −0.827396059946821368141… (Rump 1988; Loh & Walster, Reliable Computing 2002 — from memory), which this
-//! test recomputes in exact rationals (dashu-ratio) rather than trusting the recalled digits. Binary64 returns a
-//! number of the wrong sign and magnitude, and the double-double shadow is fooled too (about 106 bits cannot
+//! value −0.827396059946821368141… (the original form is Rump 1988, from memory; the digits are recalled, from
+//! memory), which this test recomputes in exact rationals (dashu-ratio) rather than trusting the recalled digits.
+//! Binary64 returns a number of the wrong sign and magnitude (as later reported for IEEE 754 arithmetic, Loh &
+//! Walster, Reliable Computing 2002, from memory; checked here against the exact value), and the double-double
+//! shadow is fooled too (about 106 bits cannot
 //! absorb the cancellation of terms near 2¹²²), so the report must rest on the guaranteed enclosures, say that the
 //! f64 result has no correct digit, and never present the shadow's value as the exact result.
 
@@ -80,7 +82,7 @@ fn audit(test: &str) -> twinstep::trace::Trace {
 #[test]
 fn enclosures_contain_the_exact_value_and_the_report_says_no_digit_is_correct() {
     let exact = exact();
-    // The recalled digits agree with the rational computation (Rump 1988, from memory).
+    // The recalled digits (from memory) agree with the exact rational computation, the oracle here.
     assert!(
         (rational_to_f64(&exact) + 0.827_396_059_946_821_4).abs() < 1e-15,
         "exact value {}",

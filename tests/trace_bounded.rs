@@ -32,7 +32,7 @@ fn a_million_steps_write_a_few_hundred_lines() {
     assert!(read.profiles.len() <= 201, "{} profiles", read.profiles.len());
     assert_eq!(read.profiles.last().map(|p| p.step), Some(STEPS));
     // The fold branches on a rounding residue every other step from step 10 on (see the kernel), so the summary
-    // counts about half a million instabilities that the records only sample.
+    // counts about half a million undecided comparisons that the records only sample.
     let summary = read.summary.unwrap();
     let total: u64 = summary.event_totals.iter().map(|t| t.steps).sum();
     assert!(total > 400_000, "{total} event steps counted");

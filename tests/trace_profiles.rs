@@ -79,6 +79,8 @@ fn profiles_hold_the_largest_error_of_each_cell_group() {
     let expected: Vec<f64> = exact.chunks(4).map(|group| group.iter().copied().fold(0.0, f64::max)).collect();
     let shadow = profile(&read.profiles, 1, "shadow");
     let bound = profile(&read.profiles, 1, "bound");
+    // 1000 cells in at most 256 values: ⌈1000/256⌉ = 4 cells a value, 1000/4 = 250 values (docs/trace.md,
+    // "profile": the contract's arithmetic, no numeric source needed).
     assert_eq!((shadow.cells_per_value, shadow.err.len()), (4, 250));
     for (k, want) in expected.iter().enumerate() {
         let got = shadow.err[k].expect("finite");

@@ -36,7 +36,7 @@ fn written_trace_reads_back_identical() {
     assert_eq!(read.steps.len(), 2 * 41);
     // 1 − 0.1·10 is 0 in exact arithmetic, the double 0.1 is not a tenth (IEEE 754-2019 binary64 has no exact
     // tenth): the fold's comparison at step 10 is undecidable for the bound lens.
-    assert!(read.events.iter().any(|e| e.kind == EventName::BranchInstability && e.site.is_some()));
+    assert!(read.events.iter().any(|e| e.kind == EventName::UndecidedComparison && e.site.is_some()));
 
     let text = std::fs::read_to_string(&path).unwrap();
     let lines: Vec<&str> = text.lines().collect();
@@ -48,6 +48,18 @@ fn written_trace_reads_back_identical() {
         Record::Header(h) => assert_eq!((h.format.as_str(), h.version), (FORMAT, VERSION)),
         other => panic!("first line is {other:?}"),
     }
+    // Version 2 writes the event kinds' own names (docs/trace.md, "Versions"), never version 1's.
+    assert_eq!(VERSION, 2);
+    assert!(text.contains("\"kind\":\"undecided_comparison\""), "{text}");
+    assert!(!text.contains("branch_instability"));
+
+    // The same trace as version 1 wrote it (version 1 in the header, the old event name) still reads, with the
+    // same events.
+    let old = text.replacen("\"version\":2", "\"version\":1", 1).replace("undecided_comparison", "branch_instability");
+    assert_ne!(old, text);
+    let read_old = trace::parse(&old).expect("a version-1 trace reads");
+    assert_eq!(read_old.events, read.events);
+    assert_eq!(read_old.header.version, 1);
     assert!(matches!(serde_json::from_str::<Record>(lines[lines.len() - 1]).unwrap(), Record::Summary(_)));
     // Every line is one JSON object with a "record" member.
     for line in &lines {

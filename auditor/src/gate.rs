@@ -3,14 +3,20 @@
 //! With the tolerance recorded in the trace, each step's `tol_ratio` (the largest `err / allowed` over the cells,
 //! worked out by the audit cell by cell) and the summary's `first_crossing` decide. With a tolerance given on the
 //! command line, the trace holds only per-step maxima, so the gate decides from them and is conservative where they
-//! cannot decide:
+//! cannot decide. The library's tolerance measures `|u|` of the primal (`Tolerance::ratio(err, primal)`), while the
+//! trace's `max_rel_err` divides each cell's error by the *reference's* value. Every lens has
+//! `|primal − reference| ≤ err` (the shadow's error is that distance; Bound's reference is its primal; Interval's is
+//! the midpoint of an enclosure holding the primal), so `|primal| ≥ |reference| − err`, and a cell with
+//! `err/|reference| ≤ r/(1 + r)` has `err ≤ r·(|reference| − err) ≤ r·|primal|`. So:
 //! - absolute `err ≤ atol`: crossed exactly when `max_err > atol`;
-//! - relative `err ≤ rtol·|u|`: crossed exactly when `max_rel_err > rtol`;
-//! - mixed `err ≤ atol + rtol·|u|`: within when `max_err ≤ atol` or `max_rel_err ≤ rtol` (each cell then passes
-//!   by one of the two terms); otherwise it cannot be shown within and counts as crossed;
+//! - relative `err ≤ rtol·|u|`: within when `max_rel_err ≤ rtol/(1 + rtol)` (a hair below `rtol`, shrunk by
+//!   2⁻⁵⁰ more against the roundings of the trace's numbers); otherwise it cannot be shown within and counts as
+//!   crossed;
+//! - mixed `err ≤ atol + rtol·|u|`: within when `max_err ≤ atol` or `max_rel_err ≤ rtol/(1 + rtol)` (each cell
+//!   then passes by one of the two terms); otherwise it counts as crossed;
 //! - ulps `err ≤ k·ulp(u)`: for a normal `u` of precision p, `|u|·2^-p < ulp(u) ≤ |u|·2^(1-p)` (IEEE 754-2019,
-//!   3.3: ulp(u) = 2^(e-p+1) with 2^e ≤ |u| < 2^(e+1)), so within when `max_rel_err ≤ k·2^-p`, and otherwise it
-//!   cannot be shown within and counts as crossed.
+//!   3.3: ulp(u) = 2^(e-p+1) with 2^e ≤ |u| < 2^(e+1)), so within when `max_rel_err ≤ r/(1 + r)` with
+//!   `r = k·2^-p`, and otherwise it cannot be shown within and counts as crossed.
 //!
 //! A NaN or infinity event, a step without a number, or an incomplete run fails the gate too: none of them shows
 //! the whole run within tolerance.
@@ -29,6 +35,13 @@ pub struct GateOutcome {
     pub lines: Vec<String>,
 }
 
+/// The largest relative error against the reference that proves `err ≤ r·|primal|` (see the module comment):
+/// `r/(1 + r)`, shrunk by the factor `1 − 2⁻⁵⁰` so that the roundings of this quotient and of the trace's
+/// `max_rel_err` (a few units of 2⁻⁵³ each) cannot tip a cell over.
+fn relative_limit(r: f64) -> f64 {
+    r / (1.0 + r) * (1.0 - 2f64.powi(-50))
+}
+
 /// Why one step of one field fails, or `None` when it passes.
 fn step_failure(stats: &FieldStep, tolerance: Option<Tolerance>, precision: i32) -> Option<String> {
     let missing = |what: &str| Some(format!("no {what} recorded (NaN or missing)"));
@@ -44,13 +57,16 @@ fn step_failure(stats: &FieldStep, tolerance: Option<Tolerance>, precision: i32)
             None => missing("max error"),
         },
         Some(Tolerance::Relative { rtol }) => match known(stats.max_rel_err) {
-            Some(e) if e <= rtol => None,
-            Some(e) => Some(format!("max relative error {e:.3e} > rtol {rtol:.3e}")),
+            Some(e) if e <= relative_limit(rtol) => None,
+            Some(e) => Some(format!(
+                "max relative error {e:.3e} > rtol/(1 + rtol) = {:.3e}: not shown within rtol·|u|",
+                relative_limit(rtol)
+            )),
             None => missing("max relative error"),
         },
         Some(Tolerance::Mixed { atol, rtol }) => match (known(stats.max_err), known(stats.max_rel_err)) {
             (Some(e), _) if e <= atol => None,
-            (_, Some(r)) if r <= rtol => None,
+            (_, Some(r)) if r <= relative_limit(rtol) => None,
             (Some(e), Some(r)) => Some(format!(
                 "max error {e:.3e} > atol {atol:.3e} and max relative error {r:.3e} > rtol {rtol:.3e}: not shown \
                  within atol + rtol·|u|"
@@ -59,11 +75,12 @@ fn step_failure(stats: &FieldStep, tolerance: Option<Tolerance>, precision: i32)
         },
         Some(Tolerance::Ulps { ulps }) => {
             // Within k ulps whenever the relative error is at most k·2^-p (see the module comment).
-            let limit = ulps * 2f64.powi(-precision);
+            let limit = relative_limit(ulps * 2f64.powi(-precision));
             match known(stats.max_rel_err) {
                 Some(r) if r <= limit => None,
                 Some(r) => Some(format!(
-                    "max relative error {r:.3e} > {ulps}·2^-{precision} = {limit:.3e}: not shown within {ulps} ulps"
+                    "max relative error {r:.3e} > r/(1 + r) = {limit:.3e} with r = {ulps}·2^-{precision}: not shown \
+                     within {ulps} ulps"
                 )),
                 None => missing("max relative error"),
             }
@@ -134,8 +151,10 @@ pub fn gate(trace: &Trace, tolerance: Option<Tolerance>, lenses: &[String]) -> G
             "pass: every field stays within tolerance ({tolerance}) for all {steps} steps (lenses judged: {})",
             judged_by.join(", ")
         ));
+        lines.push(format!("note: {}", crate::analysis::CAUTION));
         GateOutcome { passed: true, lines }
     } else {
+        lines.push(format!("note: {}", crate::analysis::CAUTION));
         GateOutcome { passed: false, lines }
     }
 }

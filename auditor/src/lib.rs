@@ -4,7 +4,6 @@
 
 pub mod analysis;
 pub mod demo;
-pub mod document;
 pub mod failure;
 pub mod gate;
 pub mod init;

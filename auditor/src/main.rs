@@ -13,7 +13,9 @@ use twinstep_cli::trace::Tolerance;
 
 #[derive(Parser)]
 #[command(name = "twinstep", version, about = "Audit how far floating-point rounding moves a stencil solver's fields")]
-#[command(after_help = "twinstep judges rounding error only, not discretization or modelling error.\n\
+#[command(after_help = "twinstep judges rounding error only, not discretization or modelling error. Results that \
+feed safety-relevant engineering decisions go through the verification and validation practice and codes that apply \
+locally, and licensed review.\n\
 Exit codes: 0 success, 1 a gate failed, 2 usage or input error, 3 the audited program or its build failed.")]
 struct Cli {
     #[command(subcommand)]
@@ -47,6 +49,9 @@ enum Command {
     #[command(after_help = "Without --atol/--rtol/--ulps the tolerance recorded in the trace decides.\n\
 --atol alone is absolute, --rtol alone relative, both together mixed (err <= atol + rtol*|u|).\n\
 An incomplete run, a NaN or an infinity fails the gate.\n\
+A pass says the rounding error stays within tolerance, nothing about discretization or modelling error; results \
+that feed safety-relevant engineering decisions go through the verification and validation practice and codes \
+that apply locally, and licensed review.\n\
 Exit codes: 0 within tolerance, 1 a field crosses it (the first crossing is printed), 2 usage or input error.")]
     Gate {
         /// The trace file.

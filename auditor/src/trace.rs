@@ -39,23 +39,11 @@ pub fn parse(bytes: &[u8]) -> Result<Trace, TraceError> {
     read(bytes)
 }
 
-/// Words for a reader of the report.
+/// Words for a reader of the report (the one table, [`twinstep::trace::EVENT_NAMES`]).
 #[must_use]
 pub fn describe(kind: EventName) -> &'static str {
-    match kind {
-        EventName::Nan => "NaN produced",
-        EventName::Infinity => "infinity produced",
-        EventName::BranchInstability => "comparison undecided by rounding",
-        EventName::IndexInstability => "index cast undecided by rounding",
-        EventName::DivisionByZeroEnclosure => "division by a value that may be zero",
-        EventName::ToleranceCrossed => "tolerance crossed",
-        EventName::BoundLost => "guaranteed bound lost",
-        EventName::PrimalMismatch => "twin's primal differs from the original",
-    }
+    kind.wording()
 }
 
-/// A number a lens may not have had: NaN (written `null` in the trace) becomes `None`.
-#[must_use]
-pub fn known(value: f64) -> Option<f64> {
-    (!value.is_nan()).then_some(value)
-}
+/// A number a lens may not have had: NaN (written `null` in the trace) becomes `None` (the library's function).
+pub use twinstep::report::analysis::known;

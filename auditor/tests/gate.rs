@@ -67,16 +67,33 @@ fn trace_with_relative_error(name: &str, rel: f64) -> std::path::PathBuf {
 
 #[test]
 fn ulps_thresholds() {
-    // Relative error 2^-53 is within 1 ulp for every normal u (ulp(u) > |u|·2^-53, IEEE 754-2019 3.3).
-    let within = trace_with_relative_error("ulps_within.jsonl", 2f64.powi(-53));
+    // Relative error 2^-54 (against the reference) is within 1 ulp for every normal u: ulp(u) > |u|·2^-53
+    // (IEEE 754-2019 3.3) and |u| ≥ |reference| − err, so err ≤ 2^-54·|reference| < 2^-53·|u| (the gate's
+    // derivation, auditor/src/gate.rs).
+    let within = trace_with_relative_error("ulps_within.jsonl", 2f64.powi(-54));
     assert_eq!(gate(&[within.to_str().unwrap(), "--ulps", "1"]).0, Some(0));
     // Relative error 2^-51 exceeds 1 ulp for every normal u (ulp(u) ≤ |u|·2^-52, same clause).
     let beyond = trace_with_relative_error("ulps_beyond.jsonl", 2f64.powi(-51));
     let (code, _, err) = gate(&[beyond.to_str().unwrap(), "--ulps", "1"]);
     assert_eq!(code, Some(1));
     assert!(err.contains("not shown within 1 ulps"), "{err}");
-    // …and is within 4 ulps: 2^-51 ≤ 4·2^-53.
-    assert_eq!(gate(&[beyond.to_str().unwrap(), "--ulps", "4"]).0, Some(0));
+    // …and is within 5 ulps: 2^-51 = 4·2^-53 ≤ r/(1 + r)·(1 − 2^-50) for r = 5·2^-53. At exactly 4 ulps the
+    // margin r/(1 + r) that |u| ≥ |reference| − err calls for is not there, and the gate says so.
+    assert_eq!(gate(&[beyond.to_str().unwrap(), "--ulps", "5"]).0, Some(0));
+    assert_eq!(gate(&[beyond.to_str().unwrap(), "--ulps", "4"]).0, Some(1));
+}
+
+#[test]
+fn relative_tolerance_leaves_room_for_the_primal_reference_gap() {
+    // The trace's relative error divides by the reference, the tolerance multiplies |primal|; with
+    // |primal| ≥ |reference| − err a relative error of rtol/2 proves err ≤ rtol·|primal| (rtol/2 ≤ rtol/(1 + rtol)
+    // for rtol ≤ 1), one of exactly rtol does not, and counts as crossed (auditor/src/gate.rs).
+    let half = trace_with_relative_error("rtol_half.jsonl", 0.5e-9);
+    assert_eq!(gate(&[half.to_str().unwrap(), "--rtol", "1e-9"]).0, Some(0));
+    let at = trace_with_relative_error("rtol_at.jsonl", 1e-9);
+    let (code, _, err) = gate(&[at.to_str().unwrap(), "--rtol", "1e-9"]);
+    assert_eq!(code, Some(1), "{err}");
+    assert!(err.contains("not shown within rtol"), "{err}");
 }
 
 #[test]

@@ -18,6 +18,7 @@ fn top_level_help_lists_every_subcommand() {
     }
     assert!(text.contains("Exit codes"));
     assert!(text.contains("rounding error only"));
+    assert!(text.contains("codes that apply locally, and licensed review"), "the defer-to-local-codes caution");
     insta::assert_snapshot!("help_top", text);
 }
 
@@ -26,7 +27,7 @@ fn every_subcommand_documents_its_options() {
     let cases: [(&str, &[&str]); 6] = [
         ("expand", &["--item"]),
         ("report", &["--format", "--output", "text", "md", "json", "csv", "html", "incomplete run", "Exit codes"]),
-        ("gate", &["--atol", "--rtol", "--ulps", "--lens", "Exit codes", "first crossing"]),
+        ("gate", &["--atol", "--rtol", "--ulps", "--lens", "Exit codes", "first crossing", "licensed review"]),
         (
             "run",
             &[

@@ -103,7 +103,7 @@ fn root_example_end_to_end() {
     let output = twinstep(&all);
     assert_eq!(output.status.code(), Some(0), "{}", stderr(&output));
     let report = stdout(&output);
-    assert!(report.contains("## twinstep audit: rod_step"), "{report}");
+    assert!(report.contains("## twinstep audit of rod_step"), "{report}");
     assert!(report.contains("> **Verdict:"), "{report}");
     assert!(target.join("traces/heat_rod.jsonl").is_file());
 }

@@ -115,6 +115,7 @@ fn next_up_and_down_step_one_double() {
     assert_eq!(next_up(f64::MAX), f64::INFINITY);
     assert_eq!(next_up(f64::INFINITY), f64::INFINITY);
     assert_eq!(next_up(f64::NEG_INFINITY), f64::MIN);
+    // nextUp of the negative smallest subnormal is −0, which compares equal to 0 (IEEE 754-2019 §5.11).
     assert_eq!(next_up(-f64::from_bits(1)), 0.0);
     assert!(next_up(f64::NAN).is_nan());
     // One ulp of 1 is 2^-52 above and 2^-53 below (binary64 has a 53-bit significand, IEEE 754-2019 §3.6).

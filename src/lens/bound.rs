@@ -166,7 +166,7 @@ impl<const W: bool> Core for BoundOf<W> {
         let radius = radius_of(c, propagated);
         let divisor_holds_zero = denominator.is_nan() || denominator <= 0.0;
         if divisor_holds_zero && s > 0.0 {
-            record(EventKind::DivisionByZeroEnclosure);
+            record(EventKind::DivisorMayBeZero);
         }
         Self { primal: c, radius: if divisor_holds_zero { f64::INFINITY } else { radius } }
     }
@@ -180,7 +180,7 @@ impl<const W: bool> Core for BoundOf<W> {
         let quotient_bound = (x / y).abs() * (1.0 + 2.0 * U) + ETA;
         let quotients = self.enclosure() / rhs.enclosure();
         if (s > 0.0 || r > 0.0) && quotients.inf().trunc() != quotients.sup().trunc() {
-            record(EventKind::BranchInstability); // the exact quotient may truncate to another integer
+            record(EventKind::UndecidedComparison); // the exact quotient may truncate to another integer
         }
         Self { primal: c, radius: radius_of(0.0, r + quotient_bound * s) }
     }

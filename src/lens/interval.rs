@@ -217,7 +217,7 @@ impl<const W: bool> Core for IntervalOf<W> {
     #[track_caller]
     fn div(self, rhs: Self) -> Self {
         if rhs.inf <= 0.0 && 0.0 <= rhs.sup && rhs.primal.is_finite() {
-            record(EventKind::DivisionByZeroEnclosure);
+            record(EventKind::DivisorMayBeZero);
         }
         // IEEE 1788 division: [a, b]/[c, d] with 0 ∉ [c, d] is [min(a/c, a/d, b/c, b/d)↓, max(…)↑]; inari's case
         // table for the rest (half-lines or ℝ when 0 ∈ [c, d]).
@@ -237,7 +237,7 @@ impl<const W: bool> Core for IntervalOf<W> {
         let q = ((self.primal - c) / rhs.primal).round();
         let quotients = self.enclosure() / rhs.enclosure();
         if quotients.inf().trunc() != quotients.sup().trunc() {
-            record(EventKind::BranchInstability); // the exact quotient may truncate to another integer
+            record(EventKind::UndecidedComparison); // the exact quotient may truncate to another integer
         }
         // Along the primal's path: X − q·Y.
         Self::around(c, self.enclosure() - point(q) * rhs.enclosure())

@@ -4,7 +4,7 @@
 //! One lens per file, all behind [`Lens`]: [`Bound`] (midpoint and rigorous radius, the fast default),
 //! [`Interval`] (inf–sup enclosure with inari), [`Shadow`] (a double-double running the same operations). The
 //! operator boilerplate every lens shares — mixed operations with `f64`, references, compound assignment,
-//! comparisons that record branch instabilities, `Sum`, the whole [`crate::Real`] surface — is written once in
+//! comparisons that record undecided comparisons, `Sum`, the whole [`crate::Real`] surface — is written once in
 //! [`scalar`] and instantiated per lens from the lens's small [`scalar::Core`] of primitive operations.
 //!
 //! Literals and `std::f64::consts` enter through [`reference`](mod@reference): under [`LiteralMode::AsWritten`]

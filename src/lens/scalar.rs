@@ -7,9 +7,9 @@
 //! `Sum`/`Product`, `Zero`/`One`/`Default` and the whole [`crate::Real`] trait. Operators and comparisons are `#[track_caller]` so
 //! that events land at the user's own source line.
 //!
-//! Semantics shared by all lenses (DESIGN §3): branches, `max`/`min`, rounding to integers and integer
+//! Semantics shared by all lenses (docs/lenses.md, "Branches, integer conversions and events"): branches, `max`/`min`, rounding to integers and integer
 //! conversions follow the primal; when the reference cannot decide them the same way, a
-//! [`EventKind::BranchInstability`] or [`EventKind::IndexInstability`] is recorded, and the result continues
+//! [`EventKind::UndecidedComparison`] or [`EventKind::UndecidedIndex`] is recorded, and the result continues
 //! along the primal's path. An operation whose primal becomes NaN or infinite from finite operands records
 //! [`EventKind::Nan`] / [`EventKind::Infinity`].
 
@@ -170,7 +170,7 @@ pub fn note_unseen<T: Core>(finite: bool) {
     }
 }
 
-/// A comparison: the primal's answer, with a branch instability recorded when the reference could answer
+/// A comparison: the primal's answer, with an undecided comparison recorded when the reference could answer
 /// otherwise.
 #[inline(always)]
 #[track_caller]
@@ -181,25 +181,25 @@ pub fn compare<T: Core>(a: T, b: T, predicate: fn(Ordering) -> bool) -> bool {
     };
     let answer = predicate(order);
     if !a.orders(b).all_give(predicate, answer) {
-        record(EventKind::BranchInstability);
+        record(EventKind::UndecidedComparison);
     }
     answer
 }
 
-/// `partial_cmp`: the primal's ordering, with a branch instability recorded when the reference allows another.
+/// `partial_cmp`: the primal's ordering, with an undecided comparison recorded when the reference allows another.
 #[inline(always)]
 #[track_caller]
 pub fn order<T: Core>(a: T, b: T) -> Option<Ordering> {
     note_unseen::<T>(a.primal().is_finite() && b.primal().is_finite());
     let order = a.primal().partial_cmp(&b.primal())?;
     if !a.orders(b).all_give(|o| o == order, true) {
-        record(EventKind::BranchInstability);
+        record(EventKind::UndecidedComparison);
     }
     Some(order)
 }
 
 /// `max`/`min`: `f64`'s answer on the primals, then the operand that carries it (bit-identical primal); the
-/// comparison records a branch instability when the reference could choose the other operand.
+/// comparison records an undecided comparison when the reference could choose the other operand.
 #[inline]
 #[track_caller]
 pub fn select<T: Core>(a: T, b: T, choose: fn(f64, f64) -> f64) -> T {
@@ -545,12 +545,12 @@ macro_rules! lens_scalar {
             #[inline]
             #[track_caller]
             fn to_i128(self) -> i128 {
-                $crate::lens::scalar::decide(self, |x| x as i128, $crate::events::EventKind::IndexInstability)
+                $crate::lens::scalar::decide(self, |x| x as i128, $crate::events::EventKind::UndecidedIndex)
             }
             #[inline]
             #[track_caller]
             fn to_u128(self) -> u128 {
-                $crate::lens::scalar::decide(self, |x| x as u128, $crate::events::EventKind::IndexInstability)
+                $crate::lens::scalar::decide(self, |x| x as u128, $crate::events::EventKind::UndecidedIndex)
             }
             $crate::lens_scalar!(@constants $lens: epsilon EPSILON, max_value MAX, min_value MIN,
                 min_positive MIN_POSITIVE, infinity INFINITY, neg_infinity NEG_INFINITY, nan NAN);
@@ -604,7 +604,7 @@ macro_rules! lens_scalar {
             #[track_caller]
             fn signum(self) -> $lens<W> {
                 let s = $crate::lens::scalar::decide(self, |x| x.signum().to_bits(),
-                    $crate::events::EventKind::BranchInstability);
+                    $crate::events::EventKind::UndecidedComparison);
                 <$lens<W> as $crate::lens::scalar::Core>::exact(f64::from_bits(s))
             }
             #[inline]
@@ -653,17 +653,17 @@ macro_rules! lens_scalar {
             #[inline]
             #[track_caller]
             fn is_sign_negative(self) -> bool {
-                $crate::lens::scalar::decide(self, f64::is_sign_negative, $crate::events::EventKind::BranchInstability)
+                $crate::lens::scalar::decide(self, f64::is_sign_negative, $crate::events::EventKind::UndecidedComparison)
             }
             #[inline]
             #[track_caller]
             fn is_sign_positive(self) -> bool {
-                $crate::lens::scalar::decide(self, f64::is_sign_positive, $crate::events::EventKind::BranchInstability)
+                $crate::lens::scalar::decide(self, f64::is_sign_positive, $crate::events::EventKind::UndecidedComparison)
             }
             #[inline]
             #[track_caller]
             fn total_cmp(&self, other: &$lens<W>) -> ::core::cmp::Ordering {
-                let _ = $crate::lens::scalar::order(*self, *other); // the instability, if any
+                let _ = $crate::lens::scalar::order(*self, *other); // the undecided comparison, if any
                 $crate::Real::primal(*self).total_cmp(&$crate::Real::primal(*other))
             }
         }
@@ -700,7 +700,7 @@ macro_rules! lens_scalar {
         #[track_caller]
         fn $name(self) -> $lens<W> {
             let n = $crate::lens::scalar::decide(self, |x| x.$name().to_bits(),
-                $crate::events::EventKind::BranchInstability);
+                $crate::events::EventKind::UndecidedComparison);
             <$lens<W> as $crate::lens::scalar::Core>::exact(f64::from_bits(n))
         }
     )*};

@@ -181,7 +181,7 @@ impl<const W: bool> Core for ShadowOf<W> {
     #[track_caller]
     fn div(self, rhs: Self) -> Self {
         if rhs.shadow.hi == 0.0 && rhs.primal != 0.0 {
-            record(EventKind::DivisionByZeroEnclosure); // the shadow divides by zero where the primal does not
+            record(EventKind::DivisorMayBeZero); // the shadow divides by zero where the primal does not
         }
         Self { primal: self.primal / rhs.primal, shadow: self.shadow.div(rhs.shadow) }
     }
@@ -204,7 +204,7 @@ impl<const W: bool> Core for ShadowOf<W> {
             }
         };
         if q.is_finite() && quotient.is_finite() && truncated != q {
-            record(EventKind::BranchInstability);
+            record(EventKind::UndecidedComparison);
         }
         Self { primal: c, shadow }
     }

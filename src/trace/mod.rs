@@ -17,8 +17,10 @@ pub use writer::TraceWriter;
 
 /// The `format` member of every header.
 pub const FORMAT: &str = "twinstep-trace";
-/// The trace format version this crate writes and reads.
-pub const VERSION: u32 = 1;
+/// The trace format version this crate writes.
+pub const VERSION: u32 = 2;
+/// The versions this crate reads: version 1 differs only in the names of three event kinds ([`EVENT_NAMES`]).
+pub const READABLE_VERSIONS: [u32; 2] = [1, 2];
 
 /// A whole trace, as read back (or as assembled by the audit while it wrote it).
 #[derive(Clone, Debug, PartialEq)]
@@ -241,33 +243,109 @@ fn is_one(n: &usize) -> bool {
 }
 
 /// What an event record reports.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize, Deserialize)]
-#[serde(rename_all = "snake_case")]
+#[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord, Hash)]
 pub enum EventName {
     Nan,
     Infinity,
-    BranchInstability,
-    IndexInstability,
-    DivisionByZeroEnclosure,
+    UndecidedComparison,
+    UndecidedIndex,
+    DivisorMayBeZero,
     ToleranceCrossed,
     BoundLost,
     PrimalMismatch,
 }
 
+/// One row of [`EVENT_NAMES`]: the kind, its name in traces of the current version, its name in version-1 traces
+/// when that differs, and the words a report uses for it.
+#[derive(Clone, Copy, Debug)]
+pub struct EventNaming {
+    pub kind: EventName,
+    pub name: &'static str,
+    pub version_1_name: Option<&'static str>,
+    pub wording: &'static str,
+}
+
+/// The one table of event kinds: kind ↔ trace name ↔ report wording. Version 1 of the trace named three kinds
+/// after another tool's categories; version 2 uses names of our own and the reader still accepts the old ones.
+pub const EVENT_NAMES: [EventNaming; 8] = [
+    EventNaming { kind: EventName::Nan, name: "nan", version_1_name: None, wording: "NaN produced" },
+    EventNaming { kind: EventName::Infinity, name: "infinity", version_1_name: None, wording: "infinity produced" },
+    EventNaming {
+        kind: EventName::UndecidedComparison,
+        name: "undecided_comparison",
+        version_1_name: Some("branch_instability"),
+        wording: "comparison undecided by rounding",
+    },
+    EventNaming {
+        kind: EventName::UndecidedIndex,
+        name: "undecided_index",
+        version_1_name: Some("index_instability"),
+        wording: "index conversion undecided by rounding",
+    },
+    EventNaming {
+        kind: EventName::DivisorMayBeZero,
+        name: "divisor_may_be_zero",
+        version_1_name: Some("division_by_zero_enclosure"),
+        wording: "divisor that may be zero",
+    },
+    EventNaming {
+        kind: EventName::ToleranceCrossed,
+        name: "tolerance_crossed",
+        version_1_name: None,
+        wording: "tolerance crossed",
+    },
+    EventNaming {
+        kind: EventName::BoundLost,
+        name: "bound_lost",
+        version_1_name: None,
+        wording: "guaranteed bound lost",
+    },
+    EventNaming {
+        kind: EventName::PrimalMismatch,
+        name: "primal_mismatch",
+        version_1_name: None,
+        wording: "twin's primal differs from the original",
+    },
+];
+
 impl EventName {
-    /// The name used in traces and reports (the serde name).
+    fn naming(self) -> &'static EventNaming {
+        // Every kind has its row (checked by `every_kind_has_one_row` below), so the search always ends.
+        EVENT_NAMES.iter().find(|n| n.kind == self).unwrap_or(&EVENT_NAMES[0])
+    }
+
+    /// The name used in traces of the current version.
     #[must_use]
     pub fn name(self) -> &'static str {
-        match self {
-            EventName::Nan => "nan",
-            EventName::Infinity => "infinity",
-            EventName::BranchInstability => "branch_instability",
-            EventName::IndexInstability => "index_instability",
-            EventName::DivisionByZeroEnclosure => "division_by_zero_enclosure",
-            EventName::ToleranceCrossed => "tolerance_crossed",
-            EventName::BoundLost => "bound_lost",
-            EventName::PrimalMismatch => "primal_mismatch",
-        }
+        self.naming().name
+    }
+
+    /// The words a report uses for the kind.
+    #[must_use]
+    pub fn wording(self) -> &'static str {
+        self.naming().wording
+    }
+
+    /// The kind a trace names, in the current version's names or in version 1's.
+    #[must_use]
+    pub fn from_name(name: &str) -> Option<EventName> {
+        EVENT_NAMES.iter().find(|n| n.name == name || n.version_1_name == Some(name)).map(|n| n.kind)
+    }
+}
+
+impl Serialize for EventName {
+    fn serialize<S: serde::Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
+        serializer.serialize_str(self.name())
+    }
+}
+
+impl<'de> Deserialize<'de> for EventName {
+    fn deserialize<D: Deserializer<'de>>(deserializer: D) -> Result<EventName, D::Error> {
+        let name = std::borrow::Cow::<'de, str>::deserialize(deserializer)?;
+        EventName::from_name(&name).ok_or_else(|| {
+            let known: Vec<&str> = EVENT_NAMES.iter().map(|n| n.name).collect();
+            serde::de::Error::custom(format!("unknown event kind `{name}`, expected one of {}", known.join(", ")))
+        })
     }
 }
 
@@ -275,11 +353,11 @@ impl From<crate::events::EventKind> for EventName {
     fn from(kind: crate::events::EventKind) -> EventName {
         use crate::events::EventKind as K;
         match kind {
-            K::BranchInstability => EventName::BranchInstability,
-            K::IndexInstability => EventName::IndexInstability,
+            K::UndecidedComparison => EventName::UndecidedComparison,
+            K::UndecidedIndex => EventName::UndecidedIndex,
             K::Nan => EventName::Nan,
             K::Infinity => EventName::Infinity,
-            K::DivisionByZeroEnclosure => EventName::DivisionByZeroEnclosure,
+            K::DivisorMayBeZero => EventName::DivisorMayBeZero,
         }
     }
 }
@@ -370,4 +448,32 @@ pub struct EventTotal {
 /// of a run that blew up still reads.
 fn nan_if_null<'de, D: Deserializer<'de>>(deserializer: D) -> Result<f64, D::Error> {
     Ok(Option::<f64>::deserialize(deserializer)?.unwrap_or(f64::NAN))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn every_kind_has_one_row() {
+        let kinds = [
+            EventName::Nan,
+            EventName::Infinity,
+            EventName::UndecidedComparison,
+            EventName::UndecidedIndex,
+            EventName::DivisorMayBeZero,
+            EventName::ToleranceCrossed,
+            EventName::BoundLost,
+            EventName::PrimalMismatch,
+        ];
+        for kind in kinds {
+            assert_eq!(EVENT_NAMES.iter().filter(|n| n.kind == kind).count(), 1, "{kind:?}");
+            assert_eq!(EventName::from_name(kind.name()), Some(kind));
+        }
+        // The version-1 names still read (docs/trace.md, "Versions").
+        assert_eq!(EventName::from_name("branch_instability"), Some(EventName::UndecidedComparison));
+        assert_eq!(EventName::from_name("index_instability"), Some(EventName::UndecidedIndex));
+        assert_eq!(EventName::from_name("division_by_zero_enclosure"), Some(EventName::DivisorMayBeZero));
+        assert_eq!(EventName::from_name("branch"), None);
+    }
 }

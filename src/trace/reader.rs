@@ -9,7 +9,7 @@ use std::path::{Path, PathBuf};
 
 use serde::Deserialize;
 
-use super::{Record, Trace, FORMAT, VERSION};
+use super::{Record, Trace, FORMAT, READABLE_VERSIONS};
 
 /// Why a trace could not be read.
 #[derive(Debug)]
@@ -40,7 +40,11 @@ impl std::fmt::Display for ReadError {
             ReadError::Malformed { line, message } => write!(f, "line {line}: not a valid trace record: {message}"),
             ReadError::NotATrace { message } => write!(f, "not a twinstep trace: {message}"),
             ReadError::UnknownVersion { version } => {
-                write!(f, "trace format version {version} is not known to this twinstep (it reads {VERSION})")
+                write!(
+                    f,
+                    "trace format version {version} is not known to this twinstep (it reads versions {})",
+                    READABLE_VERSIONS.map(|v| v.to_string()).join(" and ")
+                )
             }
             ReadError::OutOfOrder { line, message } => write!(f, "line {line}: {message}"),
             ReadError::LineTooLong { line } => {
@@ -115,7 +119,7 @@ pub fn read_from(mut input: impl BufRead) -> Result<Trace, ReadError> {
         }
         if number == 1 {
             if let Ok(Kind { record, version: Some(version) }) = serde_json::from_str::<Kind>(&body) {
-                if record == "header" && version != u64::from(VERSION) {
+                if record == "header" && !READABLE_VERSIONS.iter().any(|&v| u64::from(v) == version) {
                     return Err(ReadError::UnknownVersion { version });
                 }
             }
@@ -147,7 +151,7 @@ fn assemble(records: Vec<(usize, Record)>, truncated_tail: bool) -> Result<Trace
     if header.format != FORMAT {
         return Err(ReadError::NotATrace { message: format!("format is {:?}, not {FORMAT:?}", header.format) });
     }
-    if header.version != VERSION {
+    if !READABLE_VERSIONS.contains(&header.version) {
         return Err(ReadError::UnknownVersion { version: u64::from(header.version) });
     }
     let mut trace = Trace { truncated_tail, ..Trace::started(header) };

@@ -1,11 +1,13 @@
 //! The kiln wall: explicit conduction through a refractory wall during a slow firing ramp, on a 1-D grid.
 //!
 //! `u_i^{n+1} = u_i + r (u_{i-1} − 2 u_i + u_{i+1}) + h` for the inner cells, `u^{n+1} = u + h` on both faces
-//! (they follow the ramp), with diffusion number `r` and firing increment `h` kelvin per step. From
-//! `u_i^0 = U + A sin(π x_i)`, `x_i = i/(N−1)`, the exact solution of this discrete scheme is
-//! `u_i^n = U + n h + A λ^n sin(π x_i)` with `λ = 1 − 4 r sin²(π/(2(N−1)))` (von Neumann analysis of the explicit
-//! scheme, e.g. Strikwerda, "Finite Difference Schemes and PDEs", from memory; the uniform shift `n h` has a zero
-//! second difference), which the tests compare the lenses' references with.
+//! (they follow the ramp), with diffusion number `r` and firing increment `h` kelvin per step. The initial data
+//! is `U + A sin(π x_i)`, `x_i = i/(N−1)`, as f64 values. For exact sine data the scheme's solution would be
+//! `U + n h + A λ^n sin(π x_i)` with `λ = 1 − 4 r sin²(π/(2(N−1)))` (von Neumann analysis of the explicit scheme,
+//! e.g. Strikwerda, "Finite Difference Schemes and PDEs", from memory); the f64 data is a rounded sine, so
+//! `auditor/tests/demo.rs` uses as its oracle the exact solution from the f64 data itself, in exact rationals: the
+//! shift `n h`, the straight line between the two initial face values, and a remainder with zero faces that the
+//! scheme damps by at least `λ` per step.
 
 use twinstep::audit::{Error, FieldSpec, Levels, Scenario};
 

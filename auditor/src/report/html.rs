@@ -2,8 +2,7 @@
 //! newcomer can open and read top to bottom: the verdict, which field drifts and from which step, the table of
 //! outcomes, the plots, the events, and the rounding-only caution.
 
-use crate::analysis::{Analysis, FieldLens};
-use crate::document::{Block, Tone};
+use crate::analysis::{Analysis, Block, Outcome, SectionKind, Tone};
 use crate::report::plots;
 
 /// Text for an HTML text node or attribute value.
@@ -75,7 +74,7 @@ fn figures(analysis: &Analysis<'_>, out: &mut String) {
         out,
     );
     for field in &analysis.trace.header.fields {
-        let outcomes: Vec<FieldLens> = analysis.outcomes.iter().filter(|o| o.field == field.name).cloned().collect();
+        let outcomes: Vec<Outcome> = analysis.outcomes.iter().filter(|o| o.field == field.name).cloned().collect();
         figure(
             plots::field_errors(&field.name, &outcomes, analysis.trace.header.tolerance),
             format!(
@@ -95,16 +94,25 @@ fn figures(analysis: &Analysis<'_>, out: &mut String) {
                 continue;
             }
             shown_heat_map = true;
-            figure(
-                plots::heat_map(&field.name, lens, &profiles),
-                format!(
-                    "Field `{}`, {lens} lens: where along the field the rounding error sits, step by step (rows at \
-                     the recorded steps; each column the largest error of its cells; blank: an error of 0, or one \
-                     that is not a finite number, as when a bound overflows).",
-                    field.name
-                ),
-                out,
+            let outcomes: Vec<Outcome> = analysis.outcomes.iter().filter(|o| o.field == field.name).cloned().collect();
+            let ceiling = plots::ceiling(&outcomes, analysis.trace.header.tolerance);
+            let caption = format!(
+                "Field `{}`, {lens} lens: where along the field the rounding error sits, step by step (rows at the \
+                 recorded steps; each column the largest error of its cells; blank: an error of 0, or one that is not \
+                 a finite number, as when a bound overflows).",
+                field.name
             );
+            match plots::heat_map(&field.name, lens, &profiles, ceiling) {
+                Ok(Some(map)) => {
+                    let caption = match map.clip {
+                        Some(clip) => format!("{caption} {clip}"),
+                        None => caption,
+                    };
+                    figure(Ok(Some(map.svg)), caption, out);
+                }
+                Ok(None) => figure(Ok(None), caption, out),
+                Err(e) => figure(Err(e), caption, out),
+            }
         }
     }
     if !shown_heat_map {
@@ -117,55 +125,65 @@ fn figures(analysis: &Analysis<'_>, out: &mut String) {
 /// Writes the report as one HTML page.
 #[must_use]
 pub fn render(analysis: &Analysis<'_>) -> String {
-    let blocks = crate::document::build(analysis);
     let title =
-        blocks.iter().find_map(|b| if let Block::Title(t) = b { Some(t.clone()) } else { None }).unwrap_or_default();
+        analysis.sections.iter().find(|s| s.kind == SectionKind::Run).and_then(|s| s.title.clone()).unwrap_or_default();
     let mut out = format!(
         "<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n<title>{}</title>\n<style>{STYLE}</style>\n\
          </head>\n<body>\n",
         escape(&title)
     );
-    for block in &blocks {
-        match block {
-            Block::Title(title) => out.push_str(&format!("<h1>{}</h1>\n", inline(title))),
-            Block::Facts(facts) => {
-                out.push_str("<dl>\n");
-                for (key, value) in facts {
-                    out.push_str(&format!("<dt>{}</dt><dd>{}</dd>\n", escape(key), inline(value)));
+    for section in &analysis.sections {
+        match (section.kind, &section.title) {
+            (SectionKind::Run, Some(title)) => out.push_str(&format!("<h1>{}</h1>\n", inline(title))),
+            (_, Some(title)) => out.push_str(&format!("<h2>{}</h2>\n", inline(title))),
+            (_, None) => {}
+        }
+        for block in &section.blocks {
+            match block {
+                Block::Facts { facts } => {
+                    out.push_str("<dl>\n");
+                    for (key, value) in facts {
+                        out.push_str(&format!("<dt>{}</dt><dd>{}</dd>\n", escape(key), inline(value)));
+                    }
+                    out.push_str("</dl>\n");
                 }
-                out.push_str("</dl>\n");
-            }
-            Block::Notice(notice) => out.push_str(&format!("<p class=\"notice\">{}</p>\n", inline(notice))),
-            Block::Verdict { line, tone, explanation } => {
-                out.push_str(&format!(
-                    "<div class=\"verdict {}\"><strong>Verdict: {}</strong>",
-                    tone_class(*tone),
-                    inline(line)
-                ));
-                if !explanation.is_empty() {
-                    out.push_str(&format!("<p>{}</p>", inline(explanation)));
+                Block::Notice { text } => out.push_str(&format!("<p class=\"notice\">{}</p>\n", inline(text))),
+                Block::Verdict { line, tone, explanation, .. } => {
+                    out.push_str(&format!(
+                        "<div class=\"verdict {}\"><strong>Verdict: {}</strong>",
+                        tone_class(*tone),
+                        inline(line)
+                    ));
+                    if !explanation.is_empty() {
+                        out.push_str(&format!("<p>{}</p>", inline(explanation)));
+                    }
+                    out.push_str("</div>\n");
                 }
-                out.push_str("</div>\n");
-            }
-            Block::Heading(heading) => out.push_str(&format!("<h2>{}</h2>\n", inline(heading))),
-            Block::Paragraph(text) => out.push_str(&format!("<p>{}</p>\n", inline(text))),
-            Block::Table { head, rows } => {
-                out.push_str("<table>\n<tr>");
-                for h in head {
-                    out.push_str(&format!("<th>{}</th>", escape(h)));
+                Block::Paragraph { text } if section.kind == SectionKind::Caution => {
+                    out.push_str(&format!("<p class=\"caution\">{}</p>\n", inline(text)));
                 }
-                out.push_str("</tr>\n");
-                for row in rows {
-                    out.push_str("<tr>");
-                    for cell in row {
-                        out.push_str(&format!("<td class=\"{}\">{}</td>", tone_class(cell.tone), escape(&cell.text)));
+                Block::Paragraph { text } => out.push_str(&format!("<p>{}</p>\n", inline(text))),
+                Block::Table { head, rows, .. } => {
+                    out.push_str("<table>\n<tr>");
+                    for h in head {
+                        out.push_str(&format!("<th>{}</th>", escape(h)));
                     }
                     out.push_str("</tr>\n");
+                    for row in rows {
+                        out.push_str("<tr>");
+                        for cell in row {
+                            out.push_str(&format!(
+                                "<td class=\"{}\">{}</td>",
+                                tone_class(cell.tone),
+                                escape(&cell.text)
+                            ));
+                        }
+                        out.push_str("</tr>\n");
+                    }
+                    out.push_str("</table>\n");
                 }
-                out.push_str("</table>\n");
+                Block::Figures => figures(analysis, &mut out),
             }
-            Block::Figures => figures(analysis, &mut out),
-            Block::Caution(text) => out.push_str(&format!("<p class=\"caution\">{}</p>\n", inline(text))),
         }
     }
     out.push_str("</body>\n</html>\n");

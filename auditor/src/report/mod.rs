@@ -1,5 +1,6 @@
-//! The report formats of `twinstep report`: the library's terminal text, Markdown for a pull request, per-step rows as JSON
-//! or CSV, and one self-contained HTML file with inline SVG plots.
+//! The report formats of `twinstep report`: the library's terminal text, Markdown for a pull request, the analysis and
+//! per-step rows as JSON or CSV, and one self-contained HTML file with inline SVG plots. Every format renders the one
+//! analysis of the library ([`crate::analysis::Analysis`]).
 
 pub mod html;
 pub mod markdown;
@@ -18,7 +19,7 @@ pub enum Format {
     Md,
     /// Per-step rows and the outcome as one JSON document.
     Json,
-    /// Per-step rows, one line each.
+    /// Per-step rows, one line each, after comment lines with the caution.
     Csv,
     /// One self-contained HTML file with plots.
     Html,
@@ -27,12 +28,13 @@ pub enum Format {
 /// Renders a trace in a format. `colour` only affects the text format.
 #[must_use]
 pub fn render(trace: &Trace, format: Format, colour: bool) -> String {
+    // The analysis is computed once here and every format renders it.
     let analysis = crate::analysis::Analysis::of(trace);
     match format {
-        Format::Text => text::render(trace, colour),
-        Format::Md => markdown::render(&crate::document::build(&analysis)),
+        Format::Text => text::render(&analysis, colour),
+        Format::Md => markdown::render(&analysis),
         Format::Json => rows::json(&analysis),
-        Format::Csv => rows::csv(trace),
+        Format::Csv => rows::csv(&analysis),
         Format::Html => html::render(&analysis),
     }
 }

@@ -6,7 +6,7 @@
 //! A log axis cannot show zero or negative values, and a plot of nothing is no help: points without a positive
 //! finite value are left out, and a plot with no point left is not drawn (the caller says so in words).
 
-use crate::analysis::{judging, FieldLens};
+use crate::analysis::Outcome;
 use crate::trace::{Profile, Tolerance};
 use plotters::coord::Shift;
 use plotters::prelude::*;
@@ -148,9 +148,34 @@ fn line_chart(
     Ok(Some(svg))
 }
 
+/// The outcomes among `outcomes` that judge (the analysis's one rule, [`crate::analysis::Outcome::judges`]).
+fn judging(outcomes: &[Outcome]) -> impl Iterator<Item = &Outcome> {
+    outcomes.iter().filter(|o| o.judges)
+}
+
+/// The top of a field's error axes and colour scale: three decades above the largest finite error the judging
+/// lenses of the field reach and the absolute part of the tolerance, so that a bound that ran away (the
+/// dependency effect, up to overflow) does not squash or wash out what the estimates show. Infinite (no clip)
+/// when there is nothing to focus on.
+pub fn ceiling(outcomes: &[Outcome], tolerance: Tolerance) -> f64 {
+    let atol = match tolerance {
+        Tolerance::Absolute { atol } | Tolerance::Mixed { atol, .. } => positive(Some(atol)),
+        Tolerance::Relative { .. } | Tolerance::Ulps { .. } => None,
+    };
+    let focus = judging(outcomes)
+        .flat_map(|o| o.points.iter().filter_map(|p| positive(Some(p.max_err))))
+        .chain(atol)
+        .fold(0.0_f64, f64::max);
+    if focus > 0.0 {
+        focus * 1e3
+    } else {
+        f64::INFINITY
+    }
+}
+
 /// The error history of one field: per lens the estimate (solid) and the guaranteed bound (dashed), with the
 /// absolute part of the tolerance as a red line where the tolerance has one.
-pub fn field_errors(field: &str, outcomes: &[FieldLens], tolerance: Tolerance) -> Result<Option<String>, String> {
+pub fn field_errors(field: &str, outcomes: &[Outcome], tolerance: Tolerance) -> Result<Option<String>, String> {
     let reference = match tolerance {
         Tolerance::Absolute { atol } => positive(Some(atol)).map(|a| (a, "tolerance (atol)")),
         Tolerance::Mixed { atol, .. } => positive(Some(atol)).map(|a| (a, "tolerance, absolute part (atol)")),
@@ -159,17 +184,13 @@ pub fn field_errors(field: &str, outcomes: &[FieldLens], tolerance: Tolerance) -
     // A bound that has run away (the dependency effect) would squash the estimates into one line at the
     // bottom: the axis stops three decades above the largest estimate and tolerance, and the bound is drawn
     // clipped there, its label saying so.
-    let focus = judging(outcomes)
-        .flat_map(|o| o.points.iter().filter_map(|p| positive(p.max_err)))
-        .chain(reference.map(|r| r.0))
-        .fold(0.0_f64, f64::max);
-    let ceiling = if focus > 0.0 { focus * 1e3 } else { f64::INFINITY };
+    let ceiling = ceiling(outcomes, tolerance);
     let mut lines = Vec::new();
     for (index, outcome) in outcomes.iter().enumerate() {
         let estimate: Vec<(f64, f64)> = outcome
             .points
             .iter()
-            .filter_map(|p| positive(p.max_err).map(|e| (p.step as f64, e.min(ceiling))))
+            .filter_map(|p| positive(Some(p.max_err)).map(|e| (p.step as f64, e.min(ceiling))))
             .collect();
         // A bound that overflowed to infinity is as lost as one above the ceiling: both are drawn at the ceiling.
         let bound: Vec<(f64, f64)> = outcome
@@ -192,10 +213,12 @@ pub fn field_errors(field: &str, outcomes: &[FieldLens], tolerance: Tolerance) -
 }
 
 /// Every field and lens as `err / allowed`, against the tolerance line at 1: which field crosses, and when.
-pub fn tolerance_ratios(outcomes: &[FieldLens]) -> Result<Option<String>, String> {
+pub fn tolerance_ratios(outcomes: &[Outcome]) -> Result<Option<String>, String> {
     // As in `field_errors`: three decades above what the judging lenses reach (and above the line at 1).
-    let ceiling =
-        1e3 * judging(outcomes).flat_map(|o| o.points.iter().filter_map(|p| positive(p.tol_ratio))).fold(1.0, f64::max);
+    let ceiling = 1e3
+        * judging(outcomes)
+            .flat_map(|o| o.points.iter().filter_map(|p| positive(Some(p.tol_ratio))))
+            .fold(1.0, f64::max);
     let lines: Vec<Line> = outcomes
         .iter()
         .enumerate()
@@ -206,7 +229,7 @@ pub fn tolerance_ratios(outcomes: &[FieldLens]) -> Result<Option<String>, String
             points: o
                 .points
                 .iter()
-                .filter_map(|p| positive(p.tol_ratio).map(|r| (p.step as f64, r.min(ceiling))))
+                .filter_map(|p| positive(Some(p.tol_ratio)).map(|r| (p.step as f64, r.min(ceiling))))
                 .collect(),
         })
         .filter(|l| !l.points.is_empty())
@@ -243,9 +266,17 @@ fn bins(n: usize, max: usize) -> Vec<std::ops::Range<usize>> {
         .collect()
 }
 
+/// A drawn heat map and, when its colour scale was clipped, the sentence that says so.
+pub struct HeatMap {
+    pub svg: String,
+    pub clip: Option<String>,
+}
+
 /// The space × time heat map of one 1-D field under one lens: cell along x, recorded step along y (bottom = first),
-/// colour = log10 of the cell's error, with a colour bar.
-pub fn heat_map(field: &str, lens: &str, profiles: &[&Profile]) -> Result<Option<String>, String> {
+/// colour = log10 of the cell's error, with a colour bar. The colour scale stops at `ceiling` (see [`ceiling`])
+/// and spans at most [`MAX_DECADES`] below its top; values beyond are drawn in the end colours and the returned
+/// `clip` sentence says so.
+pub fn heat_map(field: &str, lens: &str, profiles: &[&Profile], ceiling: f64) -> Result<Option<HeatMap>, String> {
     let mut ordered: Vec<&Profile> = profiles.to_vec();
     ordered.sort_by_key(|p| p.step);
     let width = ordered.iter().map(|p| p.err.len()).max().unwrap_or(0);
@@ -281,6 +312,33 @@ pub fn heat_map(field: &str, lens: &str, profiles: &[&Profile]) -> Result<Option
     if !(lo.is_finite() && hi.is_finite()) {
         return Ok(None);
     }
+    // Clip the scale to the meaningful range: at most the ceiling, at most MAX_DECADES deep.
+    let top = if ceiling.is_finite() && ceiling > 0.0 { hi.min(ceiling.log10()) } else { hi };
+    let bottom = lo.max(top - f64::from(MAX_DECADES)).min(top);
+    let cells = grid.iter().flat_map(|(_, v)| v.iter().flatten());
+    let (above, below, total) = cells
+        .fold((0usize, 0usize, 0usize), |(a, b, t), &v| (a + usize::from(v > top), b + usize::from(v < bottom), t + 1));
+    let clip = (above + below > 0).then(|| {
+        let mut parts = Vec::new();
+        if above > 0 {
+            parts.push(format!(
+                "the colour scale stops at {} (three decades above the largest error the judging lenses reach and \
+                 the absolute tolerance); {above} of {total} cells lie above it and are drawn in the top colour",
+                twinstep::report::format::error(10f64.powf(top))
+            ));
+        }
+        if below > 0 {
+            parts.push(format!(
+                "it spans at most {MAX_DECADES} decades; {below} of {total} cells lie below {} and are drawn in the \
+                 bottom colour",
+                twinstep::report::format::error(10f64.powf(bottom))
+            ));
+        }
+        format!("Clipped: {}.", parts.join("; "))
+    });
+    let (lo, hi) = (bottom, top);
+    let grid: Vec<(u64, Vec<Option<f64>>)> =
+        grid.into_iter().map(|(step, v)| (step, v.into_iter().map(|x| x.map(|x| x.clamp(lo, hi))).collect())).collect();
     let span = if hi > lo { hi - lo } else { 1.0 };
     let mut svg = String::new();
     {
@@ -352,5 +410,5 @@ pub fn heat_map(field: &str, lens: &str, profiles: &[&Profile]) -> Result<Option
         bar.draw_series(bands).map_err(failed)?;
         root.present().map_err(failed)?;
     }
-    Ok(Some(svg))
+    Ok(Some(HeatMap { svg, clip }))
 }

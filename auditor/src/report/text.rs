@@ -2,17 +2,19 @@
 //! output is a terminal (the caller decides; `NO_COLOR` and redirection turn it off): the verdict line in green,
 //! yellow or red by its status, an incomplete-run line in yellow.
 
-use crate::trace::{Status, Trace};
+use crate::analysis::Analysis;
+use crate::trace::Status;
 
 /// SGR parameters: 32 green, 33 yellow, 1;31 bold red (ECMA-48, section 8.3.117).
 fn paint(line: &str, sgr: &str) -> String {
     format!("\x1b[{sgr}m{line}\x1b[0m")
 }
 
-/// Renders the trace as the library's terminal report, coloured when `colour` is set.
+/// Renders the analysis as the library's terminal report, coloured when `colour` is set.
 #[must_use]
-pub fn render(trace: &Trace, colour: bool) -> String {
-    let text = twinstep::report::render_text(trace);
+pub fn render(analysis: &Analysis<'_>, colour: bool) -> String {
+    let trace = analysis.trace;
+    let text = twinstep::report::render_analysis(analysis);
     if !colour {
         return text;
     }

@@ -7,20 +7,30 @@
 //! after an event, and at the end; repeated events at one site are written at their 1st, 2nd, 4th, 8th …
 //! occurrence and counted in full in the summary's `event_totals`. Under [`RecordPolicy::Every`] nothing is
 //! thinned.
+//!
+//! Three parts: [`plan`] (what an audit is about, checked before a file is created), this module (recording: the
+//! header, step records, events, profiles and the policy that thins them), and [`summary`] (at the end: results,
+//! growth fits, the evidence, the verdict and its notes). Every sentence the recorder writes into the trace — event
+//! details, the verdict text — comes from `crate::report::words`.
+
+mod plan;
+mod summary;
 
 use std::collections::{BTreeMap, VecDeque};
-use std::path::PathBuf;
 use std::time::{Instant, SystemTime, UNIX_EPOCH};
 
 use super::field::multi_index;
 use super::measure::{self, CellProfile, FieldMeasure, LensStep};
-use super::{validate_fields, Error, FieldSpec, RecordPolicy, Tolerance};
+use super::{Error, RecordPolicy};
 use crate::lens::Lens;
+use crate::report::words::{self, LostBecause};
 use crate::trace::{
-    Build, EventName, EventRecord, EventTotal, FieldStep, Header, Machine, ProfileRecord, Record, ResultRecord,
-    SiteRecord, StepRecord, Summary, Trace, TraceWriter, FORMAT, VERSION,
+    Build, EventName, EventRecord, EventTotal, FieldStep, Header, Machine, ProfileRecord, Record, SiteRecord,
+    StepRecord, Trace, TraceWriter, FORMAT, VERSION,
 };
-use crate::verdict::{self, Evidence};
+
+pub(crate) use plan::LensInfo;
+pub use plan::Plan;
 
 /// Steps recorded before and after an event under the `auto` policy.
 const EVENT_CONTEXT: usize = 2;
@@ -28,79 +38,6 @@ const EVENT_CONTEXT: usize = 2;
 const MAX_PROFILED_STEPS: usize = 200;
 /// Log-spaced recording: the next recorded step is at least `step · 10^(1/20)` (20 per decade).
 const LOG_RATIO: f64 = 1.122_018_454_301_963_3; // 10^(1/20), from the decimal expansion of 10^0.05
-
-/// What an audit is about: the part of the setup the recorder and the driver share.
-#[derive(Clone, Debug)]
-pub struct Plan {
-    /// The kernel's name, for the header.
-    pub kernel: String,
-    /// A line describing the run (grid, parameters).
-    pub scenario: String,
-    pub fields: Vec<FieldSpec>,
-    pub tolerance: Tolerance,
-    /// Steps audited.
-    pub steps: u64,
-    /// Steps the user plans to run (the verdict extrapolates to it); at least `steps`.
-    pub horizon: u64,
-    pub policy: RecordPolicy,
-    /// Where the trace goes.
-    pub trace: PathBuf,
-    /// Run each lens a second time with literals and constants as compiled, to split off the representation
-    /// error (`representation_err` in the step records).
-    pub split_representation: bool,
-    /// Write `profile` records (decimated per-cell errors) for the 1-D fields.
-    pub profiles: bool,
-}
-
-impl Plan {
-    /// A plan with the horizon equal to the audited steps and the `auto` policy.
-    #[must_use]
-    pub fn new(kernel: &str, fields: Vec<FieldSpec>, tolerance: Tolerance, steps: u64, trace: PathBuf) -> Plan {
-        Plan {
-            kernel: kernel.to_string(),
-            scenario: String::new(),
-            fields,
-            tolerance,
-            steps,
-            horizon: steps,
-            policy: RecordPolicy::Auto,
-            trace,
-            split_representation: false,
-            profiles: true,
-        }
-    }
-
-    /// Whether field `index` gets `profile` records: profiles are on and the field is 1-D.
-    pub(crate) fn profiled(&self, index: usize) -> bool {
-        self.profiles && self.fields.get(index).is_some_and(|f| f.shape.len() == 1)
-    }
-
-    /// Checks everything that can be checked before a file is created.
-    pub(crate) fn validate(&self) -> Result<(), Error> {
-        self.tolerance.validated()?;
-        validate_fields(&self.fields)?;
-        if self.steps == 0 {
-            return Err(Error::ZeroSteps);
-        }
-        if self.horizon < self.steps {
-            return Err(Error::HorizonTooShort { steps: self.steps, horizon: self.horizon });
-        }
-        Ok(())
-    }
-}
-
-/// A lens as the recorder knows it.
-#[derive(Clone, Debug)]
-pub(crate) struct LensInfo {
-    pub name: &'static str,
-    pub guaranteed: bool,
-}
-
-impl LensInfo {
-    pub(crate) fn of<L: Lens>() -> LensInfo {
-        LensInfo { name: L::NAME, guaranteed: L::GUARANTEED }
-    }
-}
 
 /// What the recorder remembers about one lens and field.
 #[derive(Clone, Debug, Default)]
@@ -237,7 +174,7 @@ impl Recorder {
         for (lens, lens_step) in steps.iter().enumerate() {
             self.track_fields(lens, lens_step, on_log_grid, &mut events);
             for &(kind, site, count) in &lens_step.events {
-                let detail = format!("{count} time(s) at this step");
+                let detail = words::occurrences_detail(count);
                 events.push(self.event(lens, kind.into(), None, Some(site.into()), count, detail));
             }
         }
@@ -265,22 +202,16 @@ impl Recorder {
             let track = &mut self.tracks[lens][index];
             let mut found = Vec::new();
             if m.nan && !track.nan {
-                found.push((EventName::Nan, format!("field {name} holds NaN from this step on")));
+                found.push((EventName::Nan, words::non_finite_detail(name, true)));
             }
             if m.infinite && !track.infinite {
-                found.push((EventName::Infinity, format!("field {name} holds an infinity from this step on")));
+                found.push((EventName::Infinity, words::non_finite_detail(name, false)));
             }
             (track.nan, track.infinite) = (m.nan, m.infinite);
             if m.tol_ratio > 1.0 && track.first_crossing.is_none() {
                 track.first_crossing = Some(s.step);
                 let cell = multi_index(m.worst_flat, &self.plan.fields[index].shape);
-                found.push((
-                    EventName::ToleranceCrossed,
-                    format!(
-                        "the largest error estimate {:.3e} (cell {cell:?}) is {:.3} times what the tolerance allows",
-                        m.max_err, m.tol_ratio
-                    ),
-                ));
+                found.push((EventName::ToleranceCrossed, words::crossing_detail(m.max_err, &cell, m.tol_ratio)));
             }
             if on_log_grid {
                 track.history.push((s.step, m.max_err));
@@ -297,11 +228,7 @@ impl Recorder {
             let track = &mut self.tracks[lens][mismatch.field];
             if !std::mem::replace(&mut track.mismatch, true) {
                 let cell = multi_index(mismatch.flat, &self.plan.fields[mismatch.field].shape);
-                let detail = format!(
-                    "cell {cell:?}: the lens's primal {:e} differs from the plain f64 original {:e}; the twin does not \
-reproduce the original kernel, so its error figures describe another computation",
-                    mismatch.lens_primal, mismatch.original
-                );
+                let detail = words::mismatch_detail(&cell, mismatch.lens_primal, mismatch.original);
                 events.push(self.event(lens, EventName::PrimalMismatch, Some(mismatch.field), None, 1, detail));
             }
         }
@@ -335,15 +262,16 @@ reproduce the original kernel, so its error figures describe another computation
                 }
                 self.tracks[lens][index].bound_lost = true;
                 let why = if bound_ratio > 1.0 {
-                    format!("it is {bound_ratio:.3} times the tolerance")
+                    LostBecause::PastTolerance(bound_ratio)
                 } else {
-                    format!("it exceeds the largest |u| = {:.3e}", m.max_abs)
+                    LostBecause::NoDigit { max_abs: m.max_abs }
                 };
-                let detail = format!(
-                    "bound lost: the guaranteed bound {bound:.3e} of lens {} is no longer useful ({why}), while the \
-estimate of lens {} is {:.3e}, within tolerance; the gap between the two is the overestimation of enclosure arithmetic \
-(the dependency effect), not rounding error the estimate sees",
-                    self.lenses[lens].name, self.lenses[estimate_lens].name, estimate.max_err
+                let detail = words::bound_lost_detail(
+                    bound,
+                    self.lenses[lens].name,
+                    why,
+                    self.lenses[estimate_lens].name,
+                    estimate.max_err,
                 );
                 let mut event = self.event(lens, EventName::BoundLost, Some(index), None, 1, detail);
                 if let Some(e) = event.as_mut() {
@@ -484,99 +412,7 @@ estimate of lens {} is {:.3e}, within tolerance; the gap between the two is the 
             let last = self.pending.len() == 1;
             self.release_front(last)?;
         }
-        let steps_done = self.last_step.unwrap_or(0);
-        let horizon = self.plan.horizon.max(steps_done);
-        let mut results = Vec::new();
-        let mut evidence = Vec::new();
-        for (lens, tracks) in self.tracks.iter().enumerate() {
-            for (index, track) in tracks.iter().enumerate() {
-                let Some((last_step, last)) = &track.last else { continue };
-                let mut history = track.history.clone();
-                if history.last().map(|h| h.0) != Some(*last_step) {
-                    history.push((*last_step, last.max_err));
-                }
-                let growth = verdict::fit_growth(&history);
-                let info = &self.lenses[lens];
-                let field = self.plan.fields[index].name.clone();
-                results.push(ResultRecord {
-                    lens: info.name.to_string(),
-                    field: field.clone(),
-                    first_crossing: track.first_crossing,
-                    final_max_err: last.max_err,
-                    final_bound: last.bound,
-                    growth,
-                    extrapolated_err: growth.map(|g| g.at(horizon as f64)),
-                });
-                // The error the tolerance allowed at the worst cell: err / (err / allowed).
-                let allowed_at_end = if last.tol_ratio > 0.0 {
-                    last.max_err / last.tol_ratio
-                } else {
-                    self.plan.tolerance.allowed(last.max_abs)
-                };
-                evidence.push(Evidence {
-                    lens: info.name.to_string(),
-                    field,
-                    guaranteed: info.guaranteed,
-                    first_crossing: track.first_crossing,
-                    final_max_err: last.max_err,
-                    allowed_at_end,
-                    growth,
-                });
-            }
-        }
-        let mut verdict = verdict::decide(&evidence, steps_done, horizon, &self.plan.tolerance.describe());
-        let mut notes = Vec::new();
-        if let Some(lost) = self.trace.events.iter().find(|e| e.kind == EventName::BoundLost) {
-            // Never hide it: an `enough` resting on an estimate is not a guarantee.
-            let note = format!(
-                "The guaranteed bound of lens {} for field {} was lost at step {} (bound {:.3e} against an estimate \
-of {:.3e}), so this verdict rests on the estimate, not on a guarantee.",
-                lost.lens,
-                lost.field.as_deref().unwrap_or("?"),
-                lost.step,
-                lost.bound.unwrap_or(f64::NAN),
-                lost.estimate.unwrap_or(f64::NAN)
-            );
-            notes.push(note);
-        }
-        let unstable: Vec<&EventTotal> = self
-            .totals
-            .values()
-            .filter(|t| matches!(t.kind, EventName::BranchInstability | EventName::IndexInstability))
-            .collect();
-        if let Some(first) = unstable.iter().min_by_key(|t| t.first_step) {
-            let sites: std::collections::BTreeSet<_> = unstable.iter().filter_map(|t| t.site.as_ref()).collect();
-            notes.push(format!(
-                "Branch or index instabilities at {} source site(s), first at step {} ({}): exact arithmetic could \
-have taken another path there, while the figures follow the path the f64 program took.",
-                sites.len(),
-                first.first_step,
-                first.site.as_ref().map_or_else(|| "no site".to_string(), ToString::to_string)
-            ));
-        }
-        if !notes.is_empty() {
-            // Before the closing caution, which stays last.
-            verdict.text = verdict.text.replace(verdict::CAUTION, &format!("{} {}", notes.join(" "), verdict::CAUTION));
-        }
-        if let Some(m) = self.totals.values().find(|t| t.kind == EventName::PrimalMismatch) {
-            // Said first: every number after it describes the twin's computation, not the original program's.
-            verdict.text = format!(
-                "Warning: the primal of lens {} differs from the plain f64 original (field {}, from step {}), so these \
-figures describe the twin's computation, not the original program's. {}",
-                m.lens,
-                m.field.as_deref().unwrap_or("?"),
-                m.first_step,
-                verdict.text
-            );
-        }
-        let summary = Summary {
-            steps_done,
-            complete: true,
-            wall_s: self.started.elapsed().as_secs_f64(),
-            results,
-            verdict,
-            event_totals: self.totals.values().cloned().collect(),
-        };
+        let summary = summary::summarize(&self);
         self.writer.write(&Record::Summary(summary.clone()))?;
         self.trace.summary = Some(summary);
         Ok(self.trace)
