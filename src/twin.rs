@@ -183,3 +183,36 @@ pub fn math_constant<T: Real, V: ConstantValue>(value: V, c: Constant) -> T {
         value.exact()
     }
 }
+
+/// A struct or enum that carries `#[twinstep::audit]`, and so has a generic twin `NameTwin<T>` beside it. The
+/// struct's attribute implements it; the twin of an annotated `impl` block checks it, so that an `impl` block
+/// whose struct has no twin fails with this trait's message rather than only with "cannot find type".
+#[diagnostic::on_unimplemented(
+    message = "`{Self}` has no twin struct, so its annotated `impl` block cannot be twinned",
+    label = "this type's struct carries no `#[twinstep::audit]`",
+    note = "put `#[twinstep::audit]` on the struct as well: its twin `…Twin<T>` then holds the type parameter in \
+            place of the float, and every method of the block becomes a method of it",
+    note = "or keep the struct as it is with `#[twinstep::audit(methods_only)]` on the `impl` block: only the \
+            methods that take a float then get a twin, named `…_twin`"
+)]
+pub trait TwinStruct {}
+
+/// The check an annotated `impl` block's twin makes: `S` has a twin struct.
+#[inline(always)]
+pub fn needs_twin_struct<S: TwinStruct + ?Sized>() {}
+
+/// The directory in which the build helper `twinstep-build` writes whole-file twins (`$OUT_DIR/twinstep-twins/…`).
+pub const TWINS_DIR: &str = "twinstep-twins";
+
+/// The file a site of twin code stands for: a whole-file twin written by the build helper keeps every token on
+/// the line of the kernel file, at `…/twinstep-twins/src/solver.rs` for `src/solver.rs`, so the part after the
+/// directory names the user's own file.
+#[must_use]
+pub fn source_file(file: &'static str) -> &'static str {
+    let marker = ["/", TWINS_DIR, "/"].concat();
+    let windows = ["\\", TWINS_DIR, "\\"].concat();
+    file.rfind(&marker)
+        .map(|at| &file[at + marker.len()..])
+        .or_else(|| file.rfind(&windows).map(|at| &file[at + windows.len()..]))
+        .unwrap_or(file)
+}

@@ -9,6 +9,7 @@
 
 mod driver;
 mod field;
+mod loop_audit;
 mod measure;
 mod recorder;
 mod tolerance;
@@ -18,6 +19,7 @@ use std::path::PathBuf;
 pub use crate::trace::{FieldSpec, RecordPolicy};
 pub use driver::{Audit, AuditLens, Scenario, Scheme};
 pub use field::{Field, Levels};
+pub use loop_audit::{capture, record_step, FieldCells, LoopAudit, Snapshot, StepNumber};
 pub use recorder::{Plan, Recorder};
 pub use tolerance::{ulp, Tolerance};
 
