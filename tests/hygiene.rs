@@ -84,7 +84,7 @@ pub struct Tagged<T> {
     pub damping: f64,
 }
 
-#[twinstep::audit]
+#[twinstep::audit(methods_only)]
 impl<T: Copy> Tagged<T> {
     /// Damps every value toward zero and returns the tag, so `T` is used in the signature as well.
     pub fn damp(&self, u: &mut [f64], dt: f64) -> T {

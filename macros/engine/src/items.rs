@@ -618,6 +618,13 @@ fn twin_module_item(ctx: &Ctx, item: &Item) -> Item {
             collect_module_facts(&mut child, inner);
             Item::Mod(twin_module(&child, inner, inner.ident.clone()))
         }
+        Item::Use(u) => {
+            // A `use` of a float constant (`use std::f64::consts::PI;`) is unused in the twin, whose `PI` became
+            // the lens's constant.
+            let mut kept = u.clone();
+            kept.attrs.push(syn::parse_quote!(#[allow(unused_imports)]));
+            Item::Use(kept)
+        }
         other => other.clone(),
     }
 }

@@ -8,7 +8,7 @@
 //! Phases: [`options`] parses the attribute; [`predicates`] answer questions about the user's tokens;
 //! [`reject`] finds what cannot be twinned (all of it, spanned); [`items`] builds the twins of whole items,
 //! running the [`pipeline`] of single-purpose passes over each body ([`consts`], [`tokens`], [`casts`],
-//! [`paths`], [`literals`], [`types`], [`calls`]); [`layout`] prints a whole-file twin on its original lines.
+//! [`paths`], [`literals`], [`types`], [`calls`], [`methods`]); [`layout`] prints a whole-file twin on its original lines.
 //! Nothing here panics on bad input: every failure is a `syn::Error` on the user's tokens, and a rejected item
 //! still gets twins, with stub bodies, so the user sees the real errors only.
 
@@ -19,6 +19,7 @@ pub mod context;
 pub mod items;
 pub mod layout;
 pub mod literals;
+pub mod methods;
 pub mod options;
 pub mod paths;
 pub mod pipeline;
