@@ -261,7 +261,7 @@ pub fn twin_item(ctx: &mut Ctx, item: &Item, mode: ImplMode) -> Twinned {
     });
     if error.is_some() {
         for twin in &mut twins {
-            stub_bodies(twin);
+            stub_bodies(twin, &ctx.param.to_string());
         }
     }
     Twinned { twins, error }
@@ -304,10 +304,20 @@ pub fn fields_of(item: &Item) -> proc_macro2::TokenStream {
 }
 
 /// Replaces every function body of a twin by one that cannot run, for an item that was rejected: the compile
-/// fails on the rejection anyway, and the twin's signature still lets the code that calls it resolve.
-pub fn stub_bodies(item: &mut Item) {
-    struct Stubs;
-    impl VisitMut for Stubs {
+/// fails on the rejection anyway, and the twin's signature still lets the code that calls it resolve. An impl of a
+/// trait for the bare parameter `param` (the twin of a rejected `impl Mul<Vec2> for f64`) is left out: the
+/// rejection has said why it cannot be, and the compiler would say it again.
+pub fn stub_bodies(item: &mut Item, param: &str) {
+    struct Stubs<'a>(&'a str);
+    impl VisitMut for Stubs<'_> {
+        fn visit_item_mod_mut(&mut self, module: &mut ItemMod) {
+            if let Some((_, items)) = &mut module.content {
+                items.retain(|item| {
+                    !matches!(item, Item::Impl(imp) if matches!(&*imp.self_ty, syn::Type::Path(p) if p.path.is_ident(self.0)))
+                });
+            }
+            syn::visit_mut::visit_item_mod_mut(self, module);
+        }
         fn visit_block_mut(&mut self, block: &mut syn::Block) {
             *block = syn::parse_quote!({
                 ::core::unreachable!("twinstep rejected this kernel at compile time; see the errors beside it")
@@ -331,7 +341,7 @@ pub fn stub_bodies(item: &mut Item) {
             }
         }
     }
-    Stubs.visit_item_mut(item);
+    Stubs(param).visit_item_mut(item);
 }
 
 /// The twin of a struct or enum annotated on its own: `NameTwin<T>` with the float type replaced in its fields,

@@ -70,6 +70,8 @@ impl Printer {
                     self.text(open);
                     self.joint = true;
                     self.stream(group.stream());
+                    // A closing delimiter on the line of the last token sits right after it.
+                    self.joint = true;
                     self.place(group.span_close());
                     self.text(close);
                 }
@@ -102,6 +104,7 @@ mod tests {
         let printed = on_original_lines(&file.items);
         let lines: Vec<&str> = printed.lines().collect();
         assert!(lines[2].contains("let a = u [0]"), "{printed}");
+        assert!(lines[0].contains("[f64]"), "{printed}");
         assert!(lines[3].contains("* 2.0"), "{printed}");
         assert!(lines[4].contains("u [1] = a"), "{printed}");
         assert!(syn::parse_file(&printed).is_ok(), "{printed}");

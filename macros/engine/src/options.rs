@@ -7,7 +7,7 @@
 //! same reason, structs and enums annotated on their own whose twins (`Grid` → `GridTwin<T>`) this item uses.
 //! `methods_only` on an `impl` block keeps the struct as it is and twins only the methods that take a float.
 //! `bounds` adds bounds on the twin's type parameter (`bounds = [::twinstep::num_traits::Float]`), for generic
-//! code the kernel calls that asks for more than [`Real`](https://docs.rs/twinstep) gives.
+//! code the kernel calls that asks for more than `twinstep::Real` gives.
 
 use crate::context::BaseFloat;
 use syn::parse::{Parse, ParseStream};
