@@ -245,13 +245,8 @@ struct Run<'a> {
 /// An audit of a loop that stays where it is: the original run and one run per lens, each calling the same
 /// `record!` at each step.
 pub struct LoopAudit<'a> {
-    kernel: String,
-    tolerance: Tolerance,
-    steps: u64,
-    horizon: Option<u64>,
-    trace: PathBuf,
-    policy: RecordPolicy,
-    profiles: bool,
+    /// Everything but the fields, which the first `record!` names.
+    plan: Plan,
     original: Option<Run<'a>>,
     lenses: Vec<Run<'a>>,
 }
@@ -270,44 +265,34 @@ impl<'a> LoopAudit<'a> {
             || std::env::temp_dir().join(format!("twinstep-loop-{}.jsonl", std::process::id())),
             PathBuf::from,
         );
-        LoopAudit {
-            kernel: kernel.to_string(),
-            tolerance,
-            steps,
-            horizon: None,
-            trace,
-            policy: RecordPolicy::Auto,
-            profiles: true,
-            original: None,
-            lenses: Vec::new(),
-        }
+        LoopAudit { plan: Plan::new(kernel, Vec::new(), tolerance, steps, trace), original: None, lenses: Vec::new() }
     }
 
     /// Where the trace goes.
     #[must_use]
     pub fn trace(mut self, path: impl Into<PathBuf>) -> Self {
-        self.trace = path.into();
+        self.plan.trace = path.into();
         self
     }
 
     /// The steps the user plans to run, when more than the audited ones (the verdict extrapolates to it).
     #[must_use]
     pub fn horizon(mut self, steps: u64) -> Self {
-        self.horizon = Some(steps);
+        self.plan.horizon = steps;
         self
     }
 
     /// Records every step and every event occurrence.
     #[must_use]
     pub fn every_step(mut self) -> Self {
-        self.policy = RecordPolicy::Every;
+        self.plan.policy = RecordPolicy::Every;
         self
     }
 
     /// Leaves out the per-cell `profile` records.
     #[must_use]
     pub fn without_profiles(mut self) -> Self {
-        self.profiles = false;
+        self.plan.profiles = false;
         self
     }
 
@@ -351,11 +336,12 @@ impl<'a> LoopAudit<'a> {
                 return Err(Error::DuplicateLens { lens: run.name.clone() });
             }
         }
-        self.tolerance.validated()?;
-        if self.steps == 0 {
+        self.plan.tolerance.validated()?;
+        if self.plan.steps == 0 {
             return Err(Error::ZeroSteps);
         }
-        let LoopAudit { kernel, tolerance, steps, horizon, trace, policy, profiles, original, lenses } = self;
+        let LoopAudit { plan, original, lenses } = self;
+        let (tolerance, profiles) = (plan.tolerance, plan.profiles);
         let infos: Vec<LensInfo> = lenses.iter().filter_map(|run| run.info.clone()).collect();
         let names: Vec<String> = lenses.iter().map(|run| run.name.clone()).collect();
         std::thread::scope(|scope| {
@@ -376,8 +362,7 @@ impl<'a> LoopAudit<'a> {
             };
             let original = original.map(&mut start);
             let lenses: Vec<Receiver<Message>> = lenses.into_iter().map(&mut start).collect();
-            let mut gather =
-                Gather { kernel, tolerance, steps, horizon, trace, policy, profiles, infos, names, recorder: None };
+            let mut gather = Gather { plan, infos, names, recorder: None };
             gather.all(original.as_ref(), &lenses)
         })
     }
@@ -410,13 +395,7 @@ fn panicked(payload: Box<dyn Any + Send>) -> Error {
 
 /// The main thread's side: takes one step of every run at a time and records it.
 struct Gather {
-    kernel: String,
-    tolerance: Tolerance,
-    steps: u64,
-    horizon: Option<u64>,
-    trace: PathBuf,
-    policy: RecordPolicy,
-    profiles: bool,
+    plan: Plan,
     infos: Vec<LensInfo>,
     names: Vec<String>,
     recorder: Option<(Recorder, Vec<&'static str>, Vec<usize>)>,
@@ -502,12 +481,9 @@ impl Gather {
             }
         }
         if self.recorder.is_none() {
-            let fields = names.iter().zip(&lengths).map(|(&name, &n)| FieldSpec::new(name, &[n])).collect();
-            let mut plan = Plan::new(&self.kernel, fields, self.tolerance, self.steps, self.trace.clone());
-            plan.horizon = self.horizon.unwrap_or(self.steps).max(self.steps);
-            plan.policy = self.policy;
-            plan.profiles = self.profiles;
-            let recorder = Recorder::for_lenses(&plan, self.infos.clone())?;
+            self.plan.fields = names.iter().zip(&lengths).map(|(&name, &n)| FieldSpec::new(name, &[n])).collect();
+            self.plan.horizon = self.plan.horizon.max(self.plan.steps);
+            let recorder = Recorder::for_lenses(&self.plan, self.infos.clone())?;
             self.recorder = Some((recorder, names.clone(), lengths.clone()));
         }
         let Some((recorder, expected_names, expected_lengths)) = self.recorder.as_mut() else { return Ok(()) };

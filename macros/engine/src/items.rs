@@ -89,11 +89,17 @@ fn add_generics(ctx: &Ctx, generics: &mut Generics) {
 }
 
 /// The attributes every generated item gets: the original's, and lints the rewrite itself can trigger.
-fn twin_attributes(original: &[Attribute]) -> Vec<Attribute> {
+fn twin_attributes(original: &[Attribute], span: Span) -> Vec<Attribute> {
     let mut attrs: Vec<Attribute> = original.iter().filter(|a| keep_attribute(a)).cloned().collect();
     // Hoisted constants keep their upper-case names as `let` bindings.
-    attrs.push(syn::parse_quote!(#[allow(non_snake_case)]));
+    attrs.push(allow(span, quote::quote!(non_snake_case)));
     attrs
+}
+
+/// `#[allow(lints)]`, spanned at the item it goes on (its `fn` or `use` keyword): a whole-file twin prints each
+/// token on its span's line, and an attribute must stand right above its item there.
+fn allow(span: Span, lints: TokenStream) -> Attribute {
+    syn::parse_quote_spanned!(span=> #[allow(#lints)])
 }
 
 /// The items nested in an original body that the twin keeps as written, in the order a walk meets them: every
@@ -163,7 +169,7 @@ impl VisitMut for NestedFns<'_> {
 /// The twin of a function, with its own type parameter, under `name`.
 pub fn twin_fn(ctx: &Ctx, f: &ItemFn, name: syn::Ident) -> ItemFn {
     let mut twin = f.clone();
-    twin.attrs = twin_attributes(&f.attrs);
+    twin.attrs = twin_attributes(&f.attrs, f.sig.fn_token.span);
     twin.sig.ident = name;
     // Trait methods cannot run in constant evaluation, so a `const fn` twin would not compile.
     twin.sig.constness = None;
@@ -178,7 +184,7 @@ pub fn twin_fn(ctx: &Ctx, f: &ItemFn, name: syn::Ident) -> ItemFn {
 /// The twin of a method inside an `impl` block whose self type stays as it is.
 fn twin_method(ctx: &Ctx, f: &syn::ImplItemFn, name: syn::Ident) -> syn::ImplItemFn {
     let mut twin = f.clone();
-    twin.attrs = twin_attributes(&f.attrs);
+    twin.attrs = twin_attributes(&f.attrs, f.sig.fn_token.span);
     twin.sig.ident = name;
     twin.sig.constness = None;
     pipeline::rewrite(ctx, &mut twin.sig);
@@ -395,7 +401,7 @@ fn twin_impl_of_twin_struct(ctx: &Ctx, imp: &ItemImpl) -> Vec<Item> {
             ImplItem::Const(_) => continue,
             ImplItem::Fn(f) => {
                 f.attrs.retain(keep_attribute);
-                f.attrs.push(syn::parse_quote!(#[allow(non_snake_case)]));
+                f.attrs.push(allow(f.sig.fn_token.span, quote::quote!(non_snake_case)));
                 f.sig.constness = None;
             }
             _ => {}
@@ -601,7 +607,7 @@ fn twin_module_item(ctx: &Ctx, item: &Item) -> Item {
             }
             for (inner, original) in twin.items.iter_mut().zip(&imp.items) {
                 if let ImplItem::Fn(f) = inner {
-                    f.attrs.push(syn::parse_quote!(#[allow(non_snake_case)]));
+                    f.attrs.push(allow(f.sig.fn_token.span, quote::quote!(non_snake_case)));
                 }
                 pipeline::rewrite(ctx, inner);
                 if let (ImplItem::Fn(f), ImplItem::Fn(original)) = (inner, original) {
@@ -632,7 +638,7 @@ fn twin_module_item(ctx: &Ctx, item: &Item) -> Item {
             // A `use` of a float constant (`use std::f64::consts::PI;`) is unused in the twin, whose `PI` became
             // the lens's constant.
             let mut kept = u.clone();
-            kept.attrs.push(syn::parse_quote!(#[allow(unused_imports)]));
+            kept.attrs.push(allow(u.use_token.span, quote::quote!(unused_imports)));
             Item::Use(kept)
         }
         other => other.clone(),
