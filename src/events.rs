@@ -46,7 +46,8 @@ impl Site {
     /// The site of a caller location.
     #[must_use]
     pub fn from_location(location: &'static Location<'static>) -> Site {
-        Site { file: location.file(), line: location.line(), column: location.column() }
+        // A whole-file twin's sites name the kernel file they stand for (`twin::source_file`).
+        Site { file: crate::twin::source_file(location.file()), line: location.line(), column: location.column() }
     }
 }
 

@@ -17,6 +17,8 @@ pub mod trace;
 pub mod twin;
 pub mod verdict;
 
+/// The num-traits crate the lenses implement (`Float`, `Num`, …), for `#[twinstep::audit(bounds = [...])]`.
+pub use num_traits;
 pub use real::{BaseOps, Constant, MixedOps, Real, RefOps};
 pub use twinstep_macros::{audit, scenario};
 

@@ -183,3 +183,150 @@ pub fn math_constant<T: Real, V: ConstantValue>(value: V, c: Constant) -> T {
         value.exact()
     }
 }
+
+/// A struct or enum that carries `#[twinstep::audit]`, and so has a generic twin `NameTwin<T>` beside it. The
+/// struct's attribute implements it; the twin of an annotated `impl` block checks it, so that an `impl` block
+/// whose struct has no twin fails with this trait's message rather than only with "cannot find type".
+#[diagnostic::on_unimplemented(
+    message = "`{Self}` has no twin struct, so its annotated `impl` block cannot be twinned",
+    label = "this type's struct carries no `#[twinstep::audit]`",
+    note = "put `#[twinstep::audit]` on the struct as well: its twin `…Twin<T>` then holds the type parameter in \
+            place of the float, and every method of the block becomes a method of it",
+    note = "or keep the struct as it is with `#[twinstep::audit(methods_only)]` on the `impl` block: only the \
+            methods that take a float then get a twin, named `…_twin`"
+)]
+pub trait TwinStruct {}
+
+/// The check an annotated `impl` block's twin makes: `S` has a twin struct.
+#[inline(always)]
+pub fn needs_twin_struct<S: TwinStruct + ?Sized>() {}
+
+/// The directory in which the build helper `twinstep-build` writes whole-file twins (`$OUT_DIR/twinstep-twins/…`).
+pub const TWINS_DIR: &str = "twinstep-twins";
+
+/// The file a site of twin code stands for: a whole-file twin written by the build helper keeps every token on
+/// the line of the kernel file, at `…/twinstep-twins/src/solver.rs` for `src/solver.rs`, so the part after the
+/// directory names the user's own file.
+#[must_use]
+pub fn source_file(file: &'static str) -> &'static str {
+    let marker = ["/", TWINS_DIR, "/"].concat();
+    let windows = ["\\", TWINS_DIR, "\\"].concat();
+    file.rfind(&marker)
+        .map(|at| &file[at + marker.len()..])
+        .or_else(|| file.rfind(&windows).map(|at| &file[at + windows.len()..]))
+        .unwrap_or(file)
+}
+
+/// A method call's receiver in a twin whose `bounds` add a trait sharing `Real`'s method names (`Float`): its
+/// inherent methods win over the traits' and call `Real`'s, so `x.sqrt()` on `T: Real + Float` is not ambiguous
+/// (see the engine's `methods` pass). For the integer types it has the methods integers share with `Real`'s
+/// names; any other receiver is reached through `Deref`.
+#[derive(Clone, Copy, Debug)]
+pub struct ByReal<X>(pub X);
+
+impl<X> core::ops::Deref for ByReal<X> {
+    type Target = X;
+    #[inline(always)]
+    fn deref(&self) -> &X {
+        &self.0
+    }
+}
+
+macro_rules! by_real {
+    (unary: $($name:ident -> $out:ty),*; binary: $($binary:ident),*) => {
+        impl<R: Real> ByReal<R> {
+            $(
+                #[inline(always)]
+                #[track_caller]
+                #[must_use]
+                pub fn $name(self) -> $out {
+                    <R as Real>::$name(self.0)
+                }
+            )*
+            $(
+                #[inline(always)]
+                #[track_caller]
+                #[must_use]
+                pub fn $binary(self, other: R) -> R {
+                    <R as Real>::$binary(self.0, other)
+                }
+            )*
+            /// `x.powi(n)`.
+            #[inline(always)]
+            #[track_caller]
+            #[must_use]
+            pub fn powi(self, n: i32) -> R {
+                <R as Real>::powi(self.0, n)
+            }
+            /// `x.mul_add(a, b)`.
+            #[inline(always)]
+            #[track_caller]
+            #[must_use]
+            pub fn mul_add(self, a: R, b: R) -> R {
+                <R as Real>::mul_add(self.0, a, b)
+            }
+            /// `x.clamp(lo, hi)`.
+            #[inline(always)]
+            #[track_caller]
+            #[must_use]
+            pub fn clamp(self, lo: R, hi: R) -> R {
+                <R as Real>::clamp(self.0, lo, hi)
+            }
+        }
+    };
+}
+by_real! {
+    unary: sqrt -> R, cbrt -> R, abs -> R, recip -> R, exp -> R, exp2 -> R, exp_m1 -> R, ln -> R, ln_1p -> R,
+        log2 -> R, log10 -> R, sin -> R, cos -> R, tan -> R, sin_cos -> (R, R), asin -> R, acos -> R, atan -> R,
+        sinh -> R, cosh -> R, tanh -> R, signum -> R, floor -> R, ceil -> R, round -> R, trunc -> R, fract -> R,
+        to_degrees -> R, to_radians -> R, is_nan -> bool, is_finite -> bool, is_infinite -> bool,
+        is_sign_negative -> bool, is_sign_positive -> bool;
+    binary: powf, log, atan2, hypot, max, min, copysign
+}
+
+macro_rules! by_real_integers {
+    (ord: $($int:ty)*; signed: $($signed:ty)*) => {
+        $(
+            impl ByReal<$int> {
+                /// The integer's own `max` (`Ord::max`).
+                #[inline(always)]
+                #[must_use]
+                pub fn max(self, other: $int) -> $int {
+                    Ord::max(self.0, other)
+                }
+                /// The integer's own `min` (`Ord::min`).
+                #[inline(always)]
+                #[must_use]
+                pub fn min(self, other: $int) -> $int {
+                    Ord::min(self.0, other)
+                }
+                /// The integer's own `clamp` (`Ord::clamp`).
+                #[inline(always)]
+                #[must_use]
+                pub fn clamp(self, lo: $int, hi: $int) -> $int {
+                    Ord::clamp(self.0, lo, hi)
+                }
+            }
+        )*
+        $(
+            impl ByReal<$signed> {
+                /// The integer's own `abs`.
+                #[inline(always)]
+                #[must_use]
+                pub fn abs(self) -> $signed {
+                    self.0.abs()
+                }
+                /// The integer's own `signum`.
+                #[inline(always)]
+                #[must_use]
+                pub fn signum(self) -> $signed {
+                    self.0.signum()
+                }
+            }
+        )*
+    };
+}
+by_real_integers! {
+    ord: u8 u16 u32 u64 u128 usize i8 i16 i32 i64 i128 isize;
+    signed: i8 i16 i32 i64 i128 isize
+}

@@ -4,7 +4,8 @@
 //! The shadows here are the ones real solver codes have: a precision alias, a local trait named `Add`, a local
 //! `struct Vec`, modules named `core` and `std`, a local trait named `Real`, a local function named like the
 //! engine's cast helper `to_usize`, the legacy `std::f64` module in scope, and a type parameter named `T` on the
-//! annotated function or `impl` block itself (the engine must then pick another name for the twin's parameter). Generated code that said `core::…`, `Vec`, `Real` or
+//! annotated function, struct or `impl` block itself (the engine must then pick another name for the twin's
+//! parameter, and a struct's twin and its `impl` block's must agree on where it goes). Generated code that said `core::…`, `Vec`, `Real` or
 //! `to_usize` instead of `::core::…` and `::twinstep::…` would fail to compile here or call the user's item.
 //!
 //! Each twin then runs with its parameter set to `f64` and must reproduce the original kernel bit for bit (compared
@@ -84,7 +85,7 @@ pub struct Tagged<T> {
     pub damping: f64,
 }
 
-#[twinstep::audit]
+#[twinstep::audit(methods_only)]
 impl<T: Copy> Tagged<T> {
     /// Damps every value toward zero and returns the tag, so `T` is used in the signature as well.
     pub fn damp(&self, u: &mut [f64], dt: f64) -> T {
@@ -92,6 +93,32 @@ impl<T: Copy> Tagged<T> {
             *v -= self.damping * dt * *v;
         }
         self.tag
+    }
+}
+
+/// A struct and its `impl` block annotated separately, with a type parameter named `T` of their own and the shadows
+/// in scope: the twin `PairTwin` must put its parameter in the same place in both, whatever name each picks.
+mod pair {
+    #[allow(unused_imports)]
+    use super::shadows::{to_usize, Add, Real, Vec};
+
+    #[twinstep::audit]
+    pub struct Pair<T> {
+        pub tag: T,
+        pub u: [f64; 6],
+        pub shape: Vec,
+    }
+
+    #[twinstep::audit]
+    impl<T: Copy> Pair<T> {
+        /// Damps every value toward its neighbour's and returns the tag.
+        pub fn step(&mut self) -> T {
+            let n = to_usize(self.u.len() as u32).min(self.shape.add_cells(0));
+            for i in 1..n {
+                self.u[i] = 0.75 * self.u[i] + 0.25 * self.u[i - 1];
+            }
+            self.tag
+        }
     }
 }
 
@@ -198,5 +225,17 @@ fn a_shadowing_module_twin_runs_bit_identical() {
         let peak_twin = rod_twin::step(&mut twin, &twin_shape);
         assert_eq!(bits(&original.u), bits(&twin.u), "fields differ after step {step}");
         assert_eq!(peak_original, peak_twin, "index casts differ after step {step}");
+    }
+}
+
+#[test]
+fn a_shadowed_struct_twin_with_its_own_parameter_runs_bit_identical() {
+    let initial = sine_profile::<6>();
+    let mut original = pair::Pair { tag: 'x', u: initial, shape: shadows::Vec { cells: 6 } };
+    let mut twin = pair::PairTwin::<f64, char> { tag: 'x', u: initial, shape: shadows::Vec { cells: 6 } };
+    for step in 0..25 {
+        let tags = (original.step(), twin.step());
+        assert_eq!(bits(&original.u), bits(&twin.u), "fields differ after step {step}");
+        assert_eq!(tags.0, tags.1);
     }
 }

@@ -11,6 +11,7 @@
 mod driver;
 mod field;
 mod lens_thread;
+mod loop_audit;
 mod measure;
 mod recorder;
 mod scenario;
@@ -22,6 +23,7 @@ pub use crate::trace::{FieldSpec, RecordPolicy};
 pub use driver::Audit;
 pub use field::{Field, Levels};
 pub use lens_thread::AuditLens;
+pub use loop_audit::{capture, record_step, FieldCells, LoopAudit, Snapshot, StepNumber};
 pub use recorder::{Plan, Recorder};
 pub use scenario::{Scenario, Scheme};
 pub use tolerance::{ulp, Tolerance};

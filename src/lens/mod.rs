@@ -54,6 +54,7 @@ pub mod dwmath;
 pub mod eft;
 pub mod elementary;
 pub mod interval;
+pub mod num;
 pub mod reference;
 #[macro_use]
 pub mod scalar;

@@ -237,6 +237,7 @@ macro_rules! lens_scalar {
         $crate::lens_scalar!(@compare $lens);
         $crate::lens_scalar!(@identities $lens);
         $crate::lens_scalar!(@real $lens);
+        $crate::lens_num_traits!($lens);
     };
 
     (@binary $lens:ident; $($trait:ident $method:ident $assign_trait:ident $assign:ident),*) => {$(

@@ -10,7 +10,7 @@
 //! rewrite its type and initializer like any other `let`.
 
 use crate::context::Ctx;
-use crate::items::mentions_float;
+use crate::predicates::mentions_float;
 use syn::visit_mut::{self, VisitMut};
 use syn::{Block, Item, Stmt};
 

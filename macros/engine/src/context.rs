@@ -56,6 +56,11 @@ pub struct Ctx {
     pub renames: BTreeMap<String, String>,
     /// Methods whose calls through `self.` or `Self::` go to a twin of another name.
     pub method_renames: BTreeMap<String, String>,
+    /// Structs and enums annotated on their own, by the name of their twin (`Solver` → `SolverTwin`): the name
+    /// is replaced wherever it appears, and gets the parameter in type positions.
+    pub type_renames: BTreeMap<String, String>,
+    /// Bounds of the parameter beyond the ones every twin carries (the attribute's `bounds`).
+    pub extra_bounds: Vec<Path>,
 }
 
 impl Ctx {
@@ -74,7 +79,18 @@ impl Ctx {
             bound_names: BTreeSet::new(),
             renames: BTreeMap::new(),
             method_renames: BTreeMap::new(),
+            type_renames: BTreeMap::new(),
+            extra_bounds: Vec::new(),
         }
+    }
+
+    /// Makes `name` (a struct or enum annotated on its own) mean its twin `twin` in every rewritten item.
+    pub fn rename_type(&mut self, name: &str, twin: &str) {
+        self.type_renames.insert(name.to_string(), twin.to_string());
+        // Both names count as "mentions the float" (a signature taking a `Solver` takes a twin), and the twin's
+        // name gets the parameter where it is a type.
+        self.generic_types.insert(name.to_string());
+        self.generic_types.insert(twin.to_string());
     }
 
     /// Whether the identifier names the float type.
@@ -135,8 +151,9 @@ impl Ctx {
     pub fn where_predicates(&self) -> TokenStream {
         let t = &self.param;
         let base = Ident::new(self.base.name(), Span::call_site());
+        let extra = self.extra_bounds.iter().map(|bound| quote::quote!(+ #bound));
         quote::quote! {
-            #t: ::twinstep::Real + ::twinstep::BaseOps<#base>,
+            #t: ::twinstep::Real + ::twinstep::BaseOps<#base> #(#extra)*,
             #base: ::twinstep::MixedOps<#t> + ::twinstep::MixedOps<#base>,
             for<'twin> &'twin #t: ::twinstep::RefOps<#t>
         }

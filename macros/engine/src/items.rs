@@ -1,80 +1,57 @@
-//! Twins of whole items: a free function, an `impl` block, an inline module.
+//! Twins of whole items: a free function, a struct or enum, an `impl` block, an inline module (or a whole file,
+//! for the build helper).
 //!
 //! Before / After, with the names the twins get:
 //!
 //! | annotated item | twin |
 //! |---|---|
 //! | `fn heat(u: &[f64], out: &mut [f64], r: f64)` | `fn heat_twin<T>(u: &[T], out: &mut [T], r: T)` |
-//! | `impl Rod { fn step(&mut self, u: &mut [f64]) }` | `impl Rod { fn step_twin<T>(&mut self, u: &mut [T]) }` |
-//! | `impl Rod { fn r(&self) -> f64 }` (no float parameter) | none: the twins call `self.r()`, a plain `f64` |
-//! | `impl Rod { fn new(dx: f64) -> Self }` (returns its own type) | none: a twin could not build a `Rod` from `T` |
+//! | `fn main()` (no float in the signature, floats in the body) | `fn main_twin<T>()`, called as `main_twin::<Bound>()` |
+//! | `struct Rod { u: Vec<f64>, n: usize }` | `struct RodTwin<T> { u: Vec<T>, n: usize }` |
+//! | `impl Rod { fn new(…) -> Self; fn step(&mut self) }` (struct annotated too) | `impl<T> RodTwin<T> { fn new(…) -> Self; fn step(&mut self) }` |
+//! | `#[twinstep::audit(methods_only)] impl Rod { fn step(&mut self, u: &mut [f64]) }` | `impl Rod { fn step_twin<T>(&mut self, u: &mut [T]) }` |
+//! | the same, `fn r(&self) -> f64` (no float parameter) | none: the twins call `self.r()`, a plain `f64` |
+//! | the same, `fn new(dx: f64) -> Self` (returns its own type) | none: a twin could not build a `Rod` from `T` |
 //! | `mod solver { struct Grid { u: Vec<f64> } fn step(g: &mut Grid) }` | `mod solver_twin { struct Grid<T> { u: Vec<T> } fn step<T>(g: &mut Grid<T>) }` |
 //! | `mod fv { trait Flux { fn f(&self, u: f64) -> f64; } impl Flux for Burgers { … } }` | `mod fv_twin { trait Flux<T> { fn f(&self, u: T) -> T; } impl<T> Flux<T> for Burgers { … } }` |
+//!
+//! A struct and its `impl` blocks are annotated separately (in one file or several) and meet by name: the
+//! struct's attribute emits `RodTwin<T>` and a marker impl `::twinstep::twin::TwinStruct for Rod`; an `impl`
+//! block's attribute emits `impl<T> RodTwin<T>` and a check that `Rod` has the marker, whose message says to
+//! annotate the struct (or to write `methods_only`) when it has not.
 //!
 //! Test-only items of a module (`#[cfg(test)]`, `#[test]`) are left out of its twin.
 //!
 //! Every twin carries `T: Real + BaseOps<f64>, f64: MixedOps<T> + MixedOps<f64>, for<'twin> &'twin T: RefOps<T>`
-//! (see [`Ctx::where_predicates`] for the trivial-looking `f64: MixedOps<f64>`). Items whose signature does not
-//! mention the float type are copied unchanged: they have nothing to twin, and a type parameter they do not use
-//! could not be inferred at their call sites. For the same reason a method of a struct that stays as it is gets a
-//! twin only when a parameter mentions the float, and not when it returns the struct itself. Twins are never
-//! `const fn`: the operators of `T` are trait methods.
+//! (see [`Ctx::where_predicates`] for the trivial-looking `f64: MixedOps<f64>`). Inside a module, items whose
+//! signature does not mention the float type are copied unchanged: they have nothing to twin, and a type parameter
+//! they do not use could not be inferred at their call sites. For the same reason a method of a struct that stays
+//! as it is gets a twin only when a parameter mentions the float, and not when it returns the struct itself. An
+//! annotated free function is different: it was annotated to be twinned, so its twin is generic even without a
+//! float in its signature, and its callers name the parameter. Twins are never `const fn`: the operators of `T`
+//! are trait methods.
+//!
+//! When the item has a rejected construct ([`reject`]), the twins are still built, with bodies that cannot run
+//! ([`stub_bodies`]): the build fails on the rejection, and the code that calls the twin still resolves.
 
 use crate::context::Ctx;
 use crate::pipeline;
-use crate::reject::Rejecter;
-use proc_macro2::{Span, TokenStream, TokenTree};
-use quote::{format_ident, ToTokens};
+use crate::predicates::{inputs_mention_float, keep_attribute, mentions_float, mentions_ident, returns_self};
+use crate::predicates::{is_test_item, type_name};
+use crate::reject;
+use proc_macro2::{Span, TokenStream};
+use quote::{format_ident, quote_spanned, ToTokens};
 use std::collections::{BTreeSet, VecDeque};
+use syn::spanned::Spanned;
 use syn::visit::Visit;
 use syn::visit_mut::VisitMut;
 use syn::{Attribute, Generics, ImplItem, Item, ItemFn, ItemImpl, ItemMod, Stmt};
 
-/// Whether the tokens mention the float type or a type that became generic.
-pub fn mentions_float(ctx: &Ctx, tokens: &impl ToTokens) -> bool {
-    fn scan(ctx: &Ctx, stream: TokenStream) -> bool {
-        stream.into_iter().any(|tree| match tree {
-            TokenTree::Ident(ident) => {
-                let name = ident.to_string();
-                ctx.float_names.contains(&name) || ctx.generic_types.contains(&name)
-            }
-            TokenTree::Group(group) => scan(ctx, group.stream()),
-            _ => false,
-        })
-    }
-    scan(ctx, tokens.to_token_stream())
-}
-
-/// Whether a method's parameters mention the float type: only then can its twin's type parameter be inferred from
-/// the arguments, and only then does the method compute on values the caller's lens tracks.
-///
-/// A method of a struct that stays as it is and whose float shows up in the return type alone (`fn
-/// diffusion_number(&self) -> f64`, reading the struct's own fields) computes on plain values: it is left alone
-/// and the twins call the original, whose `f64` result mixes with `T`.
-pub fn inputs_mention_float(ctx: &Ctx, sig: &syn::Signature) -> bool {
-    sig.inputs.iter().any(|input| mentions_float(ctx, input))
-}
-
-/// Whether a method of an `impl` block returns its own type (`fn new(dx: f64) -> Self`, `-> Result<Cable, E>`):
-/// the struct stays as it is, so a twin could not build one from `T` values; such a method gets no twin.
-fn returns_self(sig: &syn::Signature, self_ty: &syn::Type) -> bool {
-    let syn::ReturnType::Type(_, output) = &sig.output else { return false };
-    let self_name = match self_ty {
-        syn::Type::Path(p) => p.path.segments.last().map(|s| s.ident.to_string()),
-        _ => None,
-    };
-    output
-        .to_token_stream()
-        .into_iter()
-        .any(|t| mentions_ident(&t, "Self") || self_name.as_deref().is_some_and(|name| mentions_ident(&t, name)))
-}
-
-fn mentions_ident(tree: &TokenTree, name: &str) -> bool {
-    match tree {
-        TokenTree::Ident(ident) => ident == name,
-        TokenTree::Group(group) => group.stream().into_iter().any(|t| mentions_ident(&t, name)),
-        _ => false,
-    }
+/// What the item pass makes of one annotated item: its twins, and the errors of everything that cannot be
+/// twinned. With errors, the twins are stubs (see [`stub_bodies`]).
+pub struct Twinned {
+    pub twins: Vec<Item>,
+    pub error: Option<syn::Error>,
 }
 
 /// Picks a name for the type parameter that no generic parameter of the item already uses.
@@ -111,21 +88,18 @@ fn add_generics(ctx: &Ctx, generics: &mut Generics) {
     }
 }
 
-/// Attributes of the original that the twin must not repeat: symbol names (a second item would clash), test
-/// markers (the twin is not a test), and the audit attribute itself.
-fn keep_attribute(attr: &Attribute) -> bool {
-    let path = attr.path();
-    let last = path.segments.last().map(|s| s.ident.to_string()).unwrap_or_default();
-    let unsafe_name = matches!(&attr.meta, syn::Meta::List(list) if list.path.is_ident("unsafe"));
-    !(matches!(last.as_str(), "no_mangle" | "export_name" | "test" | "bench" | "audit") || unsafe_name)
-}
-
 /// The attributes every generated item gets: the original's, and lints the rewrite itself can trigger.
-fn twin_attributes(original: &[Attribute]) -> Vec<Attribute> {
+fn twin_attributes(original: &[Attribute], span: Span) -> Vec<Attribute> {
     let mut attrs: Vec<Attribute> = original.iter().filter(|a| keep_attribute(a)).cloned().collect();
     // Hoisted constants keep their upper-case names as `let` bindings.
-    attrs.push(syn::parse_quote!(#[allow(non_snake_case)]));
+    attrs.push(allow(span, quote::quote!(non_snake_case)));
     attrs
+}
+
+/// `#[allow(lints)]`, spanned at the item it goes on (its `fn` or `use` keyword): a whole-file twin prints each
+/// token on its span's line, and an attribute must stand right above its item there.
+fn allow(span: Span, lints: TokenStream) -> Attribute {
+    syn::parse_quote_spanned!(span=> #[allow(#lints)])
 }
 
 /// The items nested in an original body that the twin keeps as written, in the order a walk meets them: every
@@ -195,7 +169,7 @@ impl VisitMut for NestedFns<'_> {
 /// The twin of a function, with its own type parameter, under `name`.
 pub fn twin_fn(ctx: &Ctx, f: &ItemFn, name: syn::Ident) -> ItemFn {
     let mut twin = f.clone();
-    twin.attrs = twin_attributes(&f.attrs);
+    twin.attrs = twin_attributes(&f.attrs, f.sig.fn_token.span);
     twin.sig.ident = name;
     // Trait methods cannot run in constant evaluation, so a `const fn` twin would not compile.
     twin.sig.constness = None;
@@ -210,7 +184,7 @@ pub fn twin_fn(ctx: &Ctx, f: &ItemFn, name: syn::Ident) -> ItemFn {
 /// The twin of a method inside an `impl` block whose self type stays as it is.
 fn twin_method(ctx: &Ctx, f: &syn::ImplItemFn, name: syn::Ident) -> syn::ImplItemFn {
     let mut twin = f.clone();
-    twin.attrs = twin_attributes(&f.attrs);
+    twin.attrs = twin_attributes(&f.attrs, f.sig.fn_token.span);
     twin.sig.ident = name;
     twin.sig.constness = None;
     pipeline::rewrite(ctx, &mut twin.sig);
@@ -248,85 +222,244 @@ fn collect_bound_names(ctx: &mut Ctx, item: &Item) {
     Bindings(&mut ctx.bound_names).visit_item(item);
 }
 
-/// Rejects what cannot be twinned, then builds the twins of one annotated item.
-pub fn twin_item(ctx: &mut Ctx, item: &Item) -> syn::Result<Vec<Item>> {
+/// Which way an annotated `impl` block is twinned.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum ImplMode {
+    /// The struct has a twin of its own (`#[twinstep::audit]` on the struct too): the block becomes an `impl` of
+    /// `NameTwin<T>` with every item, under the same names.
+    TwinStruct,
+    /// The struct stays as it is (`methods_only`): each method with a float parameter gets a twin `name_twin`.
+    MethodsOnly,
+}
+
+/// The name of a struct's or enum's twin: `Solver` → `SolverTwin` (a type name stays in upper camel case).
+pub fn struct_twin_name(ident: &syn::Ident) -> syn::Ident {
+    format_ident!("{}Twin", ident, span = ident.span())
+}
+
+/// Rejects what cannot be twinned, then builds the twins of one annotated item. Nothing is left out on an
+/// error: the twins are still built, with stub bodies, so that the code calling them resolves and the user sees
+/// the real errors only.
+pub fn twin_item(ctx: &mut Ctx, item: &Item, mode: ImplMode) -> Twinned {
     choose_param(ctx, item);
     collect_bound_names(ctx, item);
-    if let Item::Mod(m) = item {
-        collect_module_facts(ctx, m);
-    }
-    let mut rejecter = Rejecter::new(ctx);
-    rejecter.visit_item(item);
-    if let Item::Impl(imp) = item {
-        if let Some((_, path, _)) = &imp.trait_ {
-            rejecter.errors.push(syn::Error::new_spanned(
-                path,
-                "twinstep cannot twin a trait impl on its own: the trait fixes the method signatures\n\
-                 hint: annotate the inline module that holds the type and the impl, so the type becomes generic too",
-            ));
-        }
-    }
-    if let Some(error) = rejecter.into_error() {
-        return Err(error);
-    }
     match item {
-        Item::Fn(f) => {
-            if !mentions_float(ctx, &f.sig) {
-                return Err(syn::Error::new_spanned(
-                    &f.sig,
-                    format!(
-                        "twinstep found no `{}` in this signature, so the twin would have nothing to take or return\n\
-                         hint: annotate the function that takes the fields, or name a precision alias with \
-                         `#[twinstep::audit(alias = Name)]`",
-                        ctx.base.name()
-                    ),
-                ));
+        Item::Mod(m) => collect_module_facts(ctx, m),
+        Item::Impl(imp) if mode == ImplMode::TwinStruct => {
+            if let Some(name) = type_name(&imp.self_ty) {
+                let twin = struct_twin_name(&syn::Ident::new(&name, Span::call_site()));
+                ctx.rename_type(&name, &twin.to_string());
             }
-            ctx.renames.insert(f.sig.ident.to_string(), twin_name(&f.sig.ident).to_string());
-            Ok(vec![Item::Fn(twin_fn(ctx, f, twin_name(&f.sig.ident)))])
         }
-        Item::Impl(imp) => Ok(vec![Item::Impl(twin_impl_block(ctx, imp)?)]),
-        Item::Mod(m) => Ok(vec![Item::Mod(twin_module(ctx, m, twin_name(&m.ident))?)]),
-        other => Err(syn::Error::new_spanned(
-            other,
-            "`#[twinstep::audit]` goes on a function, an `impl` block or an inline module (`mod name { … }`)",
-        )),
+        Item::Struct(_) | Item::Enum(_) => {
+            // The struct's own name inside its fields (`next: Option<Box<Node>>`) means its twin.
+            if let Some(ident) = struct_ident(item) {
+                ctx.rename_type(&ident.to_string(), &struct_twin_name(ident).to_string());
+            }
+        }
+        _ => {}
+    }
+    let errors = reject::rejections(ctx, item, mode);
+    let mut twins = build_twins(ctx, item, mode, !errors.is_empty());
+    let error = errors.into_iter().reduce(|mut all, e| {
+        all.combine(e);
+        all
+    });
+    if error.is_some() {
+        for twin in &mut twins {
+            stub_bodies(twin, &ctx.param.to_string());
+        }
+    }
+    Twinned { twins, error }
+}
+
+fn struct_ident(item: &Item) -> Option<&syn::Ident> {
+    match item {
+        Item::Struct(s) => Some(&s.ident),
+        Item::Enum(e) => Some(&e.ident),
+        _ => None,
     }
 }
 
-/// The twins of the methods of an `impl` block, as a second `impl` block of the same type.
-fn twin_impl_block(ctx: &mut Ctx, imp: &ItemImpl) -> syn::Result<ItemImpl> {
-    let methods: Vec<&syn::ImplItemFn> = imp
-        .items
-        .iter()
-        .filter_map(|i| match i {
-            ImplItem::Fn(f) if inputs_mention_float(ctx, &f.sig) && !returns_self(&f.sig, &imp.self_ty) => Some(f),
-            _ => None,
-        })
-        .collect();
-    if methods.is_empty() {
-        return Err(syn::Error::new_spanned(
-            &imp.self_ty,
-            format!(
-                "twinstep found no method of this `impl` block with `{}` in its parameters\n\
-                 hint: annotate the block whose methods take the fields",
-                ctx.base.name()
-            ),
-        ));
+/// The twins of an item, built whether or not it was rejected (`rejected`: only the parts that can be built
+/// without cascading errors are).
+fn build_twins(ctx: &mut Ctx, item: &Item, mode: ImplMode, rejected: bool) -> Vec<Item> {
+    match item {
+        Item::Fn(f) => {
+            ctx.renames.insert(f.sig.ident.to_string(), twin_name(&f.sig.ident).to_string());
+            vec![Item::Fn(twin_fn(ctx, f, twin_name(&f.sig.ident)))]
+        }
+        Item::Impl(imp) if imp.trait_.is_some() && rejected => Vec::new(),
+        Item::Impl(imp) => match mode {
+            ImplMode::TwinStruct => twin_impl_of_twin_struct(ctx, imp),
+            ImplMode::MethodsOnly => vec![Item::Impl(twin_impl_block(ctx, imp))],
+        },
+        Item::Mod(m) if m.content.is_some() => vec![Item::Mod(twin_module(ctx, m, twin_name(&m.ident)))],
+        Item::Struct(_) | Item::Enum(_) if !rejected || mentions_float(ctx, &fields_of(item)) => twin_struct(ctx, item),
+        _ => Vec::new(),
     }
+}
+
+/// The fields of a struct or the variants of an enum, as tokens.
+pub fn fields_of(item: &Item) -> proc_macro2::TokenStream {
+    match item {
+        Item::Struct(s) => s.fields.to_token_stream(),
+        Item::Enum(e) => e.variants.to_token_stream(),
+        _ => proc_macro2::TokenStream::new(),
+    }
+}
+
+/// Replaces every function body of a twin by one that cannot run, for an item that was rejected: the compile
+/// fails on the rejection anyway, and the twin's signature still lets the code that calls it resolve. An impl of a
+/// trait for the bare parameter `param` (the twin of a rejected `impl Mul<Vec2> for f64`) is left out: the
+/// rejection has said why it cannot be, and the compiler would say it again.
+pub fn stub_bodies(item: &mut Item, param: &str) {
+    struct Stubs<'a>(&'a str);
+    impl VisitMut for Stubs<'_> {
+        fn visit_item_mod_mut(&mut self, module: &mut ItemMod) {
+            if let Some((_, items)) = &mut module.content {
+                items.retain(|item| {
+                    !matches!(item, Item::Impl(imp) if matches!(&*imp.self_ty, syn::Type::Path(p) if p.path.is_ident(self.0)))
+                });
+            }
+            syn::visit_mut::visit_item_mod_mut(self, module);
+        }
+        fn visit_block_mut(&mut self, block: &mut syn::Block) {
+            *block = syn::parse_quote!({
+                ::core::unreachable!("twinstep rejected this kernel at compile time; see the errors beside it")
+            });
+        }
+        fn visit_attributes_mut(&mut self, attrs: &mut Vec<Attribute>) {
+            attrs.push(syn::parse_quote!(#[allow(unused_variables, unreachable_code, unused_mut)]));
+        }
+        fn visit_item_fn_mut(&mut self, f: &mut ItemFn) {
+            self.visit_attributes_mut(&mut f.attrs);
+            self.visit_block_mut(&mut f.block);
+        }
+        fn visit_impl_item_fn_mut(&mut self, f: &mut syn::ImplItemFn) {
+            self.visit_attributes_mut(&mut f.attrs);
+            self.visit_block_mut(&mut f.block);
+        }
+        fn visit_trait_item_fn_mut(&mut self, f: &mut syn::TraitItemFn) {
+            if let Some(block) = &mut f.default {
+                self.visit_attributes_mut(&mut f.attrs);
+                self.visit_block_mut(block);
+            }
+        }
+    }
+    Stubs(param).visit_item_mut(item);
+}
+
+/// The twin of a struct or enum annotated on its own: `NameTwin<T>` with the float type replaced in its fields,
+/// and the marker impl `::twinstep::twin::TwinStruct for Name` that an annotated `impl` block of it checks.
+fn twin_struct(ctx: &Ctx, item: &Item) -> Vec<Item> {
+    let (ident, generics) = match item {
+        Item::Struct(s) => (&s.ident, &s.generics),
+        Item::Enum(e) => (&e.ident, &e.generics),
+        _ => return Vec::new(),
+    };
+    let mut twin = item.clone();
+    match &mut twin {
+        Item::Struct(s) => {
+            s.attrs = s.attrs.iter().filter(|a| keep_attribute(a)).cloned().collect();
+            s.ident = struct_twin_name(ident);
+            add_type_param(ctx, &mut s.generics);
+            for field in s.fields.iter_mut() {
+                pipeline::rewrite(ctx, field);
+            }
+        }
+        Item::Enum(e) => {
+            e.attrs = e.attrs.iter().filter(|a| keep_attribute(a)).cloned().collect();
+            e.ident = struct_twin_name(ident);
+            add_type_param(ctx, &mut e.generics);
+            for variant in e.variants.iter_mut() {
+                pipeline::rewrite(ctx, variant);
+            }
+        }
+        _ => {}
+    }
+    let (impl_generics, type_generics, where_clause) = generics.split_for_impl();
+    let span = ident.span();
+    let marker: Option<Item> = syn::parse2(quote_spanned! {span=>
+        #[automatically_derived]
+        impl #impl_generics ::twinstep::twin::TwinStruct for #ident #type_generics #where_clause {}
+    })
+    .ok();
+    [Some(twin), marker].into_iter().flatten().collect()
+}
+
+/// The twin of an `impl` block of a struct that has a twin of its own: the same items, as an `impl` of
+/// `NameTwin<T>`, and a check that the struct really is annotated, which fails with a message saying so.
+fn twin_impl_of_twin_struct(ctx: &Ctx, imp: &ItemImpl) -> Vec<Item> {
+    let mut twin = imp.clone();
+    twin.attrs = imp.attrs.iter().filter(|a| keep_attribute(a)).cloned().collect();
+    pipeline::rewrite(ctx, &mut *twin.self_ty);
+    for (inner, original) in twin.items.iter_mut().zip(&imp.items) {
+        match inner {
+            // An associated constant stays a plain value (`Self::G` mixes with `T` like a module constant):
+            // the operators of `T` cannot run in constant evaluation.
+            ImplItem::Const(_) => continue,
+            ImplItem::Fn(f) => {
+                f.attrs.retain(keep_attribute);
+                f.attrs.push(allow(f.sig.fn_token.span, quote::quote!(non_snake_case)));
+                f.sig.constness = None;
+            }
+            _ => {}
+        }
+        pipeline::rewrite(ctx, inner);
+        if let (ImplItem::Fn(f), ImplItem::Fn(original)) = (inner, original) {
+            NestedFns::fix(ctx, &original.block, &mut f.block);
+        }
+    }
+    add_generics(ctx, &mut twin.generics);
+    let self_ty = &imp.self_ty;
+    let span = self_ty.span();
+    let (impl_generics, _, where_clause) = imp.generics.split_for_impl();
+    let check: Option<Item> = syn::parse2(quote_spanned! {span=>
+        const _: () = {
+            #[allow(dead_code)]
+            fn twinstep_struct_has_a_twin #impl_generics () #where_clause {
+                ::twinstep::twin::needs_twin_struct::<#self_ty>();
+            }
+        };
+    })
+    .ok();
+    [Some(Item::Impl(twin)), check].into_iter().flatten().collect()
+}
+
+/// The twins of the methods of an `impl` block whose struct stays as it is, as a second `impl` block of the same
+/// type: the methods with a float parameter that do not return the struct itself.
+fn twin_impl_block(ctx: &mut Ctx, imp: &ItemImpl) -> ItemImpl {
+    let methods = twinned_methods(ctx, imp);
     for f in &methods {
         ctx.method_renames.insert(f.sig.ident.to_string(), twin_name(&f.sig.ident).to_string());
     }
     let mut twin = imp.clone();
     twin.attrs = imp.attrs.iter().filter(|a| keep_attribute(a)).cloned().collect();
     twin.items = methods.iter().map(|f| ImplItem::Fn(twin_method(ctx, f, twin_name(&f.sig.ident)))).collect();
-    Ok(twin)
+    twin
+}
+
+/// The methods of an `impl` block that get a twin when the struct stays as it is.
+pub fn twinned_methods<'a>(ctx: &Ctx, imp: &'a ItemImpl) -> Vec<&'a syn::ImplItemFn> {
+    imp.items
+        .iter()
+        .filter_map(|i| match i {
+            ImplItem::Fn(f) if inputs_mention_float(ctx, &f.sig) && !returns_self(&f.sig, &imp.self_ty) => Some(f),
+            _ => None,
+        })
+        .collect()
 }
 
 /// Reads what the module declares that changes how its items are twinned: precision aliases, imported
 /// constants, float constants, and which structs and enums become generic.
 pub(crate) fn collect_module_facts(ctx: &mut Ctx, m: &ItemMod) {
     let Some((_, items)) = &m.content else { return };
+    collect_items_facts(ctx, items);
+}
+
+/// [`collect_module_facts`] for the items of a module, inline or a whole file.
+pub fn collect_items_facts(ctx: &mut Ctx, items: &[Item]) {
     for item in items {
         match item {
             Item::Type(alias) if ctx.is_float_type(&alias.ty) && alias.generics.params.is_empty() => {
@@ -414,45 +547,24 @@ fn collect_const_imports(ctx: &mut Ctx, tree: &syn::UseTree, prefix: &mut Vec<St
 }
 
 /// The twin of an inline module: a sibling module whose structs are generic and whose functions are twins.
-fn twin_module(ctx: &Ctx, m: &ItemMod, name: syn::Ident) -> syn::Result<ItemMod> {
-    let Some((brace, items)) = &m.content else {
-        return Err(syn::Error::new_spanned(
-            m,
-            "twinstep can only twin an inline module (`mod name { … }`): the attribute cannot see a module's file\n\
-             hint: put the kernel in an inline module, or annotate the functions in the file",
-        ));
-    };
-    let mut twins = Vec::with_capacity(items.len());
-    for item in items.iter().filter(|item| !is_test_item(item)) {
-        twins.push(twin_module_item(ctx, item)?);
-    }
+pub fn twin_module(ctx: &Ctx, m: &ItemMod, name: syn::Ident) -> ItemMod {
     let mut twin = m.clone();
     twin.attrs = m.attrs.iter().filter(|a| keep_attribute(a)).cloned().collect();
     twin.ident = name;
-    twin.content = Some((*brace, twins));
-    Ok(twin)
+    if let Some((brace, items)) = &m.content {
+        twin.content = Some((*brace, twin_module_items(ctx, items)));
+    }
+    twin
 }
 
-/// Whether an item of a module exists for the tests only (`#[cfg(test)] mod tests`, a `#[test]` function): it tests
-/// the original, and a copy in the twin module would run again against the twins' types.
-fn is_test_item(item: &Item) -> bool {
-    let attrs = match item {
-        Item::Mod(m) => &m.attrs,
-        Item::Fn(f) => &f.attrs,
-        Item::Use(u) => &u.attrs,
-        Item::Impl(i) => &i.attrs,
-        _ => return false,
-    };
-    attrs.iter().any(|attr| {
-        let cfg_test = attr.path().is_ident("cfg")
-            && matches!(&attr.meta, syn::Meta::List(list) if list.tokens.to_string() == "test");
-        cfg_test || attr.path().is_ident("test")
-    })
+/// The twins of the items of a module (inline, or a whole file given to the build helper), test items left out.
+pub fn twin_module_items(ctx: &Ctx, items: &[Item]) -> Vec<Item> {
+    items.iter().filter(|item| !is_test_item(item)).map(|item| twin_module_item(ctx, item)).collect()
 }
 
 /// One item of an annotated module, twinned if it has anything to twin, else as it is.
-fn twin_module_item(ctx: &Ctx, item: &Item) -> syn::Result<Item> {
-    Ok(match item {
+fn twin_module_item(ctx: &Ctx, item: &Item) -> Item {
+    match item {
         Item::Struct(s) if ctx.generic_types.contains(&s.ident.to_string()) => {
             let mut twin = s.clone();
             add_type_param(ctx, &mut twin.generics);
@@ -495,7 +607,7 @@ fn twin_module_item(ctx: &Ctx, item: &Item) -> syn::Result<Item> {
             }
             for (inner, original) in twin.items.iter_mut().zip(&imp.items) {
                 if let ImplItem::Fn(f) = inner {
-                    f.attrs.push(syn::parse_quote!(#[allow(non_snake_case)]));
+                    f.attrs.push(allow(f.sig.fn_token.span, quote::quote!(non_snake_case)));
                 }
                 pipeline::rewrite(ctx, inner);
                 if let (ImplItem::Fn(f), ImplItem::Fn(original)) = (inner, original) {
@@ -520,10 +632,17 @@ fn twin_module_item(ctx: &Ctx, item: &Item) -> syn::Result<Item> {
         Item::Mod(inner) if inner.content.is_some() => {
             let mut child = ctx.clone();
             collect_module_facts(&mut child, inner);
-            Item::Mod(twin_module(&child, inner, inner.ident.clone())?)
+            Item::Mod(twin_module(&child, inner, inner.ident.clone()))
+        }
+        Item::Use(u) => {
+            // A `use` of a float constant (`use std::f64::consts::PI;`) is unused in the twin, whose `PI` became
+            // the lens's constant.
+            let mut kept = u.clone();
+            kept.attrs.push(allow(u.use_token.span, quote::quote!(unused_imports)));
+            Item::Use(kept)
         }
         other => other.clone(),
-    })
+    }
 }
 
 /// Adds the bare type parameter (no bounds) to a struct's or enum's generics, after its lifetimes.

@@ -3,7 +3,11 @@
 //! A bare `f32` or `f64` is short for `float = …`.
 //!
 //! `calls` names free functions annotated on their own whose twins this item's twin must call: an attribute sees
-//! only its own item, so it cannot know that `flux` has a twin `flux_twin` unless told.
+//! only its own item, so it cannot know that `flux` has a twin `flux_twin` unless told. `structs` names, for the
+//! same reason, structs and enums annotated on their own whose twins (`Grid` → `GridTwin<T>`) this item uses.
+//! `methods_only` on an `impl` block keeps the struct as it is and twins only the methods that take a float.
+//! `bounds` adds bounds on the twin's type parameter (`bounds = [::twinstep::num_traits::Float]`), for generic
+//! code the kernel calls that asks for more than `twinstep::Real` gives.
 
 use crate::context::BaseFloat;
 use syn::parse::{Parse, ParseStream};
@@ -13,6 +17,9 @@ mod kw {
     syn::custom_keyword!(float);
     syn::custom_keyword!(alias);
     syn::custom_keyword!(calls);
+    syn::custom_keyword!(structs);
+    syn::custom_keyword!(bounds);
+    syn::custom_keyword!(methods_only);
     syn::custom_keyword!(f32);
     syn::custom_keyword!(f64);
 }
@@ -26,22 +33,34 @@ pub struct Options {
     pub aliases: Vec<String>,
     /// Free functions annotated on their own, whose calls in this item go to their twins (`flux` → `flux_twin`).
     pub calls: Vec<String>,
+    /// Structs and enums annotated on their own, whose names in this item mean their twins (`Grid` → `GridTwin<T>`).
+    pub structs: Vec<String>,
+    /// Extra bounds of the twin's type parameter.
+    pub bounds: Vec<syn::Path>,
+    /// On an `impl` block: the struct stays as it is, and only the methods with a float parameter get twins.
+    pub methods_only: bool,
 }
 
 impl Default for Options {
     fn default() -> Options {
-        Options { base: BaseFloat::F64, aliases: Vec::new(), calls: Vec::new() }
+        Options {
+            base: BaseFloat::F64,
+            aliases: Vec::new(),
+            calls: Vec::new(),
+            structs: Vec::new(),
+            bounds: Vec::new(),
+            methods_only: false,
+        }
     }
 }
 
-/// `calls = [name, …]`, after the keyword.
-fn parse_calls(input: ParseStream, calls: &mut Vec<String>) -> syn::Result<()> {
+/// `= [item, …]` after a list keyword (`calls`, `structs`, `bounds`).
+fn parse_list<T: syn::parse::Parse>(input: ParseStream) -> syn::Result<Vec<T>> {
     input.parse::<Token![=]>()?;
-    let names;
-    syn::bracketed!(names in input);
-    let names = syn::punctuated::Punctuated::<Ident, Token![,]>::parse_terminated(&names)?;
-    calls.extend(names.iter().map(Ident::to_string));
-    Ok(())
+    let items;
+    syn::bracketed!(items in input);
+    let items = syn::punctuated::Punctuated::<T, Token![,]>::parse_terminated(&items)?;
+    Ok(items.into_iter().collect())
 }
 
 fn parse_float(input: ParseStream) -> syn::Result<BaseFloat> {
@@ -73,9 +92,26 @@ impl Parse for Options {
         while !input.is_empty() {
             // `calls` is peeked outside the lookahead so that the "expected one of …" message of a wrong argument
             // keeps listing the options most kernels need.
-            if input.peek(kw::calls) {
+            let listed = if input.peek(kw::calls) {
                 input.parse::<kw::calls>()?;
-                parse_calls(input, &mut options.calls)?;
+                options.calls.extend(parse_list::<Ident>(input)?.iter().map(Ident::to_string));
+                true
+            } else if input.peek(kw::structs) {
+                input.parse::<kw::structs>()?;
+                options.structs.extend(parse_list::<Ident>(input)?.iter().map(Ident::to_string));
+                true
+            } else if input.peek(kw::bounds) {
+                input.parse::<kw::bounds>()?;
+                options.bounds.extend(parse_list::<syn::Path>(input)?);
+                true
+            } else if input.peek(kw::methods_only) {
+                input.parse::<kw::methods_only>()?;
+                options.methods_only = true;
+                true
+            } else {
+                false
+            };
+            if listed {
                 if input.is_empty() {
                     break;
                 }
@@ -134,6 +170,17 @@ mod tests {
         assert!(parse("calls [flux]").is_err());
         assert!(parse("calls = [flux] alias = Real").is_err());
         assert!(parse("calls = [1.5]").is_err());
+    }
+
+    #[test]
+    fn structs_bounds_and_methods_only_are_read() {
+        let options =
+            parse("structs = [Grid], bounds = [::twinstep::num_traits::Float], methods_only").expect("valid arguments");
+        assert_eq!(options.structs, ["Grid"]);
+        assert_eq!(options.bounds.len(), 1);
+        assert!(options.methods_only);
+        assert!(parse("bounds = Float").is_err());
+        assert!(parse("methods_only = true").is_err());
     }
 
     #[test]

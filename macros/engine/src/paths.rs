@@ -17,6 +17,14 @@
 //! Real>`: the rewrite cannot see whether `f64::max(self.dt, self.dt_min)` takes two values that became `T` or two
 //! plain `f64` fields of a struct that stayed as it is, and `f64` implements `Real` too. Constants have no
 //! arguments to infer from and name `T`.
+//!
+//! Before: `u.par_iter().cloned().reduce(|| 0.0, f64::max)`, `u.iter().map(f64::abs)` (a function passed as a value)
+//! After:  `… .reduce(|| …, |a, b| <_ as ::twinstep::Real>::max(a, b))`, `… .map(|a| <_ as ::twinstep::Real>::abs(a))`
+//!
+//! Why a closure: a lens records an event (a branch instability of `max`) at the caller's location, and the
+//! caller of a function passed as a value is the library that calls it (`rayon`'s or the standard library's
+//! `fold`), so the event would name a line inside that library. The closure's call of `max` is spanned at the
+//! user's `f64::max`, so the event names the user's line.
 
 use crate::context::{replace_expr, BaseFloat, Ctx};
 use crate::literals::value_with_reference;
@@ -36,54 +44,62 @@ const FLOAT_CONSTS: [(&str, &str); 7] = [
     ("NAN", "nan"),
 ];
 
-/// The associated functions of the float types that the `Real` trait provides under the same name.
-pub const REAL_METHODS: [&str; 45] = [
-    "sqrt",
-    "cbrt",
-    "abs",
-    "recip",
-    "powi",
-    "powf",
-    "exp",
-    "exp2",
-    "exp_m1",
-    "ln",
-    "ln_1p",
-    "log",
-    "log2",
-    "log10",
-    "sin",
-    "cos",
-    "tan",
-    "sin_cos",
-    "asin",
-    "acos",
-    "atan",
-    "atan2",
-    "sinh",
-    "cosh",
-    "tanh",
-    "hypot",
-    "mul_add",
-    "max",
-    "min",
-    "clamp",
-    "signum",
-    "copysign",
-    "floor",
-    "ceil",
-    "round",
-    "trunc",
-    "fract",
-    "to_degrees",
-    "to_radians",
-    "is_nan",
-    "is_finite",
-    "is_infinite",
-    "is_sign_negative",
-    "is_sign_positive",
-    "total_cmp",
+/// The associated functions of the float types that the `Real` trait provides under the same name, with the
+/// number of arguments each takes (the receiver counted): a function passed as a value (`fold(x, f64::max)`)
+/// becomes a closure of that many parameters.
+pub const REAL_METHODS: [(&str, usize); 45] = [
+    ("sqrt", 1),
+    ("cbrt", 1),
+    ("abs", 1),
+    ("recip", 1),
+    ("powi", 2),
+    ("powf", 2),
+    ("exp", 1),
+    ("exp2", 1),
+    ("exp_m1", 1),
+    ("ln", 1),
+    ("ln_1p", 1),
+    ("log", 2),
+    ("log2", 1),
+    ("log10", 1),
+    ("sin", 1),
+    ("cos", 1),
+    ("tan", 1),
+    ("sin_cos", 1),
+    ("asin", 1),
+    ("acos", 1),
+    ("atan", 1),
+    ("atan2", 2),
+    ("sinh", 1),
+    ("cosh", 1),
+    ("tanh", 1),
+    ("hypot", 2),
+    ("mul_add", 3),
+    ("max", 2),
+    ("min", 2),
+    ("clamp", 3),
+    ("signum", 1),
+    ("copysign", 2),
+    ("floor", 1),
+    ("ceil", 1),
+    ("round", 1),
+    ("trunc", 1),
+    ("fract", 1),
+    ("to_degrees", 1),
+    ("to_radians", 1),
+    ("is_nan", 1),
+    ("is_finite", 1),
+    ("is_infinite", 1),
+    ("is_sign_negative", 1),
+    ("is_sign_positive", 1),
+    ("total_cmp", 2),
 ];
+
+/// The number of arguments of a `Real` function named like a float method, if it is one.
+#[must_use]
+pub fn real_method_arity(name: &str) -> Option<usize> {
+    REAL_METHODS.iter().find(|(method, _)| *method == name).map(|(_, arity)| *arity)
+}
 
 /// The constants of `std::f64::consts`.
 pub const MATH_CONSTS: [&str; 19] = [
@@ -146,8 +162,47 @@ impl PathRewriter<'_> {
     }
 }
 
+impl PathRewriter<'_> {
+    /// `f64::max` (a float function named through the float type), as the function's name, if `expr` is one.
+    fn float_function(&self, expr: &Expr) -> Option<(syn::Ident, usize)> {
+        let Expr::Path(p) = expr else { return None };
+        if p.qself.is_some() || p.path.leading_colon.is_some() || p.path.segments.len() != 2 {
+            return None;
+        }
+        let (float, name) = (&p.path.segments[0], &p.path.segments[1]);
+        let plain = float.arguments.is_none() && name.arguments.is_none();
+        let arity = real_method_arity(&name.ident.to_string())?;
+        (plain && self.ctx.is_float_ident(&float.ident)).then(|| (name.ident.clone(), arity))
+    }
+}
+
 impl VisitMut for PathRewriter<'_> {
     fn visit_expr_mut(&mut self, expr: &mut Expr) {
+        if let Expr::Call(call) = expr {
+            // A called float function stays a path (`f64::max(a, b)` → `<_ as Real>::max(a, b)`): only a function
+            // passed as a value becomes a closure.
+            if self.float_function(&call.func).is_some() {
+                self.visit_expr_path_callee(&mut call.func);
+                for arg in call.args.iter_mut() {
+                    self.visit_expr_mut(arg);
+                }
+                return;
+            }
+        }
+        if let Some((name, arity)) = self.float_function(expr) {
+            let span = expr.span();
+            let params: Vec<syn::Ident> =
+                ["a", "b", "c"].iter().take(arity).map(|p| syn::Ident::new(p, span)).collect();
+            replace_expr(expr, quote_spanned!(span=> |#(#params),*| <_ as ::twinstep::Real>::#name(#(#params),*)));
+            return;
+        }
+        self.visit_expr_path_callee(expr);
+    }
+}
+
+impl PathRewriter<'_> {
+    /// Rewrites a path expression (a callee or any other path).
+    fn visit_expr_path_callee(&mut self, expr: &mut Expr) {
         let Expr::Path(p) = expr else {
             visit_mut::visit_expr_mut(self, expr);
             return;
@@ -178,7 +233,7 @@ impl VisitMut for PathRewriter<'_> {
                 if let Some((_, function)) = FLOAT_CONSTS.iter().find(|(c, _)| name_str == *c) {
                     let function = syn::Ident::new(function, name.span());
                     replace_expr(expr, quote_spanned!(span=> #real::#function()));
-                } else if REAL_METHODS.contains(&name_str.as_str()) {
+                } else if real_method_arity(&name_str).is_some() {
                     let name = (*name).clone();
                     replace_expr(expr, quote_spanned!(span=> <_ as ::twinstep::Real>::#name));
                 } else if name_str == "from" {

@@ -2,13 +2,15 @@
 //!
 //! Order matters: float constants become `let`s before anything else; macro inputs are rewritten (by this same
 //! pipeline, recursively) while the surrounding code is still original; casts are rewritten before the type pass
-//! would turn `as f64` into `as T`; paths and literals before types; calls last.
+//! would turn `as f64` into `as T`; paths and literals before types; calls, then the method disambiguation of
+//! `bounds` (after the calls pass, which renames `self.` method calls by their names).
 
 use crate::calls::CallRetargeter;
 use crate::casts::CastRewriter;
 use crate::consts::ConstHoister;
 use crate::context::Ctx;
 use crate::literals::LiteralRewriter;
+use crate::methods::MethodDisambiguator;
 use crate::paths::PathRewriter;
 use crate::tokens::MacroRewriter;
 use crate::types::TypeRewriter;
@@ -50,4 +52,5 @@ pub fn rewrite(ctx: &Ctx, node: &mut dyn Walk) {
     node.walk(&mut LiteralRewriter { ctx });
     node.walk(&mut TypeRewriter { ctx });
     node.walk(&mut CallRetargeter { ctx });
+    node.walk(&mut MethodDisambiguator { ctx });
 }

@@ -20,16 +20,26 @@
 //! | float patterns | `0.0 =>`, `0.5..=1.0 =>`, `f64::INFINITY =>` | `float_literal_pattern` |
 //! | float on the left of an operator impl | `impl Mul<Vec2> for f64` | `operator_impl_with_float_on_left` |
 //! | cast to the other float | `x as f32` in an `f64` kernel | `cast_to_other_float` |
-//! | the attribute on another item | `#[twinstep::audit] struct Grid` | `attribute_on_struct` |
+//! | the attribute on another item | `#[twinstep::audit] const DT: f64 = 0.1;` | `attribute_on_constant` |
+//! | a trait impl whose trait names the float | `impl AddAssign<f64> for Field` | `trait_impl_alone` |
+//! | a function without any float | `fn count(n: usize) -> usize { n + 1 }` | `function_without_float` |
+//! | a struct without float fields | `#[twinstep::audit] struct Grid { n: usize }` | `struct_without_float` |
+//! | `methods_only` with no method taking a float | `#[twinstep::audit(methods_only)] impl Rod { fn step(&mut self) }` | `methods_only_without_float_parameter` |
+//! | a module in its own file | `#[twinstep::audit] mod solver;` | `file_module` |
 //!
-//! (`items` rejects a trait impl annotated alone and a signature without the float type; `options` rejects
-//! malformed attribute arguments. The cases live in the root crate's `tests/compile_fail/`.)
+//! The item-level checks (the last five and the attribute on another item) are [`rejections`]'s; `options`
+//! rejects malformed attribute arguments. The cases live in the root crate's `tests/compile_fail/`. An `impl`
+//! block whose struct carries no attribute is not rejected here, since the attribute cannot see the struct: its
+//! twin checks at compile time that the struct has a twin, and that check's message says what to do
+//! (`impl_without_twin_struct`).
 //!
 //! The walk also looks into macro invocations whose input parses as expressions (`println!("{}", x.to_bits())`),
 //! because the token pass rewrites those too and a rejected construct there would otherwise surface as a
 //! confusing type error in the twin.
 
 use crate::context::Ctx;
+use crate::items::{fields_of, twinned_methods, ImplMode};
+use crate::predicates::{mentions_float, mentions_float_literal, type_name};
 use proc_macro2::{TokenStream, TokenTree};
 use quote::ToTokens;
 use syn::visit::{self, Visit};
@@ -67,7 +77,7 @@ impl<'a> Rejecter<'a> {
     }
 
     /// Records one rejection, spanned on the user's tokens, in the one shape every message has.
-    fn reject(&mut self, tokens: impl ToTokens, construct: &str, why: &str, hint: &str) {
+    pub fn reject(&mut self, tokens: impl ToTokens, construct: &str, why: &str, hint: &str) {
         let message = format!("twinstep cannot twin {construct}: {why}\nhint: {hint}");
         self.errors.push(syn::Error::new_spanned(tokens, message));
     }
@@ -141,9 +151,7 @@ impl<'a> Rejecter<'a> {
     /// The annotated item itself must be something the engine twins.
     fn check_annotated_item(&mut self, item: &Item) {
         let what = match item {
-            Item::Fn(_) | Item::Impl(_) | Item::Mod(_) => return,
-            Item::Struct(_) => "a struct",
-            Item::Enum(_) => "an enum",
+            Item::Fn(_) | Item::Impl(_) | Item::Mod(_) | Item::Struct(_) | Item::Enum(_) => return,
             Item::Union(_) => "a union",
             Item::Trait(_) => "a trait",
             Item::Const(_) => "a constant",
@@ -156,10 +164,94 @@ impl<'a> Rejecter<'a> {
         self.reject(
             item,
             &format!("{what} on its own"),
-            "`#[twinstep::audit]` goes on a function, an `impl` block or an inline module (`mod name { … }`)",
+            "`#[twinstep::audit]` goes on a function, a struct or enum, an `impl` block or an inline module",
             "annotate the kernel function, or an inline module that holds this item together with the functions \
              that use it",
         );
+    }
+}
+
+/// Every reason the annotated item cannot be twinned: the constructs in it ([`Rejecter`]) and the item-level
+/// checks, all of them, each spanned on the user's tokens.
+pub fn rejections(ctx: &Ctx, item: &Item, mode: ImplMode) -> Vec<syn::Error> {
+    let mut rejecter = Rejecter::new(ctx);
+    rejecter.visit_item(item);
+    let base = ctx.base.name();
+    match item {
+        Item::Fn(f) if !mentions_float(ctx, f) && !mentions_float_literal(ctx, &f.block) => rejecter.reject(
+            &f.sig,
+            "a function without any float",
+            &format!("neither its signature nor its body mentions `{base}` or holds a float literal"),
+            "annotate the function that computes in floats, or name a precision alias with \
+             `#[twinstep::audit(alias = Name)]`",
+        ),
+        Item::Struct(_) | Item::Enum(_) if !mentions_float(ctx, &fields_of(item)) => rejecter.reject(
+            item_ident(item),
+            "a struct without float fields",
+            &format!("no field mentions `{base}`, so its twin would be the struct itself"),
+            "leave the struct as it is and write `#[twinstep::audit(methods_only)]` on its `impl` blocks",
+        ),
+        Item::Mod(m) if m.content.is_none() => rejecter.reject(
+            m,
+            "a module in its own file here",
+            "an attribute sees only the `mod name;` line, not the file",
+            "twin the file from a build script with the `twinstep-build` crate \
+             (`twinstep_build::twin_file(\"src/name.rs\")`, then `include!` the twins; see docs/rewrite.md), or \
+             annotate the functions in the file",
+        ),
+        Item::Impl(imp) => check_impl(&mut rejecter, imp, mode),
+        _ => {}
+    }
+    rejecter.errors
+}
+
+fn item_ident(item: &Item) -> TokenStream {
+    match item {
+        Item::Struct(s) => s.ident.to_token_stream(),
+        Item::Enum(e) => e.ident.to_token_stream(),
+        other => other.to_token_stream(),
+    }
+}
+
+/// What an annotated `impl` block must satisfy in each mode.
+fn check_impl(rejecter: &mut Rejecter, imp: &syn::ItemImpl, mode: ImplMode) {
+    let ctx = rejecter.ctx;
+    let base = ctx.base.name();
+    if let Some((_, path, _)) = &imp.trait_ {
+        // The trait fixes the method signatures: a twin may implement it for the twin struct only when no
+        // signature changes (`impl Default for Rod`, `impl Display for Rod`).
+        let signatures_float =
+            imp.items.iter().any(|i| matches!(i, syn::ImplItem::Fn(f) if mentions_float(ctx, &f.sig)));
+        let trait_float = path.segments.iter().any(|s| mentions_float(ctx, &s.arguments));
+        if mode == ImplMode::MethodsOnly || signatures_float || trait_float {
+            rejecter.reject(
+                path,
+                "a trait impl on its own",
+                "the trait fixes the method signatures, and the twin's would take the type parameter instead",
+                "annotate the inline module that holds the trait, the type and the impl, so the trait becomes \
+                 generic too",
+            );
+            return;
+        }
+    }
+    match mode {
+        ImplMode::TwinStruct if type_name(&imp.self_ty).is_none() => rejecter.reject(
+            &imp.self_ty,
+            "an `impl` block of this type",
+            "its twin is an `impl` of the struct's twin, found by the struct's name, and this type has none",
+            "annotate the struct and write its `impl` block for the struct by name (`impl Rod { … }`)",
+        ),
+        ImplMode::MethodsOnly if imp.trait_.is_none() && twinned_methods(ctx, imp).is_empty() => rejecter.reject(
+            &imp.self_ty,
+            "this `impl` block with `methods_only`",
+            &format!(
+                "no method takes `{base}`, and with the struct kept as it is only those get a twin \
+                 (`step(&mut self)` reads and writes the struct's own `{base}` fields)"
+            ),
+            "drop `methods_only` and put `#[twinstep::audit]` on the struct too, so its fields become the type \
+             parameter and every method gets a twin",
+        ),
+        _ => {}
     }
 }
 
@@ -184,14 +276,7 @@ fn is_simd_name(name: &str) -> bool {
 /// Whether a pattern's own tokens hold a float literal of the kernel's type (`0.5`, `-1.0`, `0.0..=1.0`); a literal
 /// of the other float type (`0.5f32` in an `f64` kernel) matches a value the twin keeps as it is.
 fn has_float_literal(ctx: &Ctx, tokens: TokenStream) -> bool {
-    tokens.into_iter().any(|tree| match tree {
-        TokenTree::Literal(literal) => match syn::parse2::<syn::Lit>(literal.into_token_stream()) {
-            Ok(syn::Lit::Float(float)) => float.suffix().is_empty() || float.suffix() == ctx.base.name(),
-            _ => false,
-        },
-        TokenTree::Group(group) => has_float_literal(ctx, group.stream()),
-        _ => false,
-    })
+    mentions_float_literal(ctx, &tokens)
 }
 
 /// `&f64`, `&mut f64` and `(f64)` are the float type for the orphan rules too.
@@ -343,7 +428,7 @@ impl<'ast> Visit<'ast> for Rejecter<'_> {
     }
 
     fn visit_item_union(&mut self, union: &'ast syn::ItemUnion) {
-        if crate::items::mentions_float(self.ctx, &union.fields) {
+        if mentions_float(self.ctx, &union.fields) {
             self.reject(
                 &union.ident,
                 &format!("the union `{}`", union.ident),

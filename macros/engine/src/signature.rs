@@ -14,7 +14,8 @@
 use crate::context::{BaseFloat, Ctx};
 use crate::items::{collect_module_facts, TWIN_SUFFIX};
 use crate::options::Options;
-use crate::{is_audit_attribute, SourceError};
+use crate::predicates::is_audit_attribute;
+use crate::SourceError;
 use quote::ToTokens;
 use syn::{FnArg, ImplItem, Item, Pat, ReturnType, Signature, Type};
 

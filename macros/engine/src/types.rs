@@ -6,6 +6,9 @@
 //! Structs, enums and traits of an annotated module that became generic get the parameter put first among their
 //! arguments where they are named as types or bounds (`Grid` becomes `Grid<T>`, `F: Flux` becomes `F: Flux<T>`,
 //! `&dyn Flux` becomes `&dyn Flux<T>`).
+//!
+//! A struct or enum annotated on its own is named by its twin everywhere (`Solver` becomes `SolverTwin<T>` as a
+//! type, `SolverTwin` in `SolverTwin { u, dx }` and `SolverTwin::new(…)`), whatever path leads to it.
 
 use crate::context::Ctx;
 use syn::visit_mut::{self, VisitMut};
@@ -38,6 +41,15 @@ impl VisitMut for TypeRewriter<'_> {
         visit_mut::visit_trait_bound_mut(self, bound);
         self.add_param_if_generic(&mut bound.path);
     }
+
+    fn visit_path_mut(&mut self, path: &mut syn::Path) {
+        visit_mut::visit_path_mut(self, path);
+        for segment in path.segments.iter_mut() {
+            if let Some(twin) = self.ctx.type_renames.get(&segment.ident.to_string()) {
+                segment.ident = syn::Ident::new(twin, segment.ident.span());
+            }
+        }
+    }
 }
 
 impl TypeRewriter<'_> {
@@ -45,7 +57,10 @@ impl TypeRewriter<'_> {
     fn add_param_if_generic(&self, path: &mut syn::Path) {
         let single = path.leading_colon.is_none() && (path.segments.len() == 1 || is_self_path(path));
         if let Some(last) = path.segments.last_mut() {
-            if single && self.ctx.generic_types.contains(&last.ident.to_string()) {
+            let name = last.ident.to_string();
+            // The twin of a struct annotated on its own is found through any path (`crate::model::SolverTwin`).
+            let renamed = self.ctx.type_renames.values().any(|twin| *twin == name);
+            if (single || renamed) && self.ctx.generic_types.contains(&name) {
                 add_param(&mut last.arguments, self.ctx);
             }
         }

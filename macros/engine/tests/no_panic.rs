@@ -46,6 +46,7 @@ fn annotated_items(items: &[syn::Item], found: &mut Vec<(TokenStream, TokenStrea
             syn::Item::Impl(i) => &mut i.attrs,
             syn::Item::Mod(m) => &mut m.attrs,
             syn::Item::Struct(s) => &mut s.attrs,
+            syn::Item::Enum(e) => &mut e.attrs,
             _ => continue,
         };
         if let Some(index) = attrs.iter().position(is_audit) {
@@ -289,6 +290,30 @@ fn expanding_a_file_never_panics_on_damaged_sources() {
         let shown = || format!("{} ({damage:?}, item {only:?}):\n{source}", sample.name);
         must_not_panic("a source file", &shown, || {
             let _ = twinstep_engine::expand_source(&source, only.as_deref());
+        })
+    });
+}
+
+/// Cases of damaged files twinned whole, as the build helper does, and printed on their original lines.
+const WHOLE_FILE_CASES: u32 = 5_000;
+
+#[test]
+fn twinning_a_whole_file_never_panics_on_damaged_sources() {
+    let samples = corpus();
+    check(WHOLE_FILE_CASES, (any::<usize>(), any::<bool>(), mutations_strategy()), |(pick, text, mutations)| {
+        let sample = &samples[pick % samples.len()];
+        let source = if text {
+            mutate_text(&sample.text, &mutations)
+        } else {
+            mutate(sample.tokens.clone(), &mutations).to_string()
+        };
+        let shown = || format!("{} (whole file):\n{source}", sample.name);
+        must_not_panic("a whole file", &shown, || {
+            if let Ok(file) = syn::parse_file(&source) {
+                if let Ok(items) = twinstep_engine::twins_of_file(&twinstep_engine::Options::default(), &file) {
+                    let _ = twinstep_engine::layout::on_original_lines(&items);
+                }
+            }
         })
     });
 }
