@@ -40,22 +40,22 @@ macro_rules! lens_num_traits {
             #[track_caller]
             fn to_i64(&self) -> Option<i64> {
                 $crate::lens::scalar::decide(*self, |x| ::num_traits::ToPrimitive::to_i64(&x),
-                    $crate::events::EventKind::IndexInstability)
+                    $crate::events::EventKind::UndecidedIndex)
             }
             #[track_caller]
             fn to_u64(&self) -> Option<u64> {
                 $crate::lens::scalar::decide(*self, |x| ::num_traits::ToPrimitive::to_u64(&x),
-                    $crate::events::EventKind::IndexInstability)
+                    $crate::events::EventKind::UndecidedIndex)
             }
             #[track_caller]
             fn to_i128(&self) -> Option<i128> {
                 $crate::lens::scalar::decide(*self, |x| ::num_traits::ToPrimitive::to_i128(&x),
-                    $crate::events::EventKind::IndexInstability)
+                    $crate::events::EventKind::UndecidedIndex)
             }
             #[track_caller]
             fn to_u128(&self) -> Option<u128> {
                 $crate::lens::scalar::decide(*self, |x| ::num_traits::ToPrimitive::to_u128(&x),
-                    $crate::events::EventKind::IndexInstability)
+                    $crate::events::EventKind::UndecidedIndex)
             }
             fn to_f64(&self) -> Option<f64> {
                 Some($crate::Real::primal(*self))
