@@ -17,6 +17,7 @@ use std::path::PathBuf;
 
 pub use crate::trace::{FieldSpec, RecordPolicy};
 pub use driver::{Audit, AuditLens, Scenario, Scheme};
+pub(crate) use field::multi_index;
 pub use field::{Field, Levels};
 pub use recorder::{Plan, Recorder};
 pub use tolerance::{ulp, Tolerance};

@@ -1,0 +1,284 @@
+//! The per-thread table of operation sites that the [`crate::lens::Attributed`] lens keeps: which slot of a
+//! value's contribution vector each site owns, whether the site is computed exactly (ablation), and what it did
+//! over the run.
+//!
+//! Why a direct-mapped cache in front of a map: every operation of the lens looks its site up, and the site is
+//! the `&'static Location` that `#[track_caller]` hands over. One source location is one static per
+//! instantiation of the code that contains it, so its address is a key that needs no hashing of the file name:
+//! the cache takes bits of the address as the index and compares the address, one load and one compare on a
+//! hit. A miss (the first time an instantiation meets a site, or two sites colliding) goes to the ordered map
+//! keyed by file, line and column, which also merges the instantiations of one location into one site.
+
+use std::cell::RefCell;
+use std::collections::BTreeMap;
+use std::panic::Location;
+
+use crate::events::Site;
+
+/// Slots of a value's contribution vector: slot 0 is the representation of constants and inputs, slots
+/// `1 .. SLOTS − 1` are the first `SLOTS − 2` operation sites the run meets, the last slot sums all later ones.
+/// 32 keeps a value at 296 bytes; a kernel with more operation sites still gets every site's facts and every
+/// line's ablated share, only the propagated shares of the sites met after the first 30 are pooled.
+pub const SLOTS: usize = 32;
+/// The slot of the constants and inputs as written.
+pub const REPRESENTATION_SLOT: usize = 0;
+/// The slot every site beyond the first `SLOTS − 2` shares.
+pub const OTHER_SLOT: usize = SLOTS - 1;
+
+/// Entries of the direct-mapped cache (a power of two).
+const CACHE: usize = 64;
+
+/// The kind of operation at a site.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Op {
+    Add,
+    Sub,
+    Mul,
+    Div,
+    Rem,
+    MulAdd,
+    /// An elementary function, by its `f64` method name.
+    Function(&'static str),
+    /// The constants and inputs as written.
+    Representation,
+}
+
+impl Op {
+    /// The name in the attribution record.
+    #[must_use]
+    pub fn name(self) -> &'static str {
+        match self {
+            Op::Add => "add",
+            Op::Sub => "sub",
+            Op::Mul => "mul",
+            Op::Div => "div",
+            Op::Rem => "rem",
+            Op::MulAdd => "mul_add",
+            Op::Function(name) => name,
+            Op::Representation => "representation",
+        }
+    }
+}
+
+/// Which roundings a run removes: the listed lines and sites (and, for [`Exact::Everything`], the constants)
+/// are computed at the shadow's precision in the primal as well.
+#[derive(Clone, Debug, Default, PartialEq, Eq)]
+pub enum Exact {
+    /// The program as it is.
+    #[default]
+    Nothing,
+    /// Every operation and every constant: the primal is the shadow, the error is zero.
+    Everything,
+    /// The operations on these `(file, line)`s.
+    Lines(Vec<(String, u32)>),
+    /// The operations at these sites.
+    Sites(Vec<crate::trace::SiteRecord>),
+}
+
+impl Exact {
+    fn covers(&self, site: &Site) -> bool {
+        match self {
+            Exact::Nothing => false,
+            Exact::Everything => true,
+            Exact::Lines(lines) => lines.iter().any(|(file, line)| file == site.file && *line == site.line),
+            Exact::Sites(sites) => {
+                sites.iter().any(|s| s.file == site.file && s.line == site.line && s.column == site.column)
+            }
+        }
+    }
+}
+
+/// What one site did over the run.
+#[derive(Clone, Copy, Debug, Default, PartialEq)]
+pub struct Stats {
+    pub count: u64,
+    pub rounding_abs_sum: f64,
+    pub rounding_abs_max: f64,
+    pub rounding_sum: f64,
+    /// Sums and differences only.
+    pub sums: u64,
+    pub cancelled_bits_sum: f64,
+    pub cancelled_bits_max: f64,
+    pub absorbed_bits_sum: f64,
+    pub absorbed_bits_max: f64,
+    pub large_operand_sum: f64,
+    pub chained: u64,
+}
+
+/// The significand bits of binary64 (IEEE 754-2019 Table 3.5: p = 53): a result that cancels to zero lost them
+/// all, and no more than them can be absorbed.
+pub const PRECISION_BITS: f64 = 53.0;
+
+impl Stats {
+    /// One rounding error `ρ = result − exact result of the operands`.
+    #[inline(always)]
+    pub fn note_rounding(&mut self, rounding: f64) {
+        self.count += 1;
+        let magnitude = rounding.abs();
+        self.rounding_abs_sum += magnitude;
+        self.rounding_abs_max = self.rounding_abs_max.max(magnitude);
+        self.rounding_sum += rounding;
+    }
+
+    /// One sum `x + y` (a difference as `x + (−y)`) with result `sum`, and whether an operand came from this same
+    /// site. Cancelled bits `log2(max(|x|, |y|) / |x + y|)` (53 when the sum is zero and an operand is not);
+    /// absorbed bits `log2(max / min)`, capped at 53.
+    #[inline(always)]
+    pub fn note_sum(&mut self, x: f64, y: f64, sum: f64, chained: bool) {
+        let (large, small) = if x.abs() >= y.abs() { (x.abs(), y.abs()) } else { (y.abs(), x.abs()) };
+        let cancelled = if large == 0.0 || !large.is_finite() {
+            0.0
+        } else if sum == 0.0 {
+            PRECISION_BITS
+        } else {
+            (large / sum.abs()).log2().max(0.0) // log2(max(|x|,|y|)/|x ± y|), the definition
+        };
+        let absorbed = if small == 0.0 || !large.is_finite() {
+            0.0
+        } else {
+            (large / small).log2().min(PRECISION_BITS) // the bits of the smaller operand below the larger's ulp
+        };
+        self.sums += 1;
+        self.cancelled_bits_sum += cancelled;
+        self.cancelled_bits_max = self.cancelled_bits_max.max(cancelled);
+        self.absorbed_bits_sum += absorbed;
+        self.absorbed_bits_max = self.absorbed_bits_max.max(absorbed);
+        if large.is_finite() {
+            self.large_operand_sum += large;
+        }
+        self.chained += u64::from(chained);
+    }
+}
+
+/// One site of the table.
+#[derive(Clone, Debug, PartialEq)]
+pub struct SiteState {
+    /// `None`: the representation of constants and inputs.
+    pub site: Option<Site>,
+    pub op: Op,
+    /// The site's number, 1-based, which a value stores as its origin (0: no site).
+    pub id: u32,
+    /// The slot of the contribution vector it adds its rounding errors to.
+    pub slot: usize,
+    /// Whether its operations are computed exactly in this run.
+    pub exact: bool,
+    pub stats: Stats,
+}
+
+struct Table {
+    /// `(address of the Location, index into sites)`; address 0 is an empty entry.
+    cache: [(usize, u32); CACHE],
+    by_site: BTreeMap<Site, u32>,
+    sites: Vec<SiteState>,
+    exact: Exact,
+    /// The step being computed, which values carry as their birth step: an operand this same site produced in
+    /// the same step makes an accumulation chain inside the step (a long sum), one it produced in an earlier
+    /// step is the field carried on (a time-step accumulation).
+    step: u32,
+}
+
+impl Table {
+    const fn new() -> Table {
+        Table { cache: [(0, 0); CACHE], by_site: BTreeMap::new(), sites: Vec::new(), exact: Exact::Nothing, step: 0 }
+    }
+
+    /// The index of the site at `location`, entered on the first meeting.
+    #[inline(always)]
+    fn index(&mut self, location: &'static Location<'static>, op: Op) -> usize {
+        let address = std::ptr::from_ref(location) as usize;
+        // A Location is at least 16 bytes: the bits above the fourth tell neighbouring statics apart.
+        let entry = (address >> 4) & (CACHE - 1);
+        let (cached, index) = self.cache[entry];
+        if cached == address {
+            return index as usize;
+        }
+        let index = self.enter(location, op);
+        self.cache[entry] = (address, index as u32);
+        index
+    }
+
+    #[cold]
+    #[inline(never)]
+    fn enter(&mut self, location: &'static Location<'static>, op: Op) -> usize {
+        self.ensure_representation();
+        let site = Site::from_location(location);
+        if let Some(&index) = self.by_site.get(&site) {
+            return index as usize;
+        }
+        let index = self.sites.len();
+        let state = SiteState {
+            site: Some(site),
+            op,
+            id: index as u32 + 1,
+            // Sites take slots 1, 2, … in the order met; past OTHER_SLOT − 1 they share the last one.
+            slot: index.min(OTHER_SLOT),
+            exact: self.exact.covers(&site),
+            stats: Stats::default(),
+        };
+        self.sites.push(state);
+        self.by_site.insert(site, index as u32);
+        index
+    }
+
+    /// Entry 0 is the representation, always.
+    fn ensure_representation(&mut self) {
+        if self.sites.is_empty() {
+            self.sites.push(SiteState {
+                site: None,
+                op: Op::Representation,
+                id: 1,
+                slot: REPRESENTATION_SLOT,
+                exact: self.exact == Exact::Everything,
+                stats: Stats::default(),
+            });
+        }
+    }
+}
+
+thread_local! {
+    static TABLE: RefCell<Table> = const { RefCell::new(Table::new()) };
+}
+
+/// Runs `f` on the state of the site at `location` (entered with `op` when first met) and the step being
+/// computed. `f` must not perform lens operations itself (the table is borrowed while it runs).
+#[inline(always)]
+pub fn with_site<R>(location: &'static Location<'static>, op: Op, f: impl FnOnce(&mut SiteState, u32) -> R) -> R {
+    TABLE.with(|table| {
+        let mut table = table.borrow_mut();
+        let index = table.index(location, op);
+        let step = table.step;
+        f(&mut table.sites[index], step)
+    })
+}
+
+/// Tells the table that step `step` begins.
+pub fn begin_step(step: u32) {
+    TABLE.with(|table| table.borrow_mut().step = step);
+}
+
+/// Runs `f` on the representation's state.
+#[inline]
+pub fn with_representation<R>(f: impl FnOnce(&mut SiteState) -> R) -> R {
+    TABLE.with(|table| {
+        let mut table = table.borrow_mut();
+        table.ensure_representation();
+        f(&mut table.sites[0])
+    })
+}
+
+/// Empties this thread's table and sets what the next run computes exactly.
+pub fn reset(exact: Exact) {
+    TABLE.with(|table| *table.borrow_mut() = Table { exact, ..Table::new() });
+}
+
+/// This thread's sites, in the order met (the representation first), leaving the table empty.
+#[must_use]
+pub fn take() -> Vec<SiteState> {
+    TABLE.with(|table| {
+        let mut table = table.borrow_mut();
+        table.ensure_representation();
+        let sites = std::mem::take(&mut table.sites);
+        *table = Table::new();
+        sites
+    })
+}
