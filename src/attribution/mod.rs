@@ -121,9 +121,10 @@ impl<'s, S: Scenario> Attribution<'s, S> {
         let sites: Vec<SiteFacts> = base.sites.iter().map(|s| site_facts(s, &base, &measures)).collect();
         let mut lines = line_facts(&base.sites, &sites);
         // Ablation: the lines of the largest propagated share of any field, each computed exactly in one run.
+        // (A line with pooled sites ranks here by the part of it that is carried.)
+        let carried = |line: &LineFacts| line.shares.iter().filter_map(|s| s.share).fold(0.0f64, |m, s| m.max(s.abs()));
         let mut order: Vec<usize> = (0..lines.len()).collect();
-        let largest = |line: &LineFacts| line.shares.iter().filter_map(|s| s.share).fold(0.0f64, |m, s| m.max(s.abs()));
-        order.sort_by(|&a, &b| largest(&lines[b]).total_cmp(&largest(&lines[a])));
+        order.sort_by(|&a, &b| carried(&lines[b]).total_cmp(&carried(&lines[a])));
         for &index in order.iter().take(self.ablated_lines) {
             let line = &lines[index];
             let ablated = self.pass(Exact::Lines(vec![(line.file.clone(), line.line)]))?;
@@ -146,10 +147,7 @@ impl<'s, S: Scenario> Attribution<'s, S> {
             .zip(exact_errors)
             .map(|((field, m), exact_error)| field_attribution(field, m, exact_error))
             .collect();
-        let rank = |line: &LineFacts| {
-            line.shares.iter().filter_map(|s| s.ablated.or(s.share)).fold(0.0f64, |m, s| m.max(s.abs()))
-        };
-        lines.sort_by(|a, b| rank(b).total_cmp(&rank(a)));
+        lines.sort_by(|a, b| b.largest_share().total_cmp(&a.largest_share()));
         let findings = pattern::find(&lines, &sites);
         Ok(AttributionRecord { step: self.steps, slots: (OTHER_SLOT - 1) as u32, fields, lines, sites, findings })
     }
@@ -270,7 +268,9 @@ fn line_facts(states: &[SiteState], sites: &[SiteFacts]) -> Vec<LineFacts> {
             shares: facts.shares.iter().map(|s| Share { contribution: Some(0.0), ..zero_share(&s.field) }).collect(),
             complete: true,
         });
-        line.columns.push(site.column);
+        if !line.columns.contains(&site.column) {
+            line.columns.push(site.column);
+        }
         line.count += facts.count;
         line.rounding_abs_sum += facts.rounding_abs_sum;
         let larger = |a: Option<f64>, b: Option<f64>| match (a, b) {

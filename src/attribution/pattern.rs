@@ -41,7 +41,7 @@ pub fn find(lines: &[LineFacts], sites: &[SiteFacts]) -> Vec<Finding> {
             Remedy::CarryPerturbation
         };
         for share in &line.shares {
-            let Some(value) = share.ablated.or(share.share) else { continue };
+            let Some(value) = line.share_of(&share.field) else { continue };
             if value.abs() >= SIGNIFICANT_SHARE {
                 findings.push(Finding {
                     file: line.file.clone(),
@@ -69,13 +69,13 @@ fn hits(line: &LineFacts, sites: &[SiteFacts]) -> Vec<PatternHit> {
         let background = site.large_operand_mean;
         if site.count > 0 && site.chained as f64 >= CHAINED_FRACTION * site.count as f64 {
             let bits = site.absorbed_bits_mean.unwrap_or(0.0);
-            hits.push(PatternHit { pattern: Pattern::LongSum, column, bits, background });
+            hits.push(PatternHit { pattern: Pattern::LongSum, column, op: site.op.clone(), bits, background });
         }
         for (pattern, bits) in
             [(Pattern::Absorption, site.absorbed_bits_mean), (Pattern::Cancellation, site.cancelled_bits_mean)]
         {
             if let Some(bits) = bits.filter(|&b| b >= PATTERN_BITS) {
-                hits.push(PatternHit { pattern, column, bits, background });
+                hits.push(PatternHit { pattern, column, op: site.op.clone(), bits, background });
             }
         }
     }

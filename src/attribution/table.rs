@@ -29,7 +29,7 @@ pub const OTHER_SLOT: usize = SLOTS - 1;
 const CACHE: usize = 64;
 
 /// The kind of operation at a site.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord)]
 pub enum Op {
     Add,
     Sub,
@@ -44,6 +44,21 @@ pub enum Op {
 }
 
 impl Op {
+    /// A small number per kind, which spreads the operations of one location over the cache.
+    #[inline(always)]
+    fn code(self) -> usize {
+        match self {
+            Op::Add => 1,
+            Op::Sub => 2,
+            Op::Mul => 3,
+            Op::Div => 4,
+            Op::Rem => 5,
+            Op::MulAdd => 6,
+            Op::Function(_) => 7,
+            Op::Representation => 0,
+        }
+    }
+
     /// The name in the attribution record.
     #[must_use]
     pub fn name(self) -> &'static str {
@@ -150,7 +165,10 @@ impl Stats {
     }
 }
 
-/// One site of the table.
+/// One site of the table: an operation kind at a source location. Rust gives a binary operator the location
+/// of the whole expression, which starts with its left operand, so in `a - b + c` the difference and the sum
+/// share file, line and column: the kind tells them apart. Two operations of one kind there (`a + b + c`) are
+/// one site.
 #[derive(Clone, Debug, PartialEq)]
 pub struct SiteState {
     /// `None`: the representation of constants and inputs.
@@ -166,9 +184,9 @@ pub struct SiteState {
 }
 
 struct Table {
-    /// `(address of the Location, index into sites)`; address 0 is an empty entry.
-    cache: [(usize, u32); CACHE],
-    by_site: BTreeMap<Site, u32>,
+    /// `(address of the Location, operation, index into sites)`; address 0 is an empty entry.
+    cache: [(usize, Op, u32); CACHE],
+    by_site: BTreeMap<(Site, Op), u32>,
     sites: Vec<SiteState>,
     exact: Exact,
     /// The step being computed, which values carry as their birth step: an operand this same site produced in
@@ -179,7 +197,7 @@ struct Table {
 
 impl Table {
     const fn new() -> Table {
-        Table { cache: [(0, 0); CACHE], by_site: BTreeMap::new(), sites: Vec::new(), exact: Exact::Nothing, step: 0 }
+        Table { cache: [(0, Op::Representation, 0); CACHE], by_site: BTreeMap::new(), sites: Vec::new(), exact: Exact::Nothing, step: 0 }
     }
 
     /// The index of the site at `location`, entered on the first meeting.
@@ -187,13 +205,13 @@ impl Table {
     fn index(&mut self, location: &'static Location<'static>, op: Op) -> usize {
         let address = std::ptr::from_ref(location) as usize;
         // A Location is at least 16 bytes: the bits above the fourth tell neighbouring statics apart.
-        let entry = (address >> 4) & (CACHE - 1);
-        let (cached, index) = self.cache[entry];
-        if cached == address {
+        let entry = ((address >> 4) ^ op.code()) & (CACHE - 1);
+        let (cached, cached_op, index) = self.cache[entry];
+        if cached == address && cached_op == op {
             return index as usize;
         }
         let index = self.enter(location, op);
-        self.cache[entry] = (address, index as u32);
+        self.cache[entry] = (address, op, index as u32);
         index
     }
 
@@ -202,7 +220,7 @@ impl Table {
     fn enter(&mut self, location: &'static Location<'static>, op: Op) -> usize {
         self.ensure_representation();
         let site = Site::from_location(location);
-        if let Some(&index) = self.by_site.get(&site) {
+        if let Some(&index) = self.by_site.get(&(site, op)) {
             return index as usize;
         }
         let index = self.sites.len();
@@ -216,7 +234,7 @@ impl Table {
             stats: Stats::default(),
         };
         self.sites.push(state);
-        self.by_site.insert(site, index as u32);
+        self.by_site.insert((site, op), index as u32);
         index
     }
 

@@ -119,13 +119,29 @@ pub struct LineFacts {
     pub complete: bool,
 }
 
+impl LineFacts {
+    /// The line's share of `field`'s error as a report shows it: the propagated one (a first-order sensitivity,
+    /// additive over the lines), or the ablated one where the line has sites beyond the carried slots.
+    #[must_use]
+    pub fn share_of(&self, field: &str) -> Option<f64> {
+        let share = self.shares.iter().find(|s| s.field == field)?;
+        share.share.filter(|_| self.complete).or(share.ablated)
+    }
+
+    /// The largest magnitude of [`LineFacts::share_of`] over the fields.
+    #[must_use]
+    pub fn largest_share(&self) -> f64 {
+        self.shares.iter().filter_map(|s| self.share_of(&s.field)).fold(0.0, |m, s| m.max(s.abs()))
+    }
+}
+
 /// A known pattern behind a line's share of a field's error, and the remedy that applies.
 #[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
 pub struct Finding {
     pub file: String,
     pub line: u32,
     pub field: String,
-    /// The line's share of the field's error (the ablated one where it was measured, else the propagated one).
+    /// The line's share of the field's error ([`LineFacts::share_of`]).
     #[serde(deserialize_with = "nan_if_null")]
     pub share: f64,
     pub patterns: Vec<PatternHit>,
@@ -137,6 +153,8 @@ pub struct Finding {
 pub struct PatternHit {
     pub pattern: Pattern,
     pub column: u32,
+    /// The operation there (`add`, `sub`, `mul_add`).
+    pub op: String,
     /// The mean bits absorbed or cancelled there.
     #[serde(deserialize_with = "nan_if_null")]
     pub bits: f64,
@@ -201,18 +219,12 @@ impl AttributionRecord {
             .chain(self.findings.iter().map(|f| f.field.as_str()))
     }
 
-    /// The lines in the order of their share of `field`'s error, largest magnitude first (ablated where
-    /// measured, else propagated): the rows of a report's table.
+    /// The lines in the order of their share of `field`'s error, largest magnitude first: the rows of a
+    /// report's table. The share is [`LineFacts::share_of`].
     #[must_use]
     pub fn ranked_lines(&self, field: &str) -> Vec<(&LineFacts, f64)> {
-        let mut ranked: Vec<(&LineFacts, f64)> = self
-            .lines
-            .iter()
-            .filter_map(|line| {
-                let share = line.shares.iter().find(|s| s.field == field)?;
-                Some((line, share.ablated.or(share.share)?))
-            })
-            .collect();
+        let mut ranked: Vec<(&LineFacts, f64)> =
+            self.lines.iter().filter_map(|line| Some((line, line.share_of(field)?))).collect();
         ranked.sort_by(|a, b| b.1.abs().total_cmp(&a.1.abs()));
         ranked
     }
