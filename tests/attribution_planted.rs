@@ -50,10 +50,13 @@ fn the_planted_line_ranks_first_and_its_pattern_is_named() {
     // (u + 1024) − 1024 for u ≈ 1…1.5 cancels log2(1025/1.x) ≈ 9.5 to 10 bits, and u loses as many to the
     // offset's last place: both above the 8-bit threshold (docs/attribution.md).
     let finding = &record.findings[0];
-    assert_eq!((finding.line, finding.field.as_str(), finding.remedy), (Line::Planted.number(), "u", Remedy::CarryPerturbation));
+    assert_eq!(
+        (finding.line, finding.field.as_str(), finding.remedy),
+        (Line::Planted.number(), "u", Remedy::CarryPerturbation)
+    );
     let patterns: Vec<Pattern> = finding.patterns.iter().map(|h| h.pattern).collect();
     assert!(patterns.contains(&Pattern::Cancellation) && patterns.contains(&Pattern::Absorption), "{patterns:?}");
-    let bits = first.cancelled_bits_mean.expect("a difference");
+    let bits = first.ops.cancelled_bits_mean.expect("a difference");
     assert!((9.4..10.1).contains(&bits), "cancelled bits {bits}");
     // No other line is flagged: their sums keep their bits.
     assert!(record.findings.iter().all(|f| f.line == Line::Planted.number()), "{:?}", record.findings);
@@ -137,14 +140,14 @@ fn the_rounding_errors_are_the_exact_ones() {
             .iter()
             .filter(|s| s.site.as_ref().is_some_and(|x| x.file == FILE && x.line == line.number()) && s.op == *op)
             .collect();
-        let count: u64 = sites.iter().map(|s| s.count).sum();
+        let count: u64 = sites.iter().map(|s| s.ops.count).sum();
         assert_eq!(count, expected.count, "{line:?} {op}");
         // Each ρ is a double, found exactly by TwoSum / TwoProd: the largest is the oracle's, bit for bit.
-        let abs_max = sites.iter().map(|s| s.rounding_abs_max).fold(0.0, f64::max);
+        let abs_max = sites.iter().map(|s| s.ops.rounding_abs_max).fold(0.0, f64::max);
         assert_eq!(abs_max, to_f64(&expected.abs_max), "{line:?} {op}");
         // Their sum, accumulated in f64: within n·u of Σ|ρ| (Higham, Accuracy and Stability, §4.2, from memory).
-        let sum: f64 = sites.iter().map(|s| s.rounding_sum).sum();
-        let abs_sum: f64 = sites.iter().map(|s| s.rounding_abs_sum).sum();
+        let sum: f64 = sites.iter().map(|s| s.ops.rounding_sum).sum();
+        let abs_sum: f64 = sites.iter().map(|s| s.ops.rounding_abs_sum).sum();
         let slack = count as f64 * f64::EPSILON * abs_sum;
         assert!((sum - to_f64(&expected.sum)).abs() <= slack, "{line:?} {op}: {sum} vs {}", to_f64(&expected.sum));
     }

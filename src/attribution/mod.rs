@@ -21,8 +21,8 @@ use std::panic::{catch_unwind, AssertUnwindSafe};
 
 use crate::audit::{Error, FieldSpec, Levels, Scenario, Scheme};
 use crate::lens::attributed::{AttributedUnwatched, Contributions};
-use crate::trace::{AttributionRecord, FieldAttribution, LineFacts, Share, SiteFacts, SiteRecord};
-use table::{Op, SiteState, OTHER_SLOT, REPRESENTATION_SLOT};
+use crate::trace::{AttributionRecord, FieldAttribution, LineFacts, OpFacts, Share, SiteFacts, SiteRecord};
+use table::{Op, SiteState, Stats, OTHER_SLOT, REPRESENTATION_SLOT};
 
 pub use pattern::{PATTERN_BITS, SIGNIFICANT_SHARE};
 pub use table::{Exact, SLOTS};
@@ -171,7 +171,7 @@ impl<'s, S: Scenario> Attribution<'s, S> {
             Scheme::TwoLevel => 2,
             Scheme::ThreeLevel => 3,
         };
-        table::reset(exact);
+        table::reset(exact, specs.len());
         let _ = crate::events::drain(); // nothing from before belongs to this run
         let mut at = 0u64;
         let outcome = catch_unwind(AssertUnwindSafe(|| -> Result<Levels<AttributedUnwatched>, Error> {
@@ -180,6 +180,7 @@ impl<'s, S: Scenario> Attribution<'s, S> {
             for n in 0..self.steps {
                 at = n;
                 state.step = n;
+                seed_fields(&mut state);
                 // Steps past 2^32 share birth stamps with earlier ones: a chain test then compares step mod 2^32.
                 table::begin_step(n as u32 + 1);
                 self.scenario.step(&mut state);
@@ -210,6 +211,16 @@ impl<'s, S: Scenario> Attribution<'s, S> {
     }
 }
 
+/// Marks every cell of the levels a step reads with its field, so that the step's operations are told apart by
+/// the fields they read.
+fn seed_fields(levels: &mut Levels<AttributedUnwatched>) {
+    for level in [&mut levels.current, &mut levels.previous] {
+        for (i, field) in level.iter_mut().enumerate() {
+            field.iter_mut().for_each(|cell| *cell = cell.of_field(i));
+        }
+    }
+}
+
 /// The text a panic carried.
 fn panic_message(payload: &(dyn std::any::Any + Send)) -> String {
     payload
@@ -219,23 +230,10 @@ fn panic_message(payload: &(dyn std::any::Any + Send)) -> String {
         .unwrap_or_else(|| "a panic without a message".into())
 }
 
-/// The facts of one site, with its shares of every field.
-fn site_facts(state: &SiteState, pass: &Pass, measures: &[Measure]) -> SiteFacts {
-    let s = &state.stats;
+/// What the table's statistics say, as the record has it.
+fn op_facts(s: &Stats) -> OpFacts {
     let sums = (s.sums > 0).then_some(s.sums as f64);
-    let pooled = state.slot == OTHER_SLOT;
-    let shares = pass
-        .fields
-        .iter()
-        .zip(measures)
-        .map(|(field, m)| {
-            let (contribution, share, share_l2) = if pooled { (None, None, None) } else { field.share(m, state.slot) };
-            Share { field: field.spec.name.clone(), contribution, share, share_l2, ablated: None, ablated_l2: None }
-        })
-        .collect();
-    SiteFacts {
-        site: state.site.map(SiteRecord::from),
-        op: state.op.name().to_string(),
+    OpFacts {
         count: s.count,
         rounding_abs_sum: s.rounding_abs_sum,
         rounding_abs_max: s.rounding_abs_max,
@@ -246,6 +244,53 @@ fn site_facts(state: &SiteState, pass: &Pass, measures: &[Measure]) -> SiteFacts
         absorbed_bits_max: sums.map(|_| s.absorbed_bits_max),
         large_operand_mean: sums.map(|n| s.large_operand_sum / n),
         chained: s.chained,
+    }
+}
+
+/// `into` and `more` together: the facts of a line from those of its sites.
+fn merge(into: &mut OpFacts, more: &OpFacts) {
+    let larger = |a: Option<f64>, b: Option<f64>| match (a, b) {
+        (Some(x), Some(y)) => Some(x.max(y)),
+        (x, y) => x.or(y),
+    };
+    into.count += more.count;
+    into.rounding_abs_sum += more.rounding_abs_sum;
+    into.rounding_abs_max = into.rounding_abs_max.max(more.rounding_abs_max);
+    into.rounding_sum += more.rounding_sum;
+    into.cancelled_bits_mean = larger(into.cancelled_bits_mean, more.cancelled_bits_mean);
+    into.cancelled_bits_max = larger(into.cancelled_bits_max, more.cancelled_bits_max);
+    into.absorbed_bits_mean = larger(into.absorbed_bits_mean, more.absorbed_bits_mean);
+    into.absorbed_bits_max = larger(into.absorbed_bits_max, more.absorbed_bits_max);
+    into.large_operand_mean = larger(into.large_operand_mean, more.large_operand_mean);
+    into.chained += more.chained;
+}
+
+/// The facts of one site, with its shares of every field.
+fn site_facts(state: &SiteState, pass: &Pass, measures: &[Measure]) -> SiteFacts {
+    let pooled = state.slot == OTHER_SLOT;
+    let shares = pass
+        .fields
+        .iter()
+        .zip(measures)
+        .enumerate()
+        .map(|(i, (field, m))| {
+            let (contribution, share, share_l2) = if pooled { (None, None, None) } else { field.share(m, state.slot) };
+            let ops = state.per_field.get(i).map(op_facts).unwrap_or_default();
+            Share {
+                field: field.spec.name.clone(),
+                ops,
+                contribution,
+                share,
+                share_l2,
+                ablated: None,
+                ablated_l2: None,
+            }
+        })
+        .collect();
+    SiteFacts {
+        site: state.site.map(SiteRecord::from),
+        op: state.op.name().to_string(),
+        ops: op_facts(&state.stats),
         shares,
     }
 }
@@ -259,31 +304,18 @@ fn line_facts(states: &[SiteState], sites: &[SiteFacts]) -> Vec<LineFacts> {
             file: site.file.to_string(),
             line: site.line,
             columns: Vec::new(),
-            count: 0,
-            rounding_abs_sum: 0.0,
-            cancelled_bits_mean: None,
-            cancelled_bits_max: None,
-            absorbed_bits_mean: None,
-            absorbed_bits_max: None,
-            shares: facts.shares.iter().map(|s| Share { contribution: Some(0.0), ..zero_share(&s.field) }).collect(),
+            ops: OpFacts::default(),
+            shares: facts.shares.iter().map(|s| zero_share(&s.field)).collect(),
             complete: true,
         });
         if !line.columns.contains(&site.column) {
             line.columns.push(site.column);
         }
-        line.count += facts.count;
-        line.rounding_abs_sum += facts.rounding_abs_sum;
-        let larger = |a: Option<f64>, b: Option<f64>| match (a, b) {
-            (Some(x), Some(y)) => Some(x.max(y)),
-            (x, y) => x.or(y),
-        };
-        line.cancelled_bits_mean = larger(line.cancelled_bits_mean, facts.cancelled_bits_mean);
-        line.cancelled_bits_max = larger(line.cancelled_bits_max, facts.cancelled_bits_max);
-        line.absorbed_bits_mean = larger(line.absorbed_bits_mean, facts.absorbed_bits_mean);
-        line.absorbed_bits_max = larger(line.absorbed_bits_max, facts.absorbed_bits_max);
+        merge(&mut line.ops, &facts.ops);
         line.complete &= state.slot != OTHER_SLOT;
         let add = |a: Option<f64>, b: Option<f64>| Some(a? + b?);
         for (total, share) in line.shares.iter_mut().zip(&facts.shares) {
+            merge(&mut total.ops, &share.ops);
             if share.contribution.is_some() {
                 total.contribution = add(total.contribution, share.contribution);
                 total.share = add(total.share, share.share);
@@ -298,7 +330,8 @@ fn line_facts(states: &[SiteState], sites: &[SiteFacts]) -> Vec<LineFacts> {
 fn zero_share(field: &str) -> Share {
     Share {
         field: field.to_string(),
-        contribution: None,
+        ops: OpFacts::default(),
+        contribution: Some(0.0),
         share: Some(0.0),
         share_l2: Some(0.0),
         ablated: None,

@@ -26,56 +26,55 @@ pub const SIGNIFICANT_SHARE: f64 = 0.1;
 const CHAINED_FRACTION: f64 = 0.5;
 
 /// The findings for every field and every line whose share of it is at least [`SIGNIFICANT_SHARE`], largest share
-/// first.
+/// first. The patterns are read from the facts of the operations that read that field.
 #[must_use]
 pub fn find(lines: &[LineFacts], sites: &[SiteFacts]) -> Vec<Finding> {
     let mut findings = Vec::new();
     for line in lines {
-        let hits = hits(line, sites);
-        if hits.is_empty() {
-            continue;
-        }
-        let remedy = if hits.iter().any(|h| h.pattern == Pattern::LongSum) {
-            Remedy::CompensatedSum
-        } else {
-            Remedy::CarryPerturbation
-        };
         for share in &line.shares {
-            let Some(value) = line.share_of(&share.field) else { continue };
-            if value.abs() >= SIGNIFICANT_SHARE {
-                findings.push(Finding {
-                    file: line.file.clone(),
-                    line: line.line,
-                    field: share.field.clone(),
-                    share: value,
-                    patterns: hits.clone(),
-                    remedy,
-                });
+            let Some(value) = line.share_of(&share.field).filter(|v| v.abs() >= SIGNIFICANT_SHARE) else { continue };
+            let hits = hits(line, &share.field, sites);
+            if hits.is_empty() {
+                continue;
             }
+            let remedy = if hits.iter().any(|h| h.pattern == Pattern::LongSum) {
+                Remedy::CompensatedSum
+            } else {
+                Remedy::CarryPerturbation
+            };
+            findings.push(Finding {
+                file: line.file.clone(),
+                line: line.line,
+                field: share.field.clone(),
+                share: value,
+                patterns: hits,
+                remedy,
+            });
         }
     }
     findings.sort_by(|a, b| b.share.abs().total_cmp(&a.share.abs()));
     findings
 }
 
-/// The operations of `line` that show a pattern.
-fn hits(line: &LineFacts, sites: &[SiteFacts]) -> Vec<PatternHit> {
+/// The operations of `line` that show a pattern in what they do to `field`.
+fn hits(line: &LineFacts, field: &str, sites: &[SiteFacts]) -> Vec<PatternHit> {
     let on_line = sites.iter().filter_map(|s| {
         let site = s.site.as_ref()?;
-        (site.file == line.file && site.line == line.line).then_some((site.column, s))
+        let ops = &s.shares.iter().find(|share| share.field == field)?.ops;
+        (site.file == line.file && site.line == line.line).then_some((site.column, s.op.as_str(), ops))
     });
     let mut hits = Vec::new();
-    for (column, site) in on_line {
-        let background = site.large_operand_mean;
-        if site.count > 0 && site.chained as f64 >= CHAINED_FRACTION * site.count as f64 {
-            let bits = site.absorbed_bits_mean.unwrap_or(0.0);
-            hits.push(PatternHit { pattern: Pattern::LongSum, column, op: site.op.clone(), bits, background });
+    for (column, op, ops) in on_line {
+        let background = ops.large_operand_mean;
+        let hit = |pattern, bits| PatternHit { pattern, column, op: op.to_string(), bits, background };
+        if ops.count > 0 && ops.chained as f64 >= CHAINED_FRACTION * ops.count as f64 {
+            hits.push(hit(Pattern::LongSum, ops.absorbed_bits_mean.unwrap_or(0.0)));
         }
         for (pattern, bits) in
-            [(Pattern::Absorption, site.absorbed_bits_mean), (Pattern::Cancellation, site.cancelled_bits_mean)]
+            [(Pattern::Absorption, ops.absorbed_bits_mean), (Pattern::Cancellation, ops.cancelled_bits_mean)]
         {
             if let Some(bits) = bits.filter(|&b| b >= PATTERN_BITS) {
-                hits.push(PatternHit { pattern, column, op: site.op.clone(), bits, background });
+                hits.push(hit(pattern, bits));
             }
         }
     }

@@ -117,8 +117,14 @@ pub struct Stats {
     pub absorbed_bits_sum: f64,
     pub absorbed_bits_max: f64,
     pub large_operand_sum: f64,
+    /// Sums that continue a chain of at least [`LONG_SUM_RUN`] sums of their own site within the step.
     pub chained: u64,
 }
+
+/// The run of sums of one site, one after another within a step, from which a sum counts as part of a long sum:
+/// with half of a site's sums past it, its chains have at least `2·LONG_SUM_RUN` terms. A fold of a few terms
+/// written in one expression (`a + b + c`, one site since Rust gives both sums the same location) stays below it.
+pub const LONG_SUM_RUN: u32 = 8;
 
 /// The significand bits of binary64 (IEEE 754-2019 Table 3.5: p = 53): a result that cancels to zero lost them
 /// all, and no more than them can be absorbed.
@@ -136,10 +142,10 @@ impl Stats {
     }
 
     /// One sum `x + y` (a difference as `x + (−y)`) with result `sum`, and whether an operand came from this same
-    /// site. Cancelled bits `log2(max(|x|, |y|) / |x + y|)` (53 when the sum is zero and an operand is not);
+    /// site and how long its chain is. Cancelled bits `log2(max(|x|, |y|) / |x + y|)` (53 when the sum is zero and an operand is not);
     /// absorbed bits `log2(max / min)`, capped at 53.
     #[inline(always)]
-    pub fn note_sum(&mut self, x: f64, y: f64, sum: f64, chained: bool) {
+    pub fn note_sum(&mut self, x: f64, y: f64, sum: f64, chain: u32) {
         let (large, small) = if x.abs() >= y.abs() { (x.abs(), y.abs()) } else { (y.abs(), x.abs()) };
         let cancelled = if large == 0.0 || !large.is_finite() {
             0.0
@@ -161,7 +167,7 @@ impl Stats {
         if large.is_finite() {
             self.large_operand_sum += large;
         }
-        self.chained += u64::from(chained);
+        self.chained += u64::from(chain >= LONG_SUM_RUN);
     }
 }
 
@@ -180,7 +186,26 @@ pub struct SiteState {
     pub slot: usize,
     /// Whether its operations are computed exactly in this run.
     pub exact: bool,
+    /// Over the run.
     pub stats: Stats,
+    /// Per field, the operations whose operands depend on that field (see [`crate::lens::attributed`]).
+    pub per_field: Vec<Stats>,
+}
+
+impl SiteState {
+    /// Applies `note` to the facts over the run and to those of every field in the `fields` mask.
+    #[inline(always)]
+    pub fn note(&mut self, fields: u64, note: impl Fn(&mut Stats)) {
+        note(&mut self.stats);
+        let mut mask = fields;
+        while mask != 0 {
+            let field = mask.trailing_zeros() as usize;
+            if let Some(stats) = self.per_field.get_mut(field) {
+                note(stats);
+            }
+            mask &= mask - 1;
+        }
+    }
 }
 
 struct Table {
@@ -193,11 +218,20 @@ struct Table {
     /// the same step makes an accumulation chain inside the step (a long sum), one it produced in an earlier
     /// step is the field carried on (a time-step accumulation).
     step: u32,
+    /// How many fields the per-field facts tell apart.
+    fields: usize,
 }
 
 impl Table {
     const fn new() -> Table {
-        Table { cache: [(0, Op::Representation, 0); CACHE], by_site: BTreeMap::new(), sites: Vec::new(), exact: Exact::Nothing, step: 0 }
+        Table {
+            cache: [(0, Op::Representation, 0); CACHE],
+            by_site: BTreeMap::new(),
+            sites: Vec::new(),
+            exact: Exact::Nothing,
+            step: 0,
+            fields: 0,
+        }
     }
 
     /// The index of the site at `location`, entered on the first meeting.
@@ -232,6 +266,7 @@ impl Table {
             slot: index.min(OTHER_SLOT),
             exact: self.exact.covers(&site),
             stats: Stats::default(),
+            per_field: vec![Stats::default(); self.fields],
         };
         self.sites.push(state);
         self.by_site.insert((site, op), index as u32);
@@ -248,6 +283,7 @@ impl Table {
                 slot: REPRESENTATION_SLOT,
                 exact: self.exact == Exact::Everything,
                 stats: Stats::default(),
+                per_field: vec![Stats::default(); self.fields],
             });
         }
     }
@@ -284,9 +320,9 @@ pub fn with_representation<R>(f: impl FnOnce(&mut SiteState) -> R) -> R {
     })
 }
 
-/// Empties this thread's table and sets what the next run computes exactly.
-pub fn reset(exact: Exact) {
-    TABLE.with(|table| *table.borrow_mut() = Table { exact, ..Table::new() });
+/// Empties this thread's table and sets what the next run computes exactly and how many fields it has.
+pub fn reset(exact: Exact, fields: usize) {
+    TABLE.with(|table| *table.borrow_mut() = Table { exact, fields: fields.min(64), ..Table::new() });
 }
 
 /// This thread's sites, in the order met (the representation first), leaving the table empty.

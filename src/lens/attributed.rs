@@ -43,12 +43,34 @@ pub type Contributions = [f64; SLOTS];
 pub struct AttributedOf<const WATCH: bool> {
     primal: DoubleWord,
     shadow: DoubleWord,
-    /// The table id of the site that produced the value (0: an input or constant), which tells an accumulation
-    /// chain (`s += x` in a loop) from a sum of unrelated values.
+    tag: Provenance,
+    parts: Contributions,
+}
+
+/// Where a value comes from, for the per-field facts and the long-sum test.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub struct Provenance {
+    /// The table id of the site that produced the value (0: an input or constant).
     origin: u32,
     /// The step in which it was produced (see [`crate::attribution::table::begin_step`]).
     born: u32,
-    parts: Contributions,
+    /// How many sums in a row this same site made of it within the step: `s += x` in a loop counts up, a sum of
+    /// unrelated values starts at 0.
+    chain: u32,
+    /// Bit `i`: the value depends on field `i` as it stood at the start of the step (the runner seeds each
+    /// field's cells with its bit).
+    fields: u64,
+}
+
+impl Provenance {
+    /// The provenance of the result of site `id` in `step` from `operands`; `summing` for sums and
+    /// differences, which continue a chain of their own site.
+    #[inline(always)]
+    fn of(id: u32, step: u32, operands: &[Provenance], summing: bool) -> Provenance {
+        let fields = operands.iter().fold(0, |mask, o| mask | o.fields);
+        let continued = operands.iter().filter(|o| summing && o.origin == id && o.born == step).map(|o| o.chain + 1);
+        Provenance { origin: id, born: step, chain: continued.max().unwrap_or(0), fields }
+    }
 }
 
 super::watch_variants!(AttributedOf, Attributed, AttributedUnwatched);
@@ -106,12 +128,16 @@ impl Arith {
             }
             Arith::Mul => match exact_product(a, b) {
                 Some((p, e)) => (p, -e),
-                None => (a * b, rounding_against(a * b, self.on_pairs(DoubleWord::from_f64(a), DoubleWord::from_f64(b)))),
+                None => {
+                    (a * b, rounding_against(a * b, self.on_pairs(DoubleWord::from_f64(a), DoubleWord::from_f64(b))))
+                }
             },
             Arith::Div => match exact_quotient(a, b) {
                 // The remainder comes with the sign of residual/b: ρ = q − a/b = −remainder/|b|.
                 Some((q, remainder)) => (q, -remainder / b.abs()),
-                None => (a / b, rounding_against(a / b, self.on_pairs(DoubleWord::from_f64(a), DoubleWord::from_f64(b)))),
+                None => {
+                    (a / b, rounding_against(a / b, self.on_pairs(DoubleWord::from_f64(a), DoubleWord::from_f64(b))))
+                }
             },
         };
         (result, if result.is_finite() { rounding } else { 0.0 })
@@ -156,6 +182,14 @@ impl<const W: bool> AttributedOf<W> {
     #[must_use]
     pub fn contributions(&self) -> &Contributions {
         &self.parts
+    }
+
+    /// The same value, marked as depending on field `field` alone (the runner seeds every cell of field `i` with
+    /// `i` at the start of each step; fields past the 64th are not told apart).
+    #[must_use]
+    pub fn of_field(self, field: usize) -> Self {
+        let fields = if field < 64 { 1 << field } else { 0 };
+        Self { tag: Provenance { fields, ..self.tag }, ..self }
     }
 
     /// The shadow as the pair `(hi, lo)`.
@@ -203,8 +237,8 @@ impl<const W: bool> AttributedOf<W> {
                 round(op.on_pairs(a, b))
             };
             let (ca, cb) = match op {
-                Arith::Add => (1.0, 1.0),             // e(x + y) = e(x) + e(y) + ρ
-                Arith::Sub => (1.0, -1.0),            // e(x − y) = e(x) − e(y) + ρ
+                Arith::Add => (1.0, 1.0),                 // e(x + y) = e(x) + e(y) + ρ
+                Arith::Sub => (1.0, -1.0),                // e(x − y) = e(x) − e(y) + ρ
                 Arith::Mul => (b.hi + b.lo, x.shadow.hi), // x̃ỹ − xy = ỹ·e(x) + x·e(y)
                 Arith::Div => {
                     let divisor = b.hi + b.lo;
@@ -213,13 +247,14 @@ impl<const W: bool> AttributedOf<W> {
             };
             let mut parts = combine(&x.parts, ca, &y.parts, cb);
             parts[site.slot] += rounding;
-            site.stats.note_rounding(rounding);
-            if matches!(op, Arith::Add | Arith::Sub) {
+            let summing = matches!(op, Arith::Add | Arith::Sub);
+            let tag = Provenance::of(site.id, step, &[x.tag, y.tag], summing);
+            site.note(tag.fields, |stats| stats.note_rounding(rounding));
+            if summing {
                 let addend = if op == Arith::Sub { -b.hi } else { b.hi };
-                let chained = (x.origin == site.id && x.born == step) || (y.origin == site.id && y.born == step);
-                site.stats.note_sum(a.hi, addend, primal.hi, chained);
+                site.note(tag.fields, |stats| stats.note_sum(a.hi, addend, primal.hi, tag.chain));
             }
-            Self { primal, shadow, origin: site.id, born: step, parts }
+            Self { primal, shadow, tag, parts }
         })
     }
 
@@ -274,8 +309,9 @@ impl<const W: bool> AttributedOf<W> {
                 parts = combine(&parts, 1.0, &arg.parts, slope); // e(f) ≈ Σ ∂f/∂x_i · e(x_i)
             }
             parts[site.slot] += rounding;
-            site.stats.note_rounding(rounding);
-            Self { primal, shadow, origin: site.id, born: step, parts }
+            let tag = Provenance::of(site.id, step, &args.map(|a| a.tag), false);
+            site.note(tag.fields, |stats| stats.note_rounding(rounding));
+            Self { primal, shadow, tag, parts }
         })
     }
 }
@@ -311,7 +347,7 @@ impl<const W: bool> Core for AttributedOf<W> {
     #[inline(always)]
     fn exact(value: f64) -> Self {
         let pair = DoubleWord::from_f64(value);
-        Self { primal: pair, shadow: pair, origin: 0, born: 0, parts: [0.0; SLOTS] }
+        Self { primal: pair, shadow: pair, tag: Provenance::default(), parts: [0.0; SLOTS] }
     }
 
     #[inline(always)]
@@ -323,12 +359,12 @@ impl<const W: bool> Core for AttributedOf<W> {
         }
         table::with_representation(|site| {
             if site.exact {
-                return Self { primal: real, shadow: real, origin: 0, born: 0, parts: [0.0; SLOTS] };
+                return Self { primal: real, shadow: real, tag: Provenance::default(), parts: [0.0; SLOTS] };
             }
-            site.stats.note_rounding(representation);
+            site.note(0, |stats| stats.note_rounding(representation));
             let mut parts = [0.0; SLOTS];
             parts[site.slot] = representation;
-            Self { primal: DoubleWord::from_f64(value), shadow: real, origin: 0, born: 0, parts }
+            Self { primal: DoubleWord::from_f64(value), shadow: real, tag: Provenance::default(), parts }
         })
     }
 
@@ -364,7 +400,8 @@ impl<const W: bool> Core for AttributedOf<W> {
     #[track_caller]
     fn div(self, rhs: Self) -> Self {
         if rhs.shadow.hi == 0.0 && rhs.primal.hi != 0.0 {
-            crate::events::record(crate::events::EventKind::DivisionByZeroEnclosure); // as the shadow lens does
+            crate::events::record(crate::events::EventKind::DivisionByZeroEnclosure);
+            // as the shadow lens does
         }
         self.arith(rhs, Arith::Div, Location::caller())
     }
@@ -390,8 +427,9 @@ impl<const W: bool> Core for AttributedOf<W> {
             };
             let mut parts = combine(&self.parts, 1.0, &rhs.parts, -q); // e(x − q·y) = e(x) − q·e(y)
             parts[site.slot] += rounding;
-            site.stats.note_rounding(rounding);
-            Self { primal, shadow: DoubleWord { hi, lo }, origin: site.id, born: step, parts }
+            let tag = Provenance::of(site.id, step, &[self.tag, rhs.tag], false);
+            site.note(tag.fields, |stats| stats.note_rounding(rounding));
+            Self { primal, shadow: DoubleWord { hi, lo }, tag, parts }
         })
     }
 
@@ -418,10 +456,10 @@ impl<const W: bool> Core for AttributedOf<W> {
             // x̃ã + b̃ − (xa + b) = ã·e(x) + x·e(a) + e(b)
             let mut parts = combine(&combine(&x.parts, a.primal.hi, &a.parts, x.shadow.hi), 1.0, &b.parts, 1.0);
             parts[site.slot] += rounding;
-            site.stats.note_rounding(rounding);
-            let chained = [x, a, b].iter().any(|v| v.origin == site.id && v.born == step);
-            site.stats.note_sum(x.primal.hi * a.primal.hi, b.primal.hi, primal.hi, chained);
-            Self { primal, shadow, origin: site.id, born: step, parts }
+            let tag = Provenance::of(site.id, step, &[x.tag, a.tag, b.tag], true);
+            site.note(tag.fields, |stats| stats.note_rounding(rounding));
+            site.note(tag.fields, |stats| stats.note_sum(x.primal.hi * a.primal.hi, b.primal.hi, primal.hi, tag.chain));
+            Self { primal, shadow, tag, parts }
         })
     }
 
@@ -468,7 +506,7 @@ impl<const W: bool> core::fmt::Display for AttributedOf<W> {
 impl<const W: bool> Lens for AttributedOf<W> {
     const NAME: &'static str = if W { "attributed" } else { "attributed-unwatched" };
     const GUARANTEED: bool = false;
-    super::variant_conversions!(AttributedOf { primal, shadow, origin, born, parts });
+    super::variant_conversions!(AttributedOf { primal, shadow, tag, parts });
 
     fn error_estimate(self) -> f64 {
         self.signed_error().abs()

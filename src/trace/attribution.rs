@@ -49,10 +49,38 @@ pub struct FieldAttribution {
     pub exact_error: Option<f64>,
 }
 
-/// What one site or line contributes to one field's error.
+/// What the operations of one site or line did: over the run, or those whose operands depend on one field.
+#[derive(Clone, Debug, Default, PartialEq, Serialize, Deserialize)]
+pub struct OpFacts {
+    /// How many times they ran.
+    pub count: u64,
+    /// `Σ |ρ|`, `max |ρ|` and `Σ ρ` of their exact rounding errors `ρ = result − exact result of the operands`.
+    #[serde(deserialize_with = "nan_if_null")]
+    pub rounding_abs_sum: f64,
+    #[serde(deserialize_with = "nan_if_null")]
+    pub rounding_abs_max: f64,
+    #[serde(deserialize_with = "nan_if_null")]
+    pub rounding_sum: f64,
+    /// Sums and differences: `log2(max(|x|, |y|) / |x ± y|)`, mean and maximum (`null`: no sum ran). For a line,
+    /// the largest mean and the largest maximum of its sites.
+    pub cancelled_bits_mean: Option<f64>,
+    pub cancelled_bits_max: Option<f64>,
+    /// Sums and differences: `log2(max(|x|, |y|) / min(|x|, |y|))` (capped at 53), the bits of the smaller
+    /// operand that fall off the larger one's last place.
+    pub absorbed_bits_mean: Option<f64>,
+    pub absorbed_bits_max: Option<f64>,
+    /// Sums and differences: the mean of `max(|x|, |y|)`, the background the smaller operand is added to.
+    pub large_operand_mean: Option<f64>,
+    /// Sums that continue a run of at least eight sums of their own site within one step (a long sum).
+    pub chained: u64,
+}
+
+/// What one site or line contributes to one field's error, and what its operations did to that field.
 #[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
 pub struct Share {
     pub field: String,
+    /// The operations whose operands depend on the field as it stood at the start of each step.
+    pub ops: OpFacts,
     /// The propagated contribution to `primal − shadow` at the field's worst cell (signed); `null` for a site
     /// that shares the pooled slot.
     pub contribution: Option<f64>,
@@ -69,30 +97,14 @@ pub struct Share {
 /// What one operation site did over the run.
 #[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
 pub struct SiteFacts {
-    /// The operator's file, line and column; `null` for the representation of constants and inputs.
+    /// The operator's file, line and column (Rust gives a binary operator the column where its left operand
+    /// starts); `null` for the representation of constants and inputs.
     pub site: Option<SiteRecord>,
-    /// `add`, `sub`, `mul`, `div`, `rem`, `mul_add`, `sqrt`, an elementary function's name, or `representation`.
+    /// `add`, `sub`, `mul`, `div`, `rem`, `mul_add`, an elementary function's name (`sqrt`, `exp`, …), or
+    /// `representation`.
     pub op: String,
-    /// How many times it ran.
-    pub count: u64,
-    /// `Σ |ρ|`, `max |ρ|` and `Σ ρ` of its exact rounding errors `ρ = result − exact result of its operands`.
-    #[serde(deserialize_with = "nan_if_null")]
-    pub rounding_abs_sum: f64,
-    #[serde(deserialize_with = "nan_if_null")]
-    pub rounding_abs_max: f64,
-    #[serde(deserialize_with = "nan_if_null")]
-    pub rounding_sum: f64,
-    /// Sums and differences: `log2(max(|x|, |y|) / |x ± y|)`, mean and maximum over the run.
-    pub cancelled_bits_mean: Option<f64>,
-    pub cancelled_bits_max: Option<f64>,
-    /// Sums and differences: `log2(max(|x|, |y|) / min(|x|, |y|))` (capped at 53), the bits of the smaller
-    /// operand that fall off the larger one's last place.
-    pub absorbed_bits_mean: Option<f64>,
-    pub absorbed_bits_max: Option<f64>,
-    /// Sums and differences: the mean of `max(|x|, |y|)`, the background the smaller operand is added to.
-    pub large_operand_mean: Option<f64>,
-    /// Sums and differences with an operand this same site produced (an accumulation chain).
-    pub chained: u64,
+    /// Over the run.
+    pub ops: OpFacts,
     /// Per field.
     pub shares: Vec<Share>,
 }
@@ -104,16 +116,9 @@ pub struct LineFacts {
     pub line: u32,
     /// The columns of its operation sites.
     pub columns: Vec<u32>,
-    /// Operations run on the line.
-    pub count: u64,
-    #[serde(deserialize_with = "nan_if_null")]
-    pub rounding_abs_sum: f64,
-    /// The largest mean and the largest maximum over its sums and differences (`null`: it has none).
-    pub cancelled_bits_mean: Option<f64>,
-    pub cancelled_bits_max: Option<f64>,
-    pub absorbed_bits_mean: Option<f64>,
-    pub absorbed_bits_max: Option<f64>,
-    /// Per field: the sums of its sites' propagated contributions and shares, and the ablated shares.
+    /// Over the run, its sites together.
+    pub ops: OpFacts,
+    /// Per field: its sites' facts and propagated contributions and shares summed, and the ablated shares.
     pub shares: Vec<Share>,
     /// Whether every site of the line has its own slot (else the propagated shares leave some out).
     pub complete: bool,
