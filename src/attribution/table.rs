@@ -15,6 +15,7 @@ use std::panic::Location;
 
 use crate::events::Site;
 
+
 /// Slots of a value's contribution vector: slot 0 is the representation of constants and inputs, slots
 /// `1 .. SLOTS − 1` are the first `SLOTS − 2` operation sites the run meets, the last slot sums all later ones.
 /// 32 keeps a value at 296 bytes; a kernel with more operation sites still gets every site's facts and every
@@ -25,8 +26,11 @@ pub const REPRESENTATION_SLOT: usize = 0;
 /// The slot every site beyond the first `SLOTS − 2` shares.
 pub const OTHER_SLOT: usize = SLOTS - 1;
 
-/// Entries of the direct-mapped cache (a power of two).
-const CACHE: usize = 64;
+/// Entries of the cache (a power of two). Open addressing with linear probing and no eviction: a run meets a
+/// few dozen site instantiations, so the table stays sparse and a lookup is one probe; past [`CACHE_FILL`]
+/// entries the rest go to the map.
+const CACHE: usize = 256;
+const CACHE_FILL: usize = CACHE / 2;
 
 /// The kind of operation at a site.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord)]
@@ -130,44 +134,61 @@ pub const LONG_SUM_RUN: u32 = 8;
 /// all, and no more than them can be absorbed.
 pub const PRECISION_BITS: f64 = 53.0;
 
-impl Stats {
-    /// One rounding error `ρ = result − exact result of the operands`.
-    #[inline(always)]
-    pub fn note_rounding(&mut self, rounding: f64) {
-        self.count += 1;
-        let magnitude = rounding.abs();
-        self.rounding_abs_sum += magnitude;
-        self.rounding_abs_max = self.rounding_abs_max.max(magnitude);
-        self.rounding_sum += rounding;
-    }
+/// What one sum `x + y` (a difference as `x + (−y)`) did, worked out once per operation.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct SumFacts {
+    /// `log2(max(|x|, |y|) / |x + y|)`, 53 when the sum is zero and an operand is not.
+    pub cancelled: f64,
+    /// `log2(max / min)`, capped at 53.
+    pub absorbed: f64,
+    /// `max(|x|, |y|)` (0 when not finite).
+    pub large: f64,
+    /// Whether the sum continues a run of at least [`LONG_SUM_RUN`] sums of its own site.
+    pub long: bool,
+}
 
-    /// One sum `x + y` (a difference as `x + (−y)`) with result `sum`, and whether an operand came from this same
-    /// site and how long its chain is. Cancelled bits `log2(max(|x|, |y|) / |x + y|)` (53 when the sum is zero and an operand is not);
-    /// absorbed bits `log2(max / min)`, capped at 53.
+impl SumFacts {
+    /// The facts of the sum `x + y = sum` whose chain of sums of its own site has length `chain`.
     #[inline(always)]
-    pub fn note_sum(&mut self, x: f64, y: f64, sum: f64, chain: u32) {
+    #[must_use]
+    pub fn of(x: f64, y: f64, sum: f64, chain: u32) -> SumFacts {
         let (large, small) = if x.abs() >= y.abs() { (x.abs(), y.abs()) } else { (y.abs(), x.abs()) };
-        let cancelled = if large == 0.0 || !large.is_finite() {
+        let finite = large.is_finite();
+        let cancelled = if large == 0.0 || !finite {
             0.0
         } else if sum == 0.0 {
             PRECISION_BITS
         } else {
             (large / sum.abs()).log2().max(0.0) // log2(max(|x|,|y|)/|x ± y|), the definition
         };
-        let absorbed = if small == 0.0 || !large.is_finite() {
+        let absorbed = if small == 0.0 || !finite {
             0.0
         } else {
             (large / small).log2().min(PRECISION_BITS) // the bits of the smaller operand below the larger's ulp
         };
-        self.sums += 1;
-        self.cancelled_bits_sum += cancelled;
-        self.cancelled_bits_max = self.cancelled_bits_max.max(cancelled);
-        self.absorbed_bits_sum += absorbed;
-        self.absorbed_bits_max = self.absorbed_bits_max.max(absorbed);
-        if large.is_finite() {
-            self.large_operand_sum += large;
+        SumFacts { cancelled, absorbed, large: if finite { large } else { 0.0 }, long: chain >= LONG_SUM_RUN }
+    }
+}
+
+impl Stats {
+    /// One operation with exact rounding error `ρ = result − exact result of the operands`, and what it did as a
+    /// sum.
+    #[inline(always)]
+    pub fn add(&mut self, rounding: f64, sum: Option<&SumFacts>) {
+        self.count += 1;
+        let magnitude = rounding.abs();
+        self.rounding_abs_sum += magnitude;
+        self.rounding_abs_max = self.rounding_abs_max.max(magnitude);
+        self.rounding_sum += rounding;
+        if let Some(facts) = sum {
+            self.sums += 1;
+            self.cancelled_bits_sum += facts.cancelled;
+            self.cancelled_bits_max = self.cancelled_bits_max.max(facts.cancelled);
+            self.absorbed_bits_sum += facts.absorbed;
+            self.absorbed_bits_max = self.absorbed_bits_max.max(facts.absorbed);
+            self.large_operand_sum += facts.large;
+            self.chained += u64::from(facts.long);
         }
-        self.chained += u64::from(chain >= LONG_SUM_RUN);
     }
 }
 
@@ -193,19 +214,31 @@ pub struct SiteState {
 }
 
 impl SiteState {
-    /// Applies `note` to the facts over the run and to those of every field in the `fields` mask.
+    /// Adds one operation to the facts over the run and to those of every field in the `fields` mask.
     #[inline(always)]
-    pub fn note(&mut self, fields: u64, note: impl Fn(&mut Stats)) {
-        note(&mut self.stats);
+    fn note(&mut self, fields: u64, rounding: f64, sum: Option<&SumFacts>) {
+        self.stats.add(rounding, sum);
         let mut mask = fields;
         while mask != 0 {
             let field = mask.trailing_zeros() as usize;
             if let Some(stats) = self.per_field.get_mut(field) {
-                note(stats);
+                stats.add(rounding, sum);
             }
             mask &= mask - 1;
         }
     }
+}
+
+/// A site as an operation sees it: where its facts go, the slot of its rounding, whether it is exact.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct At {
+    index: u32,
+    /// The site's number (see [`SiteState::id`]).
+    pub id: u32,
+    pub slot: usize,
+    pub exact: bool,
+    /// The step being computed.
+    pub step: u32,
 }
 
 struct Table {
@@ -220,6 +253,8 @@ struct Table {
     step: u32,
     /// How many fields the per-field facts tell apart.
     fields: usize,
+    /// Entries of the cache in use.
+    cached: usize,
 }
 
 impl Table {
@@ -231,6 +266,7 @@ impl Table {
             exact: Exact::Nothing,
             step: 0,
             fields: 0,
+            cached: 0,
         }
     }
 
@@ -239,13 +275,22 @@ impl Table {
     fn index(&mut self, location: &'static Location<'static>, op: Op) -> usize {
         let address = std::ptr::from_ref(location) as usize;
         // A Location is at least 16 bytes: the bits above the fourth tell neighbouring statics apart.
-        let entry = ((address >> 4) ^ op.code()) & (CACHE - 1);
-        let (cached, cached_op, index) = self.cache[entry];
-        if cached == address && cached_op == op {
-            return index as usize;
+        let mut entry = ((address >> 4) ^ (op.code() << 5)) & (CACHE - 1);
+        loop {
+            let (cached, cached_op, index) = self.cache[entry];
+            if cached == address && cached_op == op {
+                return index as usize;
+            }
+            if cached == 0 {
+                break;
+            }
+            entry = (entry + 1) & (CACHE - 1);
         }
         let index = self.enter(location, op);
-        self.cache[entry] = (address, op, index as u32);
+        if self.cached < CACHE_FILL {
+            self.cache[entry] = (address, op, index as u32);
+            self.cached += 1;
+        }
         index
     }
 
@@ -293,16 +338,37 @@ thread_local! {
     static TABLE: RefCell<Table> = const { RefCell::new(Table::new()) };
 }
 
-/// Runs `f` on the state of the site at `location` (entered with `op` when first met) and the step being
-/// computed. `f` must not perform lens operations itself (the table is borrowed while it runs).
+/// The site at `location` for an operation `op` (entered when first met).
 #[inline(always)]
-pub fn with_site<R>(location: &'static Location<'static>, op: Op, f: impl FnOnce(&mut SiteState, u32) -> R) -> R {
+#[must_use]
+pub fn site(location: &'static Location<'static>, op: Op) -> At {
     TABLE.with(|table| {
         let mut table = table.borrow_mut();
         let index = table.index(location, op);
-        let step = table.step;
-        f(&mut table.sites[index], step)
+        let site = &table.sites[index];
+        At { index: index as u32, id: site.id, slot: site.slot, exact: site.exact, step: table.step }
     })
+}
+
+/// The pseudo-site of the constants and inputs as written.
+#[must_use]
+pub fn representation() -> At {
+    TABLE.with(|table| {
+        let mut table = table.borrow_mut();
+        table.ensure_representation();
+        let site = &table.sites[0];
+        At { index: 0, id: site.id, slot: site.slot, exact: site.exact, step: table.step }
+    })
+}
+
+/// Adds one operation at `at` to its facts: over the run, and for every field in the `fields` mask.
+#[inline(always)]
+pub fn note(at: At, fields: u64, rounding: f64, sum: Option<SumFacts>) {
+    TABLE.with(|table| {
+        if let Some(site) = table.borrow_mut().sites.get_mut(at.index as usize) {
+            site.note(fields, rounding, sum.as_ref());
+        }
+    });
 }
 
 /// Tells the table that step `step` begins.

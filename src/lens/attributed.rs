@@ -28,7 +28,7 @@
 
 use core::panic::Location;
 
-use crate::attribution::table::{self, Op, SLOTS};
+use crate::attribution::table::{self, Op, SumFacts, SLOTS};
 use crate::lens::eft::{exact_product, exact_quotient, two_diff, two_sum, DoubleWord};
 use crate::lens::reference::Reference;
 use crate::lens::scalar::{Core, Orders};
@@ -163,10 +163,12 @@ fn round(exact: DoubleWord) -> (DoubleWord, f64) {
     (DoubleWord::from_f64(nearest), rounding_against(nearest, exact))
 }
 
-/// `ca·a + cb·b`, slot by slot.
+/// `a ← ca·a + cb·b`, slot by slot (in place: a value is 296 bytes, and every copy of it costs).
 #[inline(always)]
-fn combine(a: &Contributions, ca: f64, b: &Contributions, cb: f64) -> Contributions {
-    core::array::from_fn(|k| ca * a[k] + cb * b[k])
+fn combine_into(a: &mut Contributions, ca: f64, b: &Contributions, cb: f64) {
+    for (x, y) in a.iter_mut().zip(b) {
+        *x = ca * *x + cb * y;
+    }
 }
 
 impl<const W: bool> AttributedOf<W> {
@@ -226,7 +228,8 @@ impl<const W: bool> AttributedOf<W> {
     fn arith(self, y: Self, op: Arith, location: &'static Location<'static>) -> Self {
         let x = self;
         let shadow = op.on_pairs(x.shadow, y.shadow);
-        table::with_site(location, op.op(), |site, step| {
+        let site = table::site(location, op.op());
+        {
             let (a, b) = (x.primal, y.primal);
             let (primal, rounding) = if site.exact {
                 (op.on_pairs(a, b), 0.0)
@@ -245,17 +248,18 @@ impl<const W: bool> AttributedOf<W> {
                     (1.0 / divisor, -shadow.hi / divisor) // x̃/ỹ − x/y = (e(x) − (x/y)·e(y))/ỹ
                 }
             };
-            let mut parts = combine(&x.parts, ca, &y.parts, cb);
-            parts[site.slot] += rounding;
+            let mut out = Self { primal, shadow, tag: Provenance::default(), parts: x.parts };
+            combine_into(&mut out.parts, ca, &y.parts, cb);
+            out.parts[site.slot] += rounding;
             let summing = matches!(op, Arith::Add | Arith::Sub);
-            let tag = Provenance::of(site.id, step, &[x.tag, y.tag], summing);
-            site.note(tag.fields, |stats| stats.note_rounding(rounding));
-            if summing {
+            out.tag = Provenance::of(site.id, site.step, &[x.tag, y.tag], summing);
+            let sum = summing.then(|| {
                 let addend = if op == Arith::Sub { -b.hi } else { b.hi };
-                site.note(tag.fields, |stats| stats.note_sum(a.hi, addend, primal.hi, tag.chain));
-            }
-            Self { primal, shadow, tag, parts }
-        })
+                SumFacts::of(a.hi, addend, primal.hi, out.tag.chain)
+            });
+            table::note(site, out.tag.fields, rounding, sum);
+            out
+        }
     }
 
     /// An elementary function of `N` arguments at the site `location`: `f` is the [`super::Shadow`] lens's
@@ -295,7 +299,8 @@ impl<const W: bool> AttributedOf<W> {
                 0.0
             }
         });
-        table::with_site(location, Op::Function(name), |site, step| {
+        let site = table::site(location, Op::Function(name));
+        {
             let (primal, rounding) = if site.exact {
                 (at_primal, 0.0)
             } else if args.iter().all(|a| a.is_double()) {
@@ -306,13 +311,13 @@ impl<const W: bool> AttributedOf<W> {
             };
             let mut parts = [0.0; SLOTS];
             for (arg, slope) in args.iter().zip(slopes) {
-                parts = combine(&parts, 1.0, &arg.parts, slope); // e(f) ≈ Σ ∂f/∂x_i · e(x_i)
+                combine_into(&mut parts, 1.0, &arg.parts, slope); // e(f) ≈ Σ ∂f/∂x_i · e(x_i)
             }
             parts[site.slot] += rounding;
-            let tag = Provenance::of(site.id, step, &args.map(|a| a.tag), false);
-            site.note(tag.fields, |stats| stats.note_rounding(rounding));
+            let tag = Provenance::of(site.id, site.step, &args.map(|a| a.tag), false);
+            table::note(site, tag.fields, rounding, None);
             Self { primal, shadow, tag, parts }
-        })
+        }
     }
 }
 
@@ -357,15 +362,14 @@ impl<const W: bool> Core for AttributedOf<W> {
         if representation == 0.0 {
             return Self::exact(value); // the double is the number as written
         }
-        table::with_representation(|site| {
-            if site.exact {
-                return Self { primal: real, shadow: real, tag: Provenance::default(), parts: [0.0; SLOTS] };
-            }
-            site.note(0, |stats| stats.note_rounding(representation));
-            let mut parts = [0.0; SLOTS];
-            parts[site.slot] = representation;
-            Self { primal: DoubleWord::from_f64(value), shadow: real, tag: Provenance::default(), parts }
-        })
+        let site = table::representation();
+        if site.exact {
+            return Self { primal: real, shadow: real, tag: Provenance::default(), parts: [0.0; SLOTS] };
+        }
+        table::note(site, 0, representation, None);
+        let mut parts = [0.0; SLOTS];
+        parts[site.slot] = representation;
+        Self { primal: DoubleWord::from_f64(value), shadow: real, tag: Provenance::default(), parts }
     }
 
     #[inline(always)]
@@ -414,7 +418,8 @@ impl<const W: bool> Core for AttributedOf<W> {
         let (hi, lo) = along.shadow();
         let c = Core::primal(along);
         let q = ((self.primal.hi - c) / rhs.primal.hi).round();
-        table::with_site(Location::caller(), Op::Rem, |site, step| {
+        let site = table::site(Location::caller(), Op::Rem);
+        {
             // fmod of doubles is exact (IEEE 754-2019 §5.3.1 remainder is exact; fmod likewise); with a
             // double-word operand the remainder is taken along the same quotient and rounded.
             let exact = self.primal - rhs.primal.mul_f64(q);
@@ -425,12 +430,13 @@ impl<const W: bool> Core for AttributedOf<W> {
             } else {
                 round(exact)
             };
-            let mut parts = combine(&self.parts, 1.0, &rhs.parts, -q); // e(x − q·y) = e(x) − q·e(y)
+            let mut parts = self.parts;
+            combine_into(&mut parts, 1.0, &rhs.parts, -q); // e(x − q·y) = e(x) − q·e(y)
             parts[site.slot] += rounding;
-            let tag = Provenance::of(site.id, step, &[self.tag, rhs.tag], false);
-            site.note(tag.fields, |stats| stats.note_rounding(rounding));
+            let tag = Provenance::of(site.id, site.step, &[self.tag, rhs.tag], false);
+            table::note(site, tag.fields, rounding, None);
             Self { primal, shadow: DoubleWord { hi, lo }, tag, parts }
-        })
+        }
     }
 
     #[inline(always)]
@@ -443,7 +449,8 @@ impl<const W: bool> Core for AttributedOf<W> {
     fn mul_add(self, a: Self, b: Self) -> Self {
         let x = self;
         let shadow = x.shadow.mul_add(a.shadow, b.shadow);
-        table::with_site(Location::caller(), Op::MulAdd, |site, step| {
+        let site = table::site(Location::caller(), Op::MulAdd);
+        {
             let exact = x.primal.mul_add(a.primal, b.primal);
             let (primal, rounding) = if site.exact {
                 (exact, 0.0)
@@ -454,13 +461,15 @@ impl<const W: bool> Core for AttributedOf<W> {
                 round(exact)
             };
             // x̃ã + b̃ − (xa + b) = ã·e(x) + x·e(a) + e(b)
-            let mut parts = combine(&combine(&x.parts, a.primal.hi, &a.parts, x.shadow.hi), 1.0, &b.parts, 1.0);
+            let mut parts = b.parts;
+            combine_into(&mut parts, 1.0, &x.parts, a.primal.hi);
+            combine_into(&mut parts, 1.0, &a.parts, x.shadow.hi);
             parts[site.slot] += rounding;
-            let tag = Provenance::of(site.id, step, &[x.tag, a.tag, b.tag], true);
-            site.note(tag.fields, |stats| stats.note_rounding(rounding));
-            site.note(tag.fields, |stats| stats.note_sum(x.primal.hi * a.primal.hi, b.primal.hi, primal.hi, tag.chain));
+            let tag = Provenance::of(site.id, site.step, &[x.tag, a.tag, b.tag], true);
+            let sum = SumFacts::of(x.primal.hi * a.primal.hi, b.primal.hi, primal.hi, tag.chain);
+            table::note(site, tag.fields, rounding, Some(sum));
             Self { primal, shadow, tag, parts }
-        })
+        }
     }
 
     #[inline(always)]
