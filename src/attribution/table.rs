@@ -15,7 +15,6 @@ use std::panic::Location;
 
 use crate::events::Site;
 
-
 /// Slots of a value's contribution vector: slot 0 is the representation of constants and inputs, slots
 /// `1 .. SLOTS − 1` are the first `SLOTS − 2` operation sites the run meets, the last slot sums all later ones.
 /// 32 keeps a value at 296 bytes; a kernel with more operation sites still gets every site's facts and every
@@ -192,7 +191,8 @@ pub fn log2(x: f64) -> f64 {
     }
     let t = (m - 1.0) / (m + 1.0);
     let t2 = t * t;
-    let ln_m = 2.0 * t * (1.0 + t2 * (1.0 / 3.0 + t2 * (1.0 / 5.0 + t2 * (1.0 / 7.0 + t2 * (1.0 / 9.0 + t2 * (1.0 / 11.0))))));
+    let ln_m =
+        2.0 * t * (1.0 + t2 * (1.0 / 3.0 + t2 * (1.0 / 5.0 + t2 * (1.0 / 7.0 + t2 * (1.0 / 9.0 + t2 * (1.0 / 11.0))))));
     exponent as f64 + ln_m * core::f64::consts::LOG2_E
 }
 
