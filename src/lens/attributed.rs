@@ -321,6 +321,17 @@ impl<const W: bool> AttributedOf<W> {
     }
 }
 
+/// `+`, `−`, `×` through [`AttributedOf::arith`] at the caller's site.
+macro_rules! attributed_arithmetic {
+    ($($name:ident $op:ident),*) => {$(
+        #[inline(always)]
+        #[track_caller]
+        fn $name(self, rhs: Self) -> Self {
+            self.arith(rhs, Arith::$op, Location::caller())
+        }
+    )*};
+}
+
 /// The unary elementary functions, each through [`AttributedOf::function`] with the shadow lens's function.
 macro_rules! attributed_functions {
     ($($name:ident)*) => {$(
@@ -382,30 +393,14 @@ impl<const W: bool> Core for AttributedOf<W> {
         self.as_shadow().orders(rhs.as_shadow())
     }
 
-    #[inline(always)]
-    #[track_caller]
-    fn add(self, rhs: Self) -> Self {
-        self.arith(rhs, Arith::Add, Location::caller())
-    }
-
-    #[inline(always)]
-    #[track_caller]
-    fn sub(self, rhs: Self) -> Self {
-        self.arith(rhs, Arith::Sub, Location::caller())
-    }
-
-    #[inline(always)]
-    #[track_caller]
-    fn mul(self, rhs: Self) -> Self {
-        self.arith(rhs, Arith::Mul, Location::caller())
-    }
+    attributed_arithmetic! { add Add, sub Sub, mul Mul }
 
     #[inline(always)]
     #[track_caller]
     fn div(self, rhs: Self) -> Self {
+        // The shadow divides by zero where the primal does not: the shadow lens's event.
         if rhs.shadow.hi == 0.0 && rhs.primal.hi != 0.0 {
             crate::events::record(crate::events::EventKind::DivisionByZeroEnclosure);
-            // as the shadow lens does
         }
         self.arith(rhs, Arith::Div, Location::caller())
     }
