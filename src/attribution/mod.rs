@@ -316,7 +316,9 @@ fn line_facts(states: &[SiteState], sites: &[SiteFacts]) -> Vec<LineFacts> {
         let add = |a: Option<f64>, b: Option<f64>| Some(a? + b?);
         for (total, share) in line.shares.iter_mut().zip(&facts.shares) {
             merge(&mut total.ops, &share.ops);
-            if share.contribution.is_some() {
+            // A pooled site has no share of its own (the line is then incomplete); a site without one because the
+            // field has no finite error leaves the line without one too.
+            if state.slot != OTHER_SLOT {
                 total.contribution = add(total.contribution, share.contribution);
                 total.share = add(total.share, share.share);
                 total.share_l2 = add(total.share_l2, share.share_l2);
