@@ -6,7 +6,7 @@ mod attribution_support;
 
 use attribution_support::{oracle, rational, to_f64, Line, Planted, FILE};
 use dashu_ratio::RBig;
-use twinstep::attribution::Attribution;
+use twinstep::attribution::{Attribution, Exact};
 use twinstep::lens::AttributedUnwatched;
 use twinstep::trace::{AttributionRecord, Pattern, Remedy};
 use twinstep::Real;
@@ -83,6 +83,14 @@ fn ablated_shares_match_the_exact_oracle_to_two_digits() {
         // The error the shares divide: the shadow's against the exact run's, to many more digits than asked.
         let oracle_error = to_f64(&(&program[cell] - &exact[cell]));
         assert!((field.error - oracle_error).abs() <= 1e-9 * oracle_error.abs(), "{} vs {oracle_error}", field.error);
+        // The ablation run itself, cell by cell: the planted line exact, every other operation rounded.
+        let (without, _) = oracle(&p, STEPS, &[Line::Planted]);
+        let planted = Exact::Lines(vec![(FILE.to_string(), Line::Planted.number())]);
+        let errors = Attribution::new(&p, STEPS).errors(planted).expect("the ablation run");
+        for (c, (mine, (w, x))) in errors[0].iter().zip(without.iter().zip(&exact)).enumerate() {
+            let expected = to_f64(&(w - x));
+            assert!((mine - expected).abs() <= 1e-9 * expected.abs().max(1e-20), "cell {c}: {mine} vs {expected}");
+        }
         for line in Line::ALL {
             let mine = line_of(&record, line).shares[0].ablated.expect("each of the three lines was ablated");
             let expected = oracle_share(&p, line, cell, &exact, &program);

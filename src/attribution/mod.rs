@@ -14,7 +14,7 @@
 //! one (their site tables are their own), which shows as a residual.
 
 mod pattern;
-pub mod table;
+pub(crate) mod table;
 
 use std::collections::BTreeMap;
 use std::panic::{catch_unwind, AssertUnwindSafe};
@@ -22,10 +22,10 @@ use std::panic::{catch_unwind, AssertUnwindSafe};
 use crate::audit::{Error, FieldSpec, Levels, Scenario, Scheme};
 use crate::lens::attributed::{AttributedUnwatched, Contributions};
 use crate::trace::{AttributionRecord, FieldAttribution, LineFacts, OpFacts, Share, SiteFacts, SiteRecord};
-use table::{Op, SiteState, Stats, OTHER_SLOT, REPRESENTATION_SLOT};
+use table::{Op, SiteState, Stats};
 
 pub use pattern::{PATTERN_BITS, SIGNIFICANT_SHARE};
-pub use table::{Exact, SLOTS};
+pub use table::{Exact, LONG_SUM_RUN, OTHER_SLOT, PRECISION_BITS, REPRESENTATION_SLOT, SLOTS};
 
 /// Lines that get an ablation run by default: the largest propagated shares.
 pub const DEFAULT_ABLATED_LINES: usize = 8;

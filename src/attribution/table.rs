@@ -402,16 +402,6 @@ pub fn begin_step(step: u32) {
     TABLE.with(|table| table.borrow_mut().step = step);
 }
 
-/// Runs `f` on the representation's state.
-#[inline]
-pub fn with_representation<R>(f: impl FnOnce(&mut SiteState) -> R) -> R {
-    TABLE.with(|table| {
-        let mut table = table.borrow_mut();
-        table.ensure_representation();
-        f(&mut table.sites[0])
-    })
-}
-
 /// Empties this thread's table and sets what the next run computes exactly and how many fields it has.
 pub fn reset(exact: Exact, fields: usize) {
     TABLE.with(|table| *table.borrow_mut() = Table { exact, fields: fields.min(64), ..Table::new() });

@@ -2,7 +2,7 @@
 //! part of `primal − shadow` that the site's roundings caused — the lens behind [`crate::attribution`].
 //!
 //! Each value carries a vector of contributions `δ_S`, one slot per source site `S` (the operator's file, line
-//! and column, from `#[track_caller]`; the table in [`crate::attribution::table`] gives each site its slot). An
+//! and column, from `#[track_caller]`; a per-thread table of the sites gives each its slot). An
 //! operation propagates its operands' contributions and adds its own exact rounding error `ρ` (from the
 //! error-free transformations of [`super::eft`]) to its own slot. With `e(v) = ṽ − v` the error of a value
 //! (primal minus exact), the propagation rules are exact identities, not linearizations, for the four
@@ -52,7 +52,7 @@ pub struct AttributedOf<const WATCH: bool> {
 pub struct Provenance {
     /// The table id of the site that produced the value (0: an input or constant).
     origin: u32,
-    /// The step in which it was produced (see [`crate::attribution::table::begin_step`]).
+    /// The step in which it was produced (the runner tells the site table when a step begins).
     born: u32,
     /// How many sums in a row this same site made of it within the step: `s += x` in a loop counts up, a sum of
     /// unrelated values starts at 0.
@@ -180,7 +180,7 @@ impl<const W: bool> AttributedOf<W> {
     }
 
     /// Per slot, the propagated part of [`Self::signed_error`] that one site's roundings caused (slot 0: the
-    /// representation of constants; see [`crate::attribution::table::SLOTS`]).
+    /// representation of constants; see [`crate::attribution::SLOTS`]).
     #[must_use]
     pub fn contributions(&self) -> &Contributions {
         &self.parts
