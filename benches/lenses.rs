@@ -8,13 +8,18 @@
 //! only where a value turns non-finite, see docs/audit.md); the watched variants — the replays' cost, and what a
 //! user's own loop pays for a line on every NaN — are measured beside them. Targets (issue 3): twin f64 ≤ 1.05×,
 //! Bound ≤ 8×, Shadow ≤ 15×, Interval reported. A last section times whole audits (kernel, the f64 original
-//! alongside, the per-step measurements and the trace) on the 1-D kernel, reported.
+//! alongside, the per-step measurements and the trace) on the 1-D kernel, reported. A section on the per-site
+//! bookkeeping of the attribution lens (`Attributed`: the shadow plus, per value, the contribution of every
+//! operation site, and per operation the site's slot looked up and its facts updated) reports its cost against
+//! plain f64 and against the Shadow lens, which is the same reference without the bookkeeping.
 //! Run with `cargo bench --bench lenses`.
 
 use std::hint::black_box;
 use std::time::{Duration, Instant};
 use twinstep::audit::{Audit, AuditLens, FieldSpec, Levels, Scenario, Tolerance};
-use twinstep::lens::{Bound, BoundUnwatched, Interval, IntervalUnwatched, Shadow, ShadowUnwatched};
+use twinstep::lens::{
+    AttributedUnwatched, Bound, BoundUnwatched, Interval, IntervalUnwatched, Shadow, ShadowUnwatched,
+};
 use twinstep::Real;
 
 /// One explicit step of the 1-D heat equation `u_t = u_xx`, fixed ends.
@@ -228,6 +233,22 @@ fn main() {
         );
         let rows = lens_rows!(GRID * GRID, diffusion_steps, 0.2, |u, out, r| diffusion_2d_twin(u, out, GRID, r));
         report(section, original, Some(twin), &rows);
+    }
+
+    // The attribution lens: the shadow plus per-site bookkeeping, against the shadow alone (reported; the
+    // attribution runs apart from audits, so ordinary audits do not pay it).
+    let section = "attribution bookkeeping, 1-D heat, 10^5 cells";
+    if wanted(section) {
+        let original = time_kernel::<f64>(CELLS, heat_steps, |u, out| heat_1d(u, out, 0.25));
+        let shadow = time_kernel::<ShadowUnwatched>(CELLS, heat_steps / 4, |u, out| {
+            heat_1d_twin(u, out, <ShadowUnwatched as Real>::from_f64(0.25))
+        });
+        let attributed = time_kernel::<AttributedUnwatched>(CELLS, heat_steps / 10, |u, out| {
+            heat_1d_twin(u, out, <AttributedUnwatched as Real>::from_f64(0.25))
+        });
+        let rows = [("Shadow", shadow, None), ("Attributed", attributed, None)];
+        report(section, original, None, &rows);
+        println!("  Attributed / Shadow: {:.1}×", attributed.as_secs_f64() / shadow.as_secs_f64());
     }
 
     // A whole audit also runs the original beside the lens and measures every cell after every step.

@@ -8,6 +8,7 @@
 //!
 //! twinstep judges rounding error only, not discretization or modelling error.
 
+pub mod attribution;
 pub mod audit;
 pub mod events;
 pub mod lens;

@@ -21,6 +21,7 @@ use std::path::PathBuf;
 
 pub use crate::trace::{FieldSpec, RecordPolicy};
 pub use driver::Audit;
+pub(crate) use field::multi_index;
 pub use field::{Field, Levels};
 pub use lens_thread::AuditLens;
 pub use loop_audit::{capture, record_step, FieldCells, LoopAudit, Snapshot, StepNumber};

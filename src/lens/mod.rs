@@ -49,6 +49,7 @@ macro_rules! variant_conversions {
 }
 use variant_conversions;
 
+pub mod attributed;
 pub mod bound;
 pub mod dwmath;
 pub mod eft;
@@ -60,6 +61,7 @@ pub mod reference;
 pub mod scalar;
 pub mod shadow;
 
+pub use attributed::{Attributed, AttributedOf, AttributedUnwatched};
 pub use bound::{Bound, BoundOf, BoundUnwatched};
 pub use interval::{Interval, IntervalOf, IntervalUnwatched};
 pub use reference::{literal_mode, set_literal_mode, with_literal_mode, LiteralMode, Reference};

@@ -5,6 +5,7 @@
 //! (reported as incomplete). The types here are the serde form of each record; the reader and the writer share
 //! them, so the round trip is exact by construction and tested.
 
+mod attribution;
 mod reader;
 mod writer;
 
@@ -12,6 +13,9 @@ use serde::{Deserialize, Deserializer, Serialize};
 
 pub use crate::audit::Tolerance;
 pub use crate::verdict::{Growth, Status, Verdict};
+pub use attribution::{
+    AttributionRecord, FieldAttribution, Finding, LineFacts, OpFacts, Pattern, PatternHit, Remedy, Share, SiteFacts,
+};
 pub use reader::{parse, read, read_from, ReadError, MAX_LINE_BYTES};
 pub use writer::TraceWriter;
 
@@ -30,6 +34,8 @@ pub struct Trace {
     pub events: Vec<EventRecord>,
     /// Per-cell errors of 1-D fields at some recorded steps (empty in traces written without them).
     pub profiles: Vec<ProfileRecord>,
+    /// Where the error comes from, per source line and site (empty unless attribution was asked for).
+    pub attribution: Vec<AttributionRecord>,
     /// `None` for an incomplete run (killed, or stopped by an error).
     pub summary: Option<Summary>,
     /// The file ended in a partial line (a run killed while writing), which the reader skipped.
@@ -45,6 +51,7 @@ impl Trace {
             steps: Vec::new(),
             events: Vec::new(),
             profiles: Vec::new(),
+            attribution: Vec::new(),
             summary: None,
             truncated_tail: false,
         }
@@ -82,6 +89,7 @@ pub enum Record {
     Step(StepRecord),
     Event(EventRecord),
     Profile(ProfileRecord),
+    Attribution(AttributionRecord),
     Summary(Summary),
 }
 

@@ -164,6 +164,7 @@ fn assemble(records: Vec<(usize, Record)>, truncated_tail: bool) -> Result<Trace
             Record::Step(s) => Some(s.step),
             Record::Event(e) => Some(e.step),
             Record::Profile(p) => Some(p.step),
+            Record::Attribution(a) => Some(a.step),
             _ => None,
         };
         if let Some(step) = step {
@@ -177,6 +178,7 @@ fn assemble(records: Vec<(usize, Record)>, truncated_tail: bool) -> Result<Trace
             Record::Step(s) => trace.steps.push(s),
             Record::Event(e) => trace.events.push(e),
             Record::Profile(p) => trace.profiles.push(p),
+            Record::Attribution(a) => trace.attribution.push(a),
             Record::Summary(s) => trace.summary = Some(s),
         }
     }
@@ -221,6 +223,12 @@ fn check_names(trace: &Trace) -> Result<(), ReadError> {
         check("lens", &profile.lens, &lenses, &what)?;
         check("field", &profile.field, &declared, &what)?;
     }
+    for attribution in &trace.attribution {
+        let what = || format!("attribution at step {}", attribution.step);
+        for name in attribution.field_names() {
+            check("field", name, &declared, &what)?;
+        }
+    }
     for result in trace.summary.iter().flat_map(|s| &s.results) {
         let what = || "summary".to_string();
         check("lens", &result.lens, &lenses, &what)?;
@@ -238,6 +246,7 @@ fn kind(record: &Record) -> &'static str {
         Record::Step(_) => "a step",
         Record::Event(_) => "an event",
         Record::Profile(_) => "a profile",
+        Record::Attribution(_) => "an attribution",
         Record::Summary(_) => "a summary",
     }
 }
