@@ -3,7 +3,6 @@
 
 use twinstep::attribution::Attribution;
 use twinstep::audit::{Error, FieldSpec, Levels, Scenario};
-use twinstep::{BaseOps, MixedOps, Real, RefOps};
 
 /// `out[i] = u[i] / (u[i] - 1.0)`: from `u = 1`, ∞ after one step and NaN (∞/∞) after two.
 #[twinstep::audit]
@@ -17,7 +16,7 @@ struct Case {
     fields: Vec<FieldSpec>,
     panic_at: Option<u64>,
 }
-
+#[twinstep::scenario]
 impl Scenario for Case {
     fn fields(&self) -> Vec<FieldSpec> {
         self.fields.clone()
@@ -27,12 +26,7 @@ impl Scenario for Case {
         self.fields.iter().map(|f| vec![1.0; f.cells().unwrap_or(0)]).collect()
     }
 
-    fn step<T>(&self, levels: &mut Levels<T>)
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
+    fn step<T>(&self, levels: &mut Levels<T>) {
         assert!(self.panic_at != Some(levels.step), "the scenario gave up");
         blow_up_twin::<T>(&levels.current[0], &mut levels.next[0]);
     }

@@ -7,7 +7,6 @@ use dashu_float::round::mode::HalfEven;
 use dashu_float::FBig;
 use twinstep::attribution::Attribution;
 use twinstep::audit::{FieldSpec, Levels, Scenario};
-use twinstep::{BaseOps, MixedOps, Real, RefOps};
 
 type Big = FBig<HalfEven>;
 const BITS: usize = 320;
@@ -29,7 +28,7 @@ struct Growth {
     x: Vec<f64>,
     c: f64,
 }
-
+#[twinstep::scenario]
 impl Scenario for Growth {
     fn fields(&self) -> Vec<FieldSpec> {
         vec![FieldSpec::new("y", &[self.x.len()])]
@@ -39,12 +38,7 @@ impl Scenario for Growth {
         vec![self.x.clone()]
     }
 
-    fn step<T>(&self, levels: &mut Levels<T>)
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
+    fn step<T>(&self, levels: &mut Levels<T>) {
         grow_twin::<T>(&levels.current[0], &mut levels.next[0], T::from_f64(self.c));
     }
 }

@@ -8,7 +8,6 @@ use twinstep::attribution::Attribution;
 use twinstep::audit::{Audit, FieldSpec, Levels, Scenario, Tolerance};
 use twinstep::lens::Shadow;
 use twinstep::trace::{parse, AttributionRecord, Pattern, ReadError, Record, Remedy};
-use twinstep::{BaseOps, MixedOps, Real, RefOps};
 
 const STEPS: u64 = 50;
 
@@ -20,7 +19,7 @@ fn trace_with_attribution() -> (String, AttributionRecord) {
     static CALLS: std::sync::atomic::AtomicUsize = std::sync::atomic::AtomicUsize::new(0);
     let call = CALLS.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
     let path = std::env::temp_dir().join(format!("twinstep-attribution-{}-{call}.jsonl", std::process::id()));
-    Audit::new(&rod, Tolerance::absolute(1e-9).expect("tolerance"), STEPS)
+    Audit::new(&rod, Tolerance::absolute(1e-9), STEPS)
         .trace(&path)
         .lens::<Shadow>()
         .run()
@@ -85,7 +84,7 @@ pub fn row_sums(a: &[f64], out: &mut [f64], n: usize) {
 /// A field of 64 × 64 cells of one tenth (inexact in binary) whose row sums become the next state's first
 /// column, the rest unchanged.
 struct Rows;
-
+#[twinstep::scenario]
 impl Scenario for Rows {
     fn fields(&self) -> Vec<FieldSpec> {
         vec![FieldSpec::new("a", &[64 * 64])]
@@ -95,12 +94,7 @@ impl Scenario for Rows {
         vec![vec![0.1; 64 * 64]]
     }
 
-    fn step<T>(&self, levels: &mut Levels<T>)
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
+    fn step<T>(&self, levels: &mut Levels<T>) {
         let mut sums = vec![T::zero(); 64];
         row_sums_twin::<T>(&levels.current[0], &mut sums, 64);
         levels.next[0].copy_from_slice(&levels.current[0]);

@@ -8,7 +8,6 @@ use std::collections::BTreeMap;
 use dashu_base::Abs;
 use dashu_ratio::RBig;
 use twinstep::audit::{FieldSpec, Levels, Scenario};
-use twinstep::{BaseOps, MixedOps, Real, RefOps};
 
 /// One explicit step of a rod that diffuses and decays, `u ← u + r·Δ²u − k·u`, with the kept value computed
 /// through an offset: `(u + offset) − offset` rounds `u` to the spacing of the doubles near `offset` and then
@@ -83,7 +82,7 @@ impl Planted {
         u
     }
 }
-
+#[twinstep::scenario]
 impl Scenario for Planted {
     fn fields(&self) -> Vec<FieldSpec> {
         vec![FieldSpec::new("u", &[self.cells])]
@@ -93,12 +92,7 @@ impl Scenario for Planted {
         vec![self.initial()]
     }
 
-    fn step<T>(&self, levels: &mut Levels<T>)
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
+    fn step<T>(&self, levels: &mut Levels<T>) {
         let (r, k, offset) = (T::from_f64(self.r), T::from_f64(self.k), T::from_f64(self.offset));
         planted_step_twin::<T>(&levels.current[0], &mut levels.next[0], r, k, offset);
     }
