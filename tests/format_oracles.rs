@@ -35,7 +35,7 @@ impl Xorshift {
         let sign = bits & 0x8000_0000;
         match r % 8 {
             0 => f32::from_bits(bits),
-            1 => f32::from_bits(sign | (bits & 0x007f_ffff)),              // subnormal
+            1 => f32::from_bits(sign | (bits & 0x007f_ffff)), // subnormal
             2 => f32::from_bits(sign | 0x7f00_0000 | (bits & 0x007f_ffff)), // near overflow
             3 => f32::from_bits(sign | 0x3f80_0000 | (bits & 0x007f_ffff)), // [1, 2)
             4 => f32::from_bits(sign | 0x0080_0000 | (bits & 0x00ff_ffff)), // smallest normals
@@ -80,7 +80,10 @@ fn binary32_matches_the_hardware_bit_for_bit() {
             ("fma", f.mul_add(x, y, z), a.mul_add(b, c)),
         ];
         for (op, emulated, hardware) in cases {
-            assert!(same(emulated, hardware, &[a, b, c]), "{a:e} {op} {b:e} (c = {c:e}): emulated {emulated:e}, f32 {hardware:e}");
+            assert!(
+                same(emulated, hardware, &[a, b, c]),
+                "{a:e} {op} {b:e} (c = {c:e}): emulated {emulated:e}, f32 {hardware:e}"
+            );
             classes[0] += usize::from(hardware != 0.0 && hardware.abs() < f32::MIN_POSITIVE);
             classes[1] += usize::from(hardware.is_infinite() && a.is_finite() && b.is_finite());
             classes[2] += usize::from(hardware.is_nan());
@@ -126,7 +129,10 @@ fn binary32_lens_primal_matches_the_hardware() {
             (x.powi(3).primal(), a * a * a), // __powisf2 for n = 3: r = a, a², r·a² (compiler-rt, from memory)
         ];
         for (emulated, hardware) in cases {
-            assert!(same(emulated, hardware, &[a, b, c]), "{a:e}, {b:e}, {c:e}: emulated {emulated:e}, f32 {hardware:e}");
+            assert!(
+                same(emulated, hardware, &[a, b, c]),
+                "{a:e}, {b:e}, {c:e}: emulated {emulated:e}, f32 {hardware:e}"
+            );
         }
     }
 }
@@ -232,8 +238,8 @@ fn p_bits_subnormals_overflow_and_ties() {
     assert_eq!(f.round(0.5 * 2f64.powi(-10)), 0.0); // a tie between 0 (even) and 2^-10
     assert_eq!(f.round_exact(0.5 * 2f64.powi(-10), 1e-300), 2f64.powi(-10)); // just above the tie
     assert_eq!(f.round(-0.4 * 2f64.powi(-10)).to_bits(), (-0.0f64).to_bits()); // underflow keeps the sign
-    // 17 = 10001₂ has 5 bits; 17.5 is a tie between 17 (odd last bit) and 18 = 10010₂ (even); 33 is a tie
-    // between 32 = 10000₂·2 (even) and 34 = 10001₂·2 (odd).
+                                                                               // 17 = 10001₂ has 5 bits; 17.5 is a tie between 17 (odd last bit) and 18 = 10010₂ (even); 33 is a tie
+                                                                               // between 32 = 10000₂·2 (even) and 34 = 10001₂·2 (odd).
     assert_eq!(f.round(17.5), 18.0);
     assert_eq!(f.round(33.0), 32.0);
     assert_eq!(f.round_exact(33.0, 1e-9), 34.0);

