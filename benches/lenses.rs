@@ -7,14 +7,18 @@
 //! The lens rows are the variants the audit driver runs (unwatched: it replays a step with the watched variant
 //! only where a value turns non-finite, see docs/audit.md); the watched variants — the replays' cost, and what a
 //! user's own loop pays for a line on every NaN — are measured beside them. Targets (issue 3): twin f64 ≤ 1.05×,
-//! Bound ≤ 8×, Shadow ≤ 15×, Interval reported. A last section times whole audits (kernel, the f64 original
+//! Bound ≤ 8×, Shadow ≤ 15×, Interval reported; (issue 9) the binary32, bfloat16 and binary16 lenses ≤ 10×, the
+//! p-bit lens (p = 40, whose format is read at run time) reported. A last section times whole audits (kernel, the f64 original
 //! alongside, the per-step measurements and the trace) on the 1-D kernel, reported.
 //! Run with `cargo bench --bench lenses`.
 
 use std::hint::black_box;
 use std::time::{Duration, Instant};
 use twinstep::audit::{Audit, AuditLens, FieldSpec, Levels, Scenario, Tolerance};
-use twinstep::lens::{Bound, BoundUnwatched, Interval, IntervalUnwatched, Shadow, ShadowUnwatched};
+use twinstep::lens::{
+    bits_format_scope, Bfloat16Unwatched, Binary16Unwatched, Binary32Unwatched, BitsUnwatched, Bound, BoundUnwatched,
+    Format, Interval, IntervalUnwatched, Shadow, ShadowUnwatched,
+};
 use twinstep::{BaseOps, MixedOps, Real, RefOps};
 
 /// One explicit step of the 1-D heat equation `u_t = u_xx`, fixed ends.
@@ -130,6 +134,18 @@ macro_rules! lens_rows {
             ("Bound w.", row!(Bound, $steps), None),
             ("Shadow w.", row!(Shadow, $steps), None),
             ("Interval w.", row!(Interval, $steps / 4), None),
+            // The emulated formats with their double-double shadow (issue 9: ≤ 10× for the three fixed formats).
+            ("binary32", row!(Binary32Unwatched, $steps), Some(10.0)),
+            ("bfloat16", row!(Bfloat16Unwatched, $steps), Some(10.0)),
+            ("binary16", row!(Binary16Unwatched, $steps), Some(10.0)),
+            (
+                "p = 40 bits",
+                {
+                    let _scope = bits_format_scope(Format::bits(40).expect("40 bits"));
+                    row!(BitsUnwatched, $steps / 4)
+                },
+                None,
+            ),
         ]
     }};
 }
