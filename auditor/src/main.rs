@@ -74,6 +74,24 @@ Exit codes: 0 the report was written, 2 unwritable output, 3 the audit failed.")
         #[arg(long, value_name = "FILE")]
         trace: Option<PathBuf>,
     },
+    /// Print the precision sweep a trace records (every format's run, the least precision), or run the kiln wall's.
+    #[command(after_help = "A sweep's main trace holds one format_run record per format and a sweep record after \
+its summary (twinstep::sweep::Sweep writes them; docs/trace.md).\n\
+Exit codes: 0 the summary was written, 2 no trace given, unreadable, or without a sweep, 3 the demo sweep failed.")]
+    Sweep {
+        /// The sweep's main trace.
+        #[arg(required_unless_present = "demo")]
+        trace: Option<PathBuf>,
+        /// Run the sweep of the built-in kiln wall first (its trace: --trace-out, or the temporary directory).
+        #[arg(long, conflicts_with = "trace")]
+        demo: bool,
+        /// Steps the demo sweep runs.
+        #[arg(long, value_name = "N", default_value_t = twinstep_cli::demo::DEFAULT_STEPS, requires = "demo")]
+        steps: u64,
+        /// Where the demo sweep's main trace goes.
+        #[arg(long, value_name = "FILE", requires = "demo")]
+        trace_out: Option<PathBuf>,
+    },
     /// Build and run your audit harness through cargo, then print its report.
     #[command(after_help = "The harness (an example, binary or test of your crate) must write its trace to the path \
 in the TWINSTEP_TRACE environment variable, e.g. `Audit::new(..).trace(std::env::var(\"TWINSTEP_TRACE\")?)`.\n\
@@ -248,6 +266,26 @@ fn demo(html: Option<&Path>, steps: u64, trace: Option<&Path>) -> Result<(), Fai
     Ok(())
 }
 
+fn sweep(trace: Option<&Path>, demo: bool, steps: u64, trace_out: Option<&Path>) -> Result<(), Failure> {
+    let path = match (demo, trace) {
+        (true, _) => {
+            if steps == 0 {
+                return Err(Failure::input("--steps must be at least 1"));
+            }
+            let out =
+                trace_out.map_or_else(|| std::env::temp_dir().join("twinstep-sweep-demo.jsonl"), Path::to_path_buf);
+            twinstep_cli::sweep::run_demo(&out, steps)?;
+            eprintln!("twinstep sweep: main trace written to {}", out.display());
+            out
+        }
+        (false, Some(trace)) => trace.to_path_buf(),
+        (false, None) => return Err(Failure::input("give a sweep's trace, or --demo")),
+    };
+    let text = twinstep_cli::sweep::summary(&twinstep_cli::input::read_trace(&path)?)
+        .map_err(|f| Failure { message: format!("{}: {}", path.display(), f.message), ..f })?;
+    twinstep_cli::input::write_output(None, &text)
+}
+
 fn main() -> ExitCode {
     let cli = Cli::parse();
     let result = match &cli.command {
@@ -255,6 +293,9 @@ fn main() -> ExitCode {
         Command::Report { trace, format, output } => report(trace, *format, output.as_deref()),
         Command::Gate { trace, tolerance, lenses } => gate(trace, tolerance, lenses),
         Command::Demo { html, steps, trace } => demo(html.as_deref(), *steps, trace.as_deref()),
+        Command::Sweep { trace, demo, steps, trace_out } => {
+            sweep(trace.as_deref(), *demo, *steps, trace_out.as_deref())
+        }
         Command::Run { harness, manifest_path, features, profile, target_dir, trace, format, output, args } => {
             let request = RunRequest {
                 harness: harness.resolve(),
