@@ -114,7 +114,7 @@ impl Format {
         if !(2..=52).contains(&precision) {
             return Err(FormatError::Precision { bits: precision });
         }
-        if !(-1022 <= emin && emin < 0 && 0 < emax && emax <= 1023) {
+        if !((-1022..0).contains(&emin) && (1..=1023).contains(&emax)) {
             return Err(FormatError::ExponentRange { emin, emax });
         }
         Ok(Format { precision, emin, emax })
@@ -317,7 +317,8 @@ impl Format {
         if self.single_rounding() {
             return self.round(s);
         }
-        if x >= EFT_TINY || !(x > 0.0) || !x.is_finite() {
+        // A root of 0, of a negative number, of ∞ or NaN needs no remainder (exact, or not a number).
+        if x >= EFT_TINY || x <= 0.0 || x.is_nan() || !x.is_finite() {
             self.round_exact(s, (-s).mul_add(s, x))
         } else {
             // x − s² in exact rationals has the sign of √x − s.
