@@ -101,6 +101,9 @@ impl Format {
     pub const BFLOAT16: Format = Format { precision: 8, emin: -126, emax: 127 };
     /// IEEE 754-2019 binary16: p = 11, emax = 15 (Table 3.5).
     pub const BINARY16: Format = Format { precision: 11, emin: -14, emax: 15 };
+    /// binary64 itself (IEEE 754-2019 Table 3.5: p = 53, emax = 1023), the format of the native primal; rounding
+    /// to it is the identity.
+    pub const BINARY64: Format = Format { precision: 53, emin: -1022, emax: 1023 };
     /// binary64's exponent range (IEEE 754-2019 Table 3.5: emax = 1023, emin = 1 − emax).
     pub const BINARY64_EXPONENTS: (i32, i32) = (-1022, 1023);
 
@@ -194,6 +197,9 @@ impl Format {
         if self == Format::BINARY32 {
             return (x as f32) as f64;
         }
+        if self.precision >= 53 {
+            return x; // binary64 itself (the description `NativeBinary64` gives): nothing to round
+        }
         let bits = x.to_bits();
         let sign = bits & SIGN;
         let magnitude = bits & !SIGN;
@@ -222,6 +228,9 @@ impl Format {
     #[inline(always)]
     #[must_use]
     pub fn round_exact(self, x: f64, r: f64) -> f64 {
+        if self.precision >= 53 {
+            return x;
+        }
         let bits = x.to_bits();
         let sign = bits & SIGN;
         let magnitude = bits & !SIGN;
@@ -401,6 +410,7 @@ impl Format {
             Format::BINARY32 => "binary32".into(),
             Format::BFLOAT16 => "bfloat16".into(),
             Format::BINARY16 => "binary16".into(),
+            Format { precision: 53, emin: -1022, emax: 1023 } => "binary64".into(),
             Format { precision, emin: -1022, emax: 1023 } => format!("p{precision}"),
             Format { precision, emin, emax } => format!("p{precision}[{emin},{emax}]"),
         }
@@ -451,6 +461,17 @@ fn exact_remainder(x: f64, exact: impl FnOnce() -> RBig) -> f64 {
     sign_of(&(exact() - rational(x)))
 }
 
+/// Default methods of [`PrimalFormat`] that do what the [`Format`] of the same name does.
+macro_rules! delegate_to_format {
+    ($($name:ident($($arg:ident),*);)*) => {$(
+        #[inline(always)]
+        #[must_use]
+        fn $name($($arg: f64),*) -> f64 {
+            Self::format().$name($($arg),*)
+        }
+    )*};
+}
+
 /// How a lens's primal computes: the hardware's binary64, or an emulated format. The lenses of
 /// [`super::emulated`] and [`super::Shadow`] share one implementation over this trait.
 pub trait PrimalFormat: Copy + core::fmt::Debug + Default + Send + Sync + 'static {
@@ -476,58 +497,23 @@ pub trait PrimalFormat: Copy + core::fmt::Debug + Default + Send + Sync + 'stati
         let _ = value;
         Self::format().round_reference(reference)
     }
-    #[inline(always)]
-    #[must_use]
-    fn add(a: f64, b: f64) -> f64 {
-        Self::format().add(a, b)
-    }
-    #[inline(always)]
-    #[must_use]
-    fn sub(a: f64, b: f64) -> f64 {
-        Self::format().sub(a, b)
-    }
-    #[inline(always)]
-    #[must_use]
-    fn mul(a: f64, b: f64) -> f64 {
-        Self::format().mul(a, b)
-    }
-    #[inline(always)]
-    #[must_use]
-    fn div(a: f64, b: f64) -> f64 {
-        Self::format().div(a, b)
-    }
-    #[inline(always)]
-    #[must_use]
-    fn sqrt(x: f64) -> f64 {
-        Self::format().sqrt(x)
-    }
-    #[inline(always)]
-    #[must_use]
-    fn mul_add(a: f64, b: f64, c: f64) -> f64 {
-        Self::format().mul_add(a, b, c)
+    // + − × ÷ √ and the fused multiply-add in the format, and its limits (what EPSILON, MAX and MIN_POSITIVE are
+    // for binary64).
+    delegate_to_format! {
+        add(a, b);
+        sub(a, b);
+        mul(a, b);
+        div(a, b);
+        sqrt(x);
+        mul_add(a, b, c);
+        epsilon();
+        max_value();
+        min_positive();
     }
     #[inline]
     #[must_use]
     fn powi(x: f64, n: i32) -> f64 {
         Self::format().powi(x, n)
-    }
-    /// `f64::EPSILON` of the format.
-    #[inline(always)]
-    #[must_use]
-    fn epsilon() -> f64 {
-        Self::format().epsilon()
-    }
-    /// `f64::MAX` of the format.
-    #[inline(always)]
-    #[must_use]
-    fn max_value() -> f64 {
-        Self::format().max_value()
-    }
-    /// `f64::MIN_POSITIVE` of the format.
-    #[inline(always)]
-    #[must_use]
-    fn min_positive() -> f64 {
-        Self::format().min_positive()
     }
 }
 
@@ -540,8 +526,8 @@ impl PrimalFormat for NativeBinary64 {
     const UNWATCHED_NAME: &'static str = "shadow-unwatched";
     const NATIVE: bool = true;
     fn format() -> Format {
-        // Not used by the native operations; the nearest description (53 bits do not fit `Format`).
-        Format { precision: 53, emin: -1022, emax: 1023 }
+        // binary64 itself, which `Format::new` does not make (it is not emulated): its roundings are the identity.
+        Format::BINARY64
     }
     #[inline(always)]
     fn round(x: f64) -> f64 {
@@ -699,5 +685,10 @@ mod tests {
         assert!(Format::new(24, -1023, 127).is_err());
         assert!(Format::new(24, 5, 127).is_err());
         assert!(Format::bits(2).is_ok() && Format::bits(52).is_ok());
+        // binary64 describes the native primal: rounding to it changes nothing.
+        let third = 1.0f64 / 3.0;
+        assert_eq!(Format::BINARY64.round(third), third);
+        assert_eq!(Format::BINARY64.round_exact(third, -1e-30), third);
+        assert_eq!(Format::BINARY64.name(), "binary64");
     }
 }
