@@ -10,8 +10,7 @@
 //! Bound ≤ 8×, Shadow ≤ 15×, Interval reported; (issue 9) the binary32, bfloat16 and binary16 lenses ≤ 10×, the
 //! p-bit lens (p = 40, whose format is read at run time) reported. A last section times whole audits (kernel, the f64 original
 //! alongside, the per-step measurements and the trace) on the 1-D kernel, reported.
-//! Run with `cargo bench --bench lenses`; with `TWINSTEP_BENCH_CLOCK=cpu` the kernel rows count the thread's CPU
-//! time instead of wall-clock time (Linux), for a machine shared with other work.
+//! Run with `cargo bench --bench lenses`.
 
 use std::hint::black_box;
 use std::time::{Duration, Instant};
@@ -56,32 +55,15 @@ pub fn diffusion_2d(u: &[f64], out: &mut [f64], n: usize, r: f64) {
     }
 }
 
-/// This thread's time on a CPU so far, from `/proc/thread-self/schedstat` (its first number, in nanoseconds; Linux
-/// `Documentation/scheduler/sched-stats.rst`), when `TWINSTEP_BENCH_CLOCK=cpu` asks for it: on a machine shared with
-/// other work a wall-clock timing also counts the time the thread waited for a core, which varies from row to row
-/// (on 2 cores with a load of 14, lens rows measured 5 to 10 times their unloaded cost while the short f64 rows did
-/// not). `None`: wall-clock time.
-fn cpu_clock() -> Option<Duration> {
-    if std::env::var_os("TWINSTEP_BENCH_CLOCK").is_none_or(|v| v != "cpu") {
-        return None;
-    }
-    let text = std::fs::read_to_string("/proc/thread-self/schedstat").ok()?;
-    text.split_whitespace().next()?.parse().ok().map(Duration::from_nanos)
-}
-
 /// Best of `repeats` timings of `steps` steps of `step`, which swaps its buffers itself.
 fn time_steps(steps: usize, repeats: usize, mut step: impl FnMut()) -> Duration {
     (0..repeats)
         .map(|_| {
-            let (start, cpu) = (Instant::now(), cpu_clock());
+            let start = Instant::now();
             for _ in 0..steps {
                 step();
             }
-            let elapsed = match (cpu, cpu_clock()) {
-                (Some(before), Some(after)) => after.saturating_sub(before),
-                _ => start.elapsed(),
-            };
-            elapsed / steps as u32
+            start.elapsed() / steps as u32
         })
         .min()
         .unwrap_or_default()

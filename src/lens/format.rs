@@ -124,42 +124,49 @@ impl Format {
     }
 
     /// Significand bits, the hidden bit included.
+    #[inline(always)]
     #[must_use]
     pub const fn precision(self) -> u32 {
         self.precision
     }
 
     /// The least normal exponent.
+    #[inline(always)]
     #[must_use]
     pub const fn emin(self) -> i32 {
         self.emin
     }
 
     /// The greatest exponent.
+    #[inline(always)]
     #[must_use]
     pub const fn emax(self) -> i32 {
         self.emax
     }
 
     /// The largest finite value, `(2 − 2^(1−p))·2^emax`.
+    #[inline(always)]
     #[must_use]
     pub fn max_value(self) -> f64 {
         (2.0 - pow2(1 - self.precision as i32)) * pow2(self.emax)
     }
 
     /// The smallest positive normal value, `2^emin`.
+    #[inline(always)]
     #[must_use]
     pub fn min_positive(self) -> f64 {
         pow2(self.emin)
     }
 
     /// The smallest positive subnormal value, `2^(emin − p + 1)`.
+    #[inline(always)]
     #[must_use]
     pub fn min_subnormal(self) -> f64 {
         pow2(self.emin - self.precision as i32 + 1)
     }
 
     /// The gap between 1 and the next value, `2^(1 − p)` (what `f64::EPSILON` is for binary64).
+    #[inline(always)]
     #[must_use]
     pub fn epsilon(self) -> f64 {
         pow2(1 - self.precision as i32)
@@ -176,6 +183,7 @@ impl Format {
     /// range whose products are exact in `f64` (the square of the least subnormal, `2^(2(emin − p + 1))`, is a
     /// multiple of 2^-1074, and the square of the largest value does not overflow), so that no intermediate
     /// underflows or overflows.
+    #[inline(always)]
     #[must_use]
     pub const fn single_rounding(self) -> bool {
         let p = self.precision as i32;
@@ -388,6 +396,7 @@ impl Format {
 
     /// The format value nearest the real number `reference` describes (its `hi`, with the remainder's sign from
     /// `lo` or, when `lo` is 0, from the doubles around it).
+    #[inline(always)]
     #[must_use]
     pub fn round_reference(self, reference: &Reference) -> f64 {
         let r = if reference.lo != 0.0 {
