@@ -7,18 +7,20 @@
 //! The lens rows are the variants the audit driver runs (unwatched: it replays a step with the watched variant
 //! only where a value turns non-finite, see docs/audit.md); the watched variants — the replays' cost, and what a
 //! user's own loop pays for a line on every NaN — are measured beside them. Targets (issue 3): twin f64 ≤ 1.05×,
-//! Bound ≤ 8×, Shadow ≤ 15×, Interval reported. A last section times whole audits (kernel, the f64 original
-//! alongside, the per-step measurements and the trace) on the 1-D kernel, reported. A section on the per-site
-//! bookkeeping of the attribution lens (`Attributed`: the shadow plus, per value, the contribution of every
-//! operation site, and per operation the site's slot looked up and its facts updated) reports its cost against
-//! plain f64 and against the Shadow lens, which is the same reference without the bookkeeping.
+//! Bound ≤ 8×, Shadow ≤ 15×, Interval reported; the binary32, bfloat16 and binary16 lenses ≤ 10×, the p-bit lens
+//! (p = 40, whose format is read at run time) reported. A last section times whole audits (kernel, the f64
+//! original alongside, the per-step measurements and the trace) on the 1-D kernel, reported. A section on the
+//! per-site bookkeeping of the attribution lens (`Attributed`: the shadow plus, per value, the contribution of
+//! every operation site, and per operation the site's slot looked up and its facts updated) reports its cost
+//! against plain f64 and against the Shadow lens, which is the same reference without the bookkeeping.
 //! Run with `cargo bench --bench lenses`.
 
 use std::hint::black_box;
 use std::time::{Duration, Instant};
 use twinstep::audit::{Audit, AuditLens, FieldSpec, Levels, Scenario, Tolerance};
 use twinstep::lens::{
-    AttributedUnwatched, Bound, BoundUnwatched, Interval, IntervalUnwatched, Shadow, ShadowUnwatched,
+    bits_format_scope, AttributedUnwatched, Bfloat16Unwatched, Binary16Unwatched, Binary32Unwatched, BitsUnwatched,
+    Bound, BoundUnwatched, Format, Interval, IntervalUnwatched, Shadow, ShadowUnwatched,
 };
 use twinstep::Real;
 
@@ -135,6 +137,18 @@ macro_rules! lens_rows {
             ("Bound w.", row!(Bound, $steps), None),
             ("Shadow w.", row!(Shadow, $steps), None),
             ("Interval w.", row!(Interval, $steps / 4), None),
+            // The emulated formats with their double-double shadow (issue 9: ≤ 10× for the three fixed formats).
+            ("binary32", row!(Binary32Unwatched, $steps), Some(10.0)),
+            ("bfloat16", row!(Bfloat16Unwatched, $steps), Some(10.0)),
+            ("binary16", row!(Binary16Unwatched, $steps), Some(10.0)),
+            (
+                "p = 40 bits",
+                {
+                    let _scope = bits_format_scope(Format::bits(40).expect("40 bits"));
+                    row!(BitsUnwatched, $steps / 4)
+                },
+                None,
+            ),
         ]
     }};
 }

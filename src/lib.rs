@@ -14,6 +14,7 @@ pub mod events;
 pub mod lens;
 pub mod real;
 pub mod report;
+pub mod sweep;
 pub mod trace;
 pub mod twin;
 pub mod verdict;

@@ -11,4 +11,5 @@ pub mod input;
 pub mod progress;
 pub mod report;
 pub mod run;
+pub mod sweep;
 pub mod trace;

@@ -103,6 +103,24 @@ Exit codes: 0 done, 2 usage or input error (no such kernel, a signature init can
         #[arg(long)]
         force: bool,
     },
+    /// Print the precision sweep a trace records (every format's run, the least precision), or run the kiln wall's.
+    #[command(after_help = "A sweep's main trace holds one format_run record per format and a sweep record after \
+its summary (twinstep::sweep::Sweep writes them; docs/trace.md).\n\
+Exit codes: 0 the summary was written, 2 no trace given, unreadable, or without a sweep, 3 the demo sweep failed.")]
+    Sweep {
+        /// The sweep's main trace.
+        #[arg(required_unless_present = "demo")]
+        trace: Option<PathBuf>,
+        /// Run the sweep of the built-in kiln wall first (its trace: --trace-out, or the temporary directory).
+        #[arg(long, conflicts_with = "trace")]
+        demo: bool,
+        /// Steps the demo sweep runs.
+        #[arg(long, value_name = "N", default_value_t = twinstep_cli::demo::DEFAULT_STEPS, requires = "demo")]
+        steps: u64,
+        /// Where the demo sweep's main trace goes.
+        #[arg(long, value_name = "FILE", requires = "demo")]
+        trace_out: Option<PathBuf>,
+    },
     /// Build and run your audit harness through cargo, then print its report.
     #[command(after_help = "The harness (an example, binary or test of your crate) must write its trace to the path \
 in the TWINSTEP_TRACE environment variable, which `Audit::new` does unless told otherwise (`twinstep init` writes \
@@ -294,6 +312,26 @@ fn init(request: &twinstep_cli::init::InitRequest) -> Result<(), Failure> {
     Ok(())
 }
 
+fn sweep(trace: Option<&Path>, demo: bool, steps: u64, trace_out: Option<&Path>) -> Result<(), Failure> {
+    let path = match (demo, trace) {
+        (true, _) => {
+            if steps == 0 {
+                return Err(Failure::input("--steps must be at least 1"));
+            }
+            let out =
+                trace_out.map_or_else(|| std::env::temp_dir().join("twinstep-sweep-demo.jsonl"), Path::to_path_buf);
+            twinstep_cli::sweep::run_demo(&out, steps)?;
+            eprintln!("twinstep sweep: main trace written to {}", out.display());
+            out
+        }
+        (false, Some(trace)) => trace.to_path_buf(),
+        (false, None) => return Err(Failure::input("give a sweep's trace, or --demo")),
+    };
+    let text = twinstep_cli::sweep::summary(&twinstep_cli::input::read_trace(&path)?)
+        .map_err(|f| Failure { message: format!("{}: {}", path.display(), f.message), ..f })?;
+    twinstep_cli::input::write_output(None, &text)
+}
+
 fn main() -> ExitCode {
     let cli = Cli::parse();
     let result = match &cli.command {
@@ -322,6 +360,9 @@ fn main() -> ExitCode {
                     force: *force,
                 })
             })
+        }
+        Command::Sweep { trace, demo, steps, trace_out } => {
+            sweep(trace.as_deref(), *demo, *steps, trace_out.as_deref())
         }
         Command::Run { harness, manifest_path, features, profile, target_dir, trace, format, output, args } => {
             let request = RunRequest {

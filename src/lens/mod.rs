@@ -54,6 +54,8 @@ pub mod bound;
 pub mod dwmath;
 pub mod eft;
 pub mod elementary;
+pub mod emulated;
+pub mod format;
 pub mod interval;
 pub mod num;
 pub mod reference;
@@ -63,9 +65,14 @@ pub mod shadow;
 
 pub use attributed::{Attributed, AttributedOf, AttributedUnwatched};
 pub use bound::{Bound, BoundOf, BoundUnwatched};
+pub use emulated::{
+    Bfloat16, Bfloat16Of, Bfloat16Unwatched, Binary16, Binary16Of, Binary16Unwatched, Binary32, Binary32Of,
+    Binary32Unwatched, Bits, BitsOf, BitsUnwatched,
+};
+pub use format::{bits_format_scope, Format, FormatError};
 pub use interval::{Interval, IntervalOf, IntervalUnwatched};
 pub use reference::{literal_mode, set_literal_mode, with_literal_mode, LiteralMode, Reference};
-pub use shadow::{Shadow, ShadowOf, ShadowUnwatched};
+pub use shadow::{Shadow, ShadowOf, ShadowUnwatched, Shadowed};
 
 /// A scalar that tracks the rounding error of its primal.
 pub trait Lens: crate::Real {
@@ -73,6 +80,10 @@ pub trait Lens: crate::Real {
     const NAME: &'static str;
     /// Whether [`Lens::error_bound`] is a guarantee (`|primal − exact| ≤ bound`).
     const GUARANTEED: bool;
+    /// Whether the primal is the program's own binary64 arithmetic, bit for bit (the audit then checks it
+    /// against the plain f64 original); `false` for a lens whose primal emulates another format
+    /// ([`emulated`]), which by design computes something else.
+    const NATIVE_PRIMAL: bool = true;
     /// The same lens without the per-operation NaN/∞ watch: what the audit driver runs, because its loops
     /// vectorize.
     type Unwatched: Lens<Unwatched = Self::Unwatched, Watched = Self::Watched>;

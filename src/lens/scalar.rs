@@ -68,6 +68,21 @@ pub trait Core: Copy + Sized {
     /// Whether operations test their result for NaN/∞ and record the event at the caller (one predicted branch
     /// per operation, which keeps loops from vectorizing; see `docs/lenses.md`).
     const WATCH: bool = true;
+    /// `EPSILON` of the primal's format (binary64's unless the lens emulates another format).
+    #[must_use]
+    fn format_epsilon() -> f64 {
+        f64::EPSILON
+    }
+    /// `MAX` of the primal's format (`MIN` is its negation).
+    #[must_use]
+    fn format_max() -> f64 {
+        f64::MAX
+    }
+    /// `MIN_POSITIVE` of the primal's format.
+    #[must_use]
+    fn format_min_positive() -> f64 {
+        f64::MIN_POSITIVE
+    }
     /// The number the float program computes.
     fn primal(self) -> f64;
     /// A double taken as exact (inputs, `f64` operands).
@@ -234,10 +249,24 @@ macro_rules! lens_scalar {
     ($lens:ident) => {
         $crate::lens_scalar!(@binary $lens; Add add AddAssign add_assign, Sub sub SubAssign sub_assign,
             Mul mul MulAssign mul_assign, Div div DivAssign div_assign, Rem rem RemAssign rem_assign);
+        $crate::lens_scalar!(@mixed $lens; f64; Add add AddAssign add_assign, Sub sub SubAssign sub_assign,
+            Mul mul MulAssign mul_assign, Div div DivAssign div_assign, Rem rem RemAssign rem_assign);
         $crate::lens_scalar!(@compare $lens);
         $crate::lens_scalar!(@identities $lens);
         $crate::lens_scalar!(@real $lens);
         $crate::lens_num_traits!($lens);
+    };
+
+    // A lens that also runs the twins of `f32` kernels (`T: BaseOps<f32>`, `f32: MixedOps<T>`): the same, plus the
+    // operations and comparisons with plain `f32` values. Only the lenses whose primal is binary32 or narrower take
+    // it: with both `Mul<f64>` and `Mul<f32>` a float literal beside a lens value (`x * 2.0` in a user's harness)
+    // no longer infers its type, so adding it to every lens would break code that compiles today.
+    ($lens:ident, f32) => {
+        $crate::lens_scalar!($lens);
+        $crate::lens_scalar!(@mixed $lens; f32; Add add AddAssign add_assign, Sub sub SubAssign sub_assign,
+            Mul mul MulAssign mul_assign, Div div DivAssign div_assign, Rem rem RemAssign rem_assign);
+        $crate::lens_scalar!(@compare_mixed $lens, $lens<W>, f32, |x: &f32| <$lens<W> as $crate::lens::scalar::Core>::exact(f64::from(*x)), |x: &$lens<W>| *x);
+        $crate::lens_scalar!(@compare_mixed $lens, f32, $lens<W>, |x: &$lens<W>| *x, |x: &f32| <$lens<W> as $crate::lens::scalar::Core>::exact(f64::from(*x)));
     };
 
     (@binary $lens:ident; $($trait:ident $method:ident $assign_trait:ident $assign:ident),*) => {$(
@@ -275,38 +304,6 @@ macro_rules! lens_scalar {
                 ::core::ops::$trait::$method(*self, *rhs)
             }
         }
-        impl<const W: bool> ::core::ops::$trait<f64> for $lens<W> {
-            type Output = $lens<W>;
-            #[inline(always)]
-            #[track_caller]
-            fn $method(self, rhs: f64) -> $lens<W> {
-                ::core::ops::$trait::$method(self, <$lens<W> as $crate::lens::scalar::Core>::exact(rhs))
-            }
-        }
-        impl<'a, const W: bool> ::core::ops::$trait<f64> for &'a $lens<W> {
-            type Output = $lens<W>;
-            #[inline(always)]
-            #[track_caller]
-            fn $method(self, rhs: f64) -> $lens<W> {
-                ::core::ops::$trait::$method(*self, <$lens<W> as $crate::lens::scalar::Core>::exact(rhs))
-            }
-        }
-        impl<const W: bool> ::core::ops::$trait<$lens<W>> for f64 {
-            type Output = $lens<W>;
-            #[inline(always)]
-            #[track_caller]
-            fn $method(self, rhs: $lens<W>) -> $lens<W> {
-                ::core::ops::$trait::$method(<$lens<W> as $crate::lens::scalar::Core>::exact(self), rhs)
-            }
-        }
-        impl<'a, const W: bool> ::core::ops::$trait<&'a $lens<W>> for f64 {
-            type Output = $lens<W>;
-            #[inline(always)]
-            #[track_caller]
-            fn $method(self, rhs: &'a $lens<W>) -> $lens<W> {
-                ::core::ops::$trait::$method(<$lens<W> as $crate::lens::scalar::Core>::exact(self), *rhs)
-            }
-        }
         impl<const W: bool> ::core::ops::$assign_trait for $lens<W> {
             #[inline(always)]
             #[track_caller]
@@ -319,13 +316,6 @@ macro_rules! lens_scalar {
             #[track_caller]
             fn $assign(&mut self, rhs: &'a $lens<W>) {
                 *self = ::core::ops::$trait::$method(*self, *rhs);
-            }
-        }
-        impl<const W: bool> ::core::ops::$assign_trait<f64> for $lens<W> {
-            #[inline(always)]
-            #[track_caller]
-            fn $assign(&mut self, rhs: f64) {
-                *self = ::core::ops::$trait::$method(*self, rhs);
             }
         }
     )*
@@ -344,6 +334,50 @@ macro_rules! lens_scalar {
             }
         }
     };
+
+    // Operations with a plain value of a base float (`f64`, or `f32` for the twins of `f32` kernels) on either
+    // side: the value enters the lens as an exact input (`Core::exact`; every `f32` is exactly a double).
+    (@mixed $lens:ident; $base:ty; $($trait:ident $method:ident $assign_trait:ident $assign:ident),*) => {$(
+        impl<const W: bool> ::core::ops::$trait<$base> for $lens<W> {
+            type Output = $lens<W>;
+            #[inline(always)]
+            #[track_caller]
+            fn $method(self, rhs: $base) -> $lens<W> {
+                ::core::ops::$trait::$method(self, <$lens<W> as $crate::lens::scalar::Core>::exact(f64::from(rhs)))
+            }
+        }
+        impl<'a, const W: bool> ::core::ops::$trait<$base> for &'a $lens<W> {
+            type Output = $lens<W>;
+            #[inline(always)]
+            #[track_caller]
+            fn $method(self, rhs: $base) -> $lens<W> {
+                ::core::ops::$trait::$method(*self, <$lens<W> as $crate::lens::scalar::Core>::exact(f64::from(rhs)))
+            }
+        }
+        impl<const W: bool> ::core::ops::$trait<$lens<W>> for $base {
+            type Output = $lens<W>;
+            #[inline(always)]
+            #[track_caller]
+            fn $method(self, rhs: $lens<W>) -> $lens<W> {
+                ::core::ops::$trait::$method(<$lens<W> as $crate::lens::scalar::Core>::exact(f64::from(self)), rhs)
+            }
+        }
+        impl<'a, const W: bool> ::core::ops::$trait<&'a $lens<W>> for $base {
+            type Output = $lens<W>;
+            #[inline(always)]
+            #[track_caller]
+            fn $method(self, rhs: &'a $lens<W>) -> $lens<W> {
+                ::core::ops::$trait::$method(<$lens<W> as $crate::lens::scalar::Core>::exact(f64::from(self)), *rhs)
+            }
+        }
+        impl<const W: bool> ::core::ops::$assign_trait<$base> for $lens<W> {
+            #[inline(always)]
+            #[track_caller]
+            fn $assign(&mut self, rhs: $base) {
+                *self = ::core::ops::$trait::$method(*self, rhs);
+            }
+        }
+    )*};
 
     (@compare $lens:ident) => {
         impl<const W: bool> ::core::cmp::PartialEq for $lens<W> {
@@ -553,8 +587,24 @@ macro_rules! lens_scalar {
             fn to_u128(self) -> u128 {
                 $crate::lens::scalar::decide(self, |x| x as u128, $crate::events::EventKind::UndecidedIndex)
             }
-            $crate::lens_scalar!(@constants $lens: epsilon EPSILON, max_value MAX, min_value MIN,
-                min_positive MIN_POSITIVE, infinity INFINITY, neg_infinity NEG_INFINITY, nan NAN);
+            $crate::lens_scalar!(@constants $lens: infinity INFINITY, neg_infinity NEG_INFINITY, nan NAN);
+            // The limits of the primal's format: binary64's, or an emulated format's.
+            #[inline(always)]
+            fn epsilon() -> $lens<W> {
+                <$lens<W> as $crate::lens::scalar::Core>::exact(<$lens<W> as $crate::lens::scalar::Core>::format_epsilon())
+            }
+            #[inline(always)]
+            fn max_value() -> $lens<W> {
+                <$lens<W> as $crate::lens::scalar::Core>::exact(<$lens<W> as $crate::lens::scalar::Core>::format_max())
+            }
+            #[inline(always)]
+            fn min_value() -> $lens<W> {
+                <$lens<W> as $crate::lens::scalar::Core>::exact(-<$lens<W> as $crate::lens::scalar::Core>::format_max())
+            }
+            #[inline(always)]
+            fn min_positive() -> $lens<W> {
+                <$lens<W> as $crate::lens::scalar::Core>::exact(<$lens<W> as $crate::lens::scalar::Core>::format_min_positive())
+            }
             $crate::lens_scalar!(@unary $lens: sqrt cbrt exp exp2 exp_m1 ln ln_1p log2 log10 sin cos tan asin acos
                 atan sinh cosh tanh);
             $crate::lens_scalar!(@binary_fn $lens: powf log atan2 hypot);

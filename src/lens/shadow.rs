@@ -15,27 +15,40 @@
 use crate::events::{record, EventKind};
 use crate::lens::dwmath;
 use crate::lens::eft::{next_down, next_up, DoubleWord};
+use crate::lens::format::{NativeBinary64, PrimalFormat};
 use crate::lens::reference::Reference;
 use crate::lens::scalar::{Core, Orders};
 use crate::lens::Lens;
+use core::marker::PhantomData;
 use core::ops::{Add, Div, Mul, Neg, Sub};
 use dashu_float::round::mode::HalfEven;
 use dashu_float::FBig;
 
-/// A value with a double-word shadow of the same computation.
+/// A value with a double-word shadow of the same computation, its primal computed as `P` says: the hardware's
+/// binary64 ([`ShadowOf`], the `Shadow` lens) or an emulated format (the lenses of [`super::emulated`]). One
+/// implementation serves them all; only the primal's arithmetic differs.
 #[derive(Clone, Copy, Debug)]
-pub struct ShadowOf<const WATCH: bool> {
+pub struct Shadowed<P, const WATCH: bool> {
     primal: f64,
     shadow: DoubleWord,
+    format: PhantomData<P>,
 }
+
+/// The primal as the `f64` program computes it, with a double-word shadow.
+pub type ShadowOf<const WATCH: bool> = Shadowed<NativeBinary64, WATCH>;
 
 super::watch_variants!(ShadowOf, Shadow, ShadowUnwatched);
 
-impl<const W: bool> ShadowOf<W> {
-    /// A primal with an explicit shadow `hi + lo`.
+impl<P: PrimalFormat, const W: bool> Shadowed<P, W> {
+    /// A primal with an explicit shadow `hi + lo` (the primal taken as it is: a value of the format).
     #[must_use]
     pub fn new(primal: f64, hi: f64, lo: f64) -> Self {
-        Self { primal, shadow: DoubleWord { hi, lo } }
+        Self::of(primal, DoubleWord { hi, lo })
+    }
+
+    #[inline(always)]
+    fn of(primal: f64, shadow: DoubleWord) -> Self {
+        Self { primal, shadow, format: PhantomData }
     }
 
     /// The shadow as the pair `(hi, lo)` (`lo = 0` beside a non-finite `hi`).
@@ -77,13 +90,13 @@ impl<const W: bool> ShadowOf<W> {
         fallback: fn(f64) -> f64,
     ) -> Self {
         if let Some(shadow) = fast {
-            return Self { primal, shadow };
+            return Self::of(primal, shadow);
         }
         let shadow = match big(x) {
             Some(value) if inside => double_word(&f(&value)),
             _ => DoubleWord::from_f64(fallback(x.to_f64())),
         };
-        Self { primal, shadow }
+        Self::of(primal, shadow)
     }
 }
 
@@ -121,13 +134,28 @@ macro_rules! shadow_functions {
     ($($name:ident: |$x:ident| $inside:expr, $big:expr;)*) => {$(
         fn $name(self) -> Self {
             let $x = self.shadow;
-            Self::high_precision(self.primal.$name(), $x, dwmath::$name($x), $inside, $big, f64::$name)
+            Self::high_precision(P::round(self.primal.$name()), $x, dwmath::$name($x), $inside, $big, f64::$name)
         }
     )*};
 }
 
-impl<const W: bool> Core for ShadowOf<W> {
+impl<P: PrimalFormat, const W: bool> Core for Shadowed<P, W> {
     const WATCH: bool = W;
+
+    #[inline(always)]
+    fn format_epsilon() -> f64 {
+        P::epsilon()
+    }
+
+    #[inline(always)]
+    fn format_max() -> f64 {
+        P::max_value()
+    }
+
+    #[inline(always)]
+    fn format_min_positive() -> f64 {
+        P::min_positive()
+    }
 
     #[inline(always)]
     fn primal(self) -> f64 {
@@ -136,12 +164,12 @@ impl<const W: bool> Core for ShadowOf<W> {
 
     #[inline(always)]
     fn exact(value: f64) -> Self {
-        Self { primal: value, shadow: DoubleWord::from_f64(value) }
+        Self::of(P::round(value), DoubleWord::from_f64(value))
     }
 
     #[inline(always)]
     fn with_reference(value: f64, reference: &Reference) -> Self {
-        Self { primal: value, shadow: DoubleWord { hi: reference.hi, lo: reference.lo } }
+        Self::of(P::round_reference(value, reference), DoubleWord { hi: reference.hi, lo: reference.lo })
     }
 
     #[inline(always)]
@@ -164,17 +192,17 @@ impl<const W: bool> Core for ShadowOf<W> {
 
     #[inline(always)]
     fn add(self, rhs: Self) -> Self {
-        Self { primal: self.primal + rhs.primal, shadow: self.shadow.add(rhs.shadow) }
+        Self::of(P::add(self.primal, rhs.primal), self.shadow.add(rhs.shadow))
     }
 
     #[inline(always)]
     fn sub(self, rhs: Self) -> Self {
-        Self { primal: self.primal - rhs.primal, shadow: self.shadow.sub(rhs.shadow) }
+        Self::of(P::sub(self.primal, rhs.primal), self.shadow.sub(rhs.shadow))
     }
 
     #[inline(always)]
     fn mul(self, rhs: Self) -> Self {
-        Self { primal: self.primal * rhs.primal, shadow: self.shadow.mul(rhs.shadow) }
+        Self::of(P::mul(self.primal, rhs.primal), self.shadow.mul(rhs.shadow))
     }
 
     #[inline(always)]
@@ -183,7 +211,7 @@ impl<const W: bool> Core for ShadowOf<W> {
         if rhs.shadow.hi == 0.0 && rhs.primal != 0.0 {
             record(EventKind::DivisorMayBeZero); // the shadow divides by zero where the primal does not
         }
-        Self { primal: self.primal / rhs.primal, shadow: self.shadow.div(rhs.shadow) }
+        Self::of(P::div(self.primal, rhs.primal), self.shadow.div(rhs.shadow))
     }
 
     #[inline]
@@ -206,28 +234,28 @@ impl<const W: bool> Core for ShadowOf<W> {
         if q.is_finite() && quotient.is_finite() && truncated != q {
             record(EventKind::UndecidedComparison);
         }
-        Self { primal: c, shadow }
+        Self::of(c, shadow)
     }
 
     #[inline(always)]
     fn neg(self) -> Self {
-        Self { primal: -self.primal, shadow: self.shadow.neg() }
+        Self::of(-self.primal, self.shadow.neg())
     }
 
     #[inline(always)]
     fn mul_add(self, a: Self, b: Self) -> Self {
-        Self { primal: self.primal.mul_add(a.primal, b.primal), shadow: self.shadow.mul_add(a.shadow, b.shadow) }
+        Self::of(P::mul_add(self.primal, a.primal, b.primal), self.shadow.mul_add(a.shadow, b.shadow))
     }
 
     #[inline(always)]
     fn abs(self) -> Self {
         let shadow = if self.shadow.hi < 0.0 { self.shadow.neg() } else { self.shadow };
-        Self { primal: self.primal.abs(), shadow }
+        Self::of(self.primal.abs(), shadow)
     }
 
     #[inline]
     fn sqrt(self) -> Self {
-        Self { primal: self.primal.sqrt(), shadow: self.shadow.sqrt() }
+        Self::of(P::sqrt(self.primal), self.shadow.sqrt())
     }
 
     fn cbrt(self) -> Self {
@@ -241,7 +269,7 @@ impl<const W: bool> Core for ShadowOf<W> {
             let residual = x.sub(yy.mul(yy).mul(yy));
             yy.add(residual.div(yy.mul(yy).mul_f64(3.0)))
         };
-        Self { primal: self.primal.cbrt(), shadow }
+        Self::of(P::round(self.primal.cbrt()), shadow)
     }
 
     shadow_functions! {
@@ -276,30 +304,30 @@ impl<const W: bool> Core for ShadowOf<W> {
             k >>= 1;
         }
         let shadow = if n < 0 { DoubleWord::from_f64(1.0).div(result) } else { result };
-        Self { primal: self.primal.powi(n), shadow }
+        Self::of(P::powi(self.primal, n), shadow)
     }
 
     fn powf(self, n: Self) -> Self {
-        let primal = self.primal.powf(n.primal);
+        let primal = P::round(self.primal.powf(n.primal));
         let exponent = n.shadow;
         if exponent.lo == 0.0 && exponent.hi.fract() == 0.0 && exponent.hi.abs() <= f64::from(i32::MAX) {
             let integer = Core::powi(self, exponent.hi as i32);
-            return Self { primal, shadow: integer.shadow };
+            return Self::of(primal, integer.shadow);
         }
         if let Some(shadow) = dwmath::powf(self.shadow, exponent) {
-            return Self { primal, shadow };
+            return Self::of(primal, shadow);
         }
         let shadow = match (big(self.shadow), big(exponent)) {
             (Some(x), Some(y)) if self.shadow.hi > 0.0 => double_word(&x.powf(&y)),
             _ => DoubleWord::from_f64(self.shadow.to_f64().powf(exponent.to_f64())),
         };
-        Self { primal, shadow }
+        Self::of(primal, shadow)
     }
 
     fn log(self, base: Self) -> Self {
-        let primal = self.primal.log(base.primal);
+        let primal = P::round(self.primal.log(base.primal));
         if let Some(shadow) = dwmath::log(self.shadow, base.shadow) {
-            return Self { primal, shadow };
+            return Self::of(primal, shadow);
         }
         let shadow = match (big(self.shadow), big(base.shadow)) {
             (Some(x), Some(b))
@@ -309,23 +337,23 @@ impl<const W: bool> Core for ShadowOf<W> {
             }
             _ => DoubleWord::from_f64(self.shadow.to_f64().log(base.shadow.to_f64())),
         };
-        Self { primal, shadow }
+        Self::of(primal, shadow)
     }
 
     fn atan2(self, other: Self) -> Self {
-        let primal = self.primal.atan2(other.primal);
+        let primal = P::round(self.primal.atan2(other.primal));
         if let Some(shadow) = dwmath::atan2(self.shadow, other.shadow) {
-            return Self { primal, shadow };
+            return Self::of(primal, shadow);
         }
         let shadow = match (big(self.shadow), big(other.shadow)) {
             (Some(y), Some(x)) if self.shadow.hi != 0.0 || other.shadow.hi != 0.0 => double_word(&y.atan2(&x)),
             _ => DoubleWord::from_f64(self.shadow.to_f64().atan2(other.shadow.to_f64())),
         };
-        Self { primal, shadow }
+        Self::of(primal, shadow)
     }
 
     fn hypot(self, other: Self) -> Self {
-        let primal = self.primal.hypot(other.primal);
+        let primal = P::round(self.primal.hypot(other.primal));
         // √(x² + y²) in double-word arithmetic; at the edges of the range, 160-bit dashu-float.
         let (x, y) = (self.shadow, other.shadow);
         let direct = x.mul(x).add(y.mul(y)).sqrt();
@@ -337,23 +365,40 @@ impl<const W: bool> Core for ShadowOf<W> {
                 _ => DoubleWord::from_f64(x.to_f64().hypot(y.to_f64())),
             }
         };
-        Self { primal, shadow }
+        Self::of(primal, shadow)
     }
 }
 
 crate::lens_scalar!(ShadowOf);
 
-impl<const W: bool> core::fmt::Display for ShadowOf<W> {
+impl<P: PrimalFormat, const W: bool> core::fmt::Display for Shadowed<P, W> {
     fn fmt(&self, f: &mut core::fmt::Formatter<'_>) -> core::fmt::Result {
         let (hi, lo) = self.shadow();
         write!(f, "{} (shadow {:e} {:+e})", self.primal, hi, lo)
     }
 }
 
-impl<const W: bool> Lens for ShadowOf<W> {
-    const NAME: &'static str = if W { "shadow" } else { "shadow-unwatched" };
+impl<P: PrimalFormat, const W: bool> Lens for Shadowed<P, W>
+where
+    Shadowed<P, W>: crate::Real,
+    Shadowed<P, true>: crate::Real,
+    Shadowed<P, false>: crate::Real,
+{
+    const NAME: &'static str = if W { P::LENS_NAME } else { P::UNWATCHED_NAME };
     const GUARANTEED: bool = false;
-    super::variant_conversions!(ShadowOf { primal, shadow });
+    const NATIVE_PRIMAL: bool = P::NATIVE;
+    type Unwatched = Shadowed<P, false>;
+    type Watched = Shadowed<P, true>;
+
+    #[inline(always)]
+    fn unwatched(self) -> Shadowed<P, false> {
+        Shadowed::of(self.primal, self.shadow)
+    }
+
+    #[inline(always)]
+    fn watched(self) -> Shadowed<P, true> {
+        Shadowed::of(self.primal, self.shadow)
+    }
 
     fn error_estimate(self) -> f64 {
         self.signed_error().abs()

@@ -38,6 +38,11 @@ pub struct Trace {
     pub attribution: Vec<AttributionRecord>,
     /// `None` for an incomplete run (killed, or stopped by an error).
     pub summary: Option<Summary>,
+    /// A precision sweep's runs, one per format, after the summary (empty unless the trace is a sweep's main
+    /// trace, see [`crate::sweep`]).
+    pub format_runs: Vec<crate::sweep::FormatRun>,
+    /// A precision sweep's outcome, the last record of a sweep's main trace.
+    pub sweep: Option<crate::sweep::SweepSummary>,
     /// The file ended in a partial line (a run killed while writing), which the reader skipped.
     pub truncated_tail: bool,
 }
@@ -53,6 +58,8 @@ impl Trace {
             profiles: Vec::new(),
             attribution: Vec::new(),
             summary: None,
+            format_runs: Vec::new(),
+            sweep: None,
             truncated_tail: false,
         }
     }
@@ -91,6 +98,10 @@ pub enum Record {
     Profile(ProfileRecord),
     Attribution(AttributionRecord),
     Summary(Summary),
+    /// One format's run of a precision sweep (after the summary).
+    FormatRun(crate::sweep::FormatRun),
+    /// A precision sweep's outcome (the last record).
+    Sweep(crate::sweep::SweepSummary),
 }
 
 /// The first line: what was audited, how, and on what.

@@ -157,8 +157,15 @@ fn assemble(records: Vec<(usize, Record)>, truncated_tail: bool) -> Result<Trace
     let mut trace = Trace { truncated_tail, ..Trace::started(header) };
     let mut last_step = 0u64;
     for (line, record) in records {
-        if trace.summary.is_some() {
-            return Err(ReadError::OutOfOrder { line, message: "record after the summary".into() });
+        // After the summary only a precision sweep's records may follow: its runs, then its outcome, last.
+        let sweep_record = matches!(record, Record::FormatRun(_) | Record::Sweep(_));
+        if trace.sweep.is_some() || (trace.summary.is_some() != sweep_record) {
+            let message = if sweep_record {
+                "a sweep record outside the sweep's place after the summary"
+            } else {
+                "record after the summary"
+            };
+            return Err(ReadError::OutOfOrder { line, message: message.into() });
         }
         let step = match &record {
             Record::Step(s) => Some(s.step),
@@ -180,6 +187,8 @@ fn assemble(records: Vec<(usize, Record)>, truncated_tail: bool) -> Result<Trace
             Record::Profile(p) => trace.profiles.push(p),
             Record::Attribution(a) => trace.attribution.push(a),
             Record::Summary(s) => trace.summary = Some(s),
+            Record::FormatRun(r) => trace.format_runs.push(r),
+            Record::Sweep(s) => trace.sweep = Some(s),
         }
     }
     Ok(trace)
@@ -248,5 +257,7 @@ fn kind(record: &Record) -> &'static str {
         Record::Profile(_) => "a profile",
         Record::Attribution(_) => "an attribution",
         Record::Summary(_) => "a summary",
+        Record::FormatRun(_) => "a format run",
+        Record::Sweep(_) => "a sweep outcome",
     }
 }
