@@ -7,7 +7,6 @@
 use twinstep::audit::{FieldSpec, Levels, Scenario, Tolerance};
 use twinstep::lens::FormatError;
 use twinstep::sweep::{Remedy, RunRole, Sweep, SweepError, SweepFormat};
-use twinstep::{BaseOps, MixedOps, Real, RefOps};
 
 #[twinstep::audit]
 fn heat_step(u: &[f64], out: &mut [f64], r: f64) {
@@ -24,7 +23,7 @@ struct Rod {
     cells: usize,
     offset: f64,
 }
-
+#[twinstep::scenario]
 impl Scenario for Rod {
     fn fields(&self) -> Vec<FieldSpec> {
         vec![FieldSpec::new("u", &[self.cells + 1])]
@@ -35,12 +34,7 @@ impl Scenario for Rod {
         vec![(0..=self.cells).map(|i| self.offset + (std::f64::consts::PI * i as f64 / n).sin()).collect()]
     }
 
-    fn step<T>(&self, levels: &mut Levels<T>)
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
+    fn step<T>(&self, levels: &mut Levels<T>) {
         heat_step_twin::<T>(&levels.current[0], &mut levels.next[0], T::from_f64(0.25));
     }
 
@@ -60,7 +54,7 @@ fn bisection_finds_the_least_precision_that_meets_the_tolerance() {
     let rod = Rod { cells: 16, offset: 0.0 };
     let path = scratch("least");
     let outcome =
-        Sweep::new(&rod, Tolerance::absolute(1e-9).unwrap(), 200).kernel("heat_step").trace(&path).run().unwrap();
+        Sweep::new(&rod, Tolerance::absolute(1e-9), 200).kernel("heat_step").trace(&path).run().unwrap();
     let least = outcome.summary.least_bits.expect("binary64 meets 1e-9 on values of order 1");
     // Errors of order 2^-p·(a few) on values ≤ 1 (unit roundoff, Higham §2.2, from memory): binary32 (2^-24 ≈
     // 6e-8) cannot meet 1e-9, binary64 can, so the least precision lies strictly between them.
@@ -115,7 +109,7 @@ fn bisection_finds_the_least_precision_that_meets_the_tolerance() {
 fn where_binary64_is_not_enough_the_needed_bits_are_extrapolated() {
     // 1e-18 absolute on values near 2: binary64's own rounding (2^-52 ≈ 2.2e-16 relative) is far too coarse.
     let rod = Rod { cells: 16, offset: 1.0 };
-    let outcome = Sweep::new(&rod, Tolerance::absolute(1e-18).unwrap(), 100).trace(scratch("needed")).run().unwrap();
+    let outcome = Sweep::new(&rod, Tolerance::absolute(1e-18), 100).trace(scratch("needed")).run().unwrap();
     assert_eq!(outcome.summary.least_bits, None);
     let needed = &outcome.summary.needed;
     assert_eq!(needed.len(), 1);
@@ -132,7 +126,7 @@ fn where_binary64_is_not_enough_the_needed_bits_are_extrapolated() {
 #[test]
 fn bad_input_is_a_clear_error() {
     let rod = Rod { cells: 8, offset: 0.0 };
-    let tolerance = Tolerance::absolute(1e-6).unwrap();
+    let tolerance = Tolerance::absolute(1e-6);
     let none = Sweep::new(&rod, tolerance, 10).formats(&[]).trace(scratch("none")).run();
     assert!(matches!(none, Err(SweepError::NoFormats)));
     assert!(none.unwrap_err().to_string().contains("no formats"));

@@ -95,7 +95,7 @@ pub fn summary(trace: &Trace) -> Result<String, Failure> {
 pub fn run_demo(trace: &Path, steps: u64) -> Result<(), Failure> {
     crate::input::remove_stale(trace)?;
     let wall = crate::demo::kiln::Wall::default();
-    let tolerance = Tolerance::absolute(crate::demo::kiln::BUDGET_K).map_err(|e| Failure::input(e.to_string()))?;
+    let tolerance = Tolerance::absolute(crate::demo::kiln::BUDGET_K);
     Sweep::new(&wall, tolerance, steps)
         .kernel("wall_step")
         .describe(&wall.describe())

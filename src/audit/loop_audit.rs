@@ -13,7 +13,7 @@
 //! }
 //!
 //! // in a test or an example of the same crate:
-//! let trace = LoopAudit::new("leapfrog", Tolerance::absolute(1e-12)?, 1000)
+//! let trace = LoopAudit::new("leapfrog", Tolerance::absolute(1e-12), 1000)
 //!     .original(main)                          // the untouched loop, checked bit for bit against each lens
 //!     .lens::<Bound>(main_twin::<Bound>)
 //!     .lens::<Shadow>(main_twin::<Shadow>)
