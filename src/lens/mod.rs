@@ -50,6 +50,7 @@ macro_rules! variant_conversions {
 use variant_conversions;
 
 pub mod bound;
+pub mod certified;
 pub mod dwmath;
 pub mod eft;
 pub mod elementary;
@@ -60,6 +61,9 @@ pub mod scalar;
 pub mod shadow;
 
 pub use bound::{Bound, BoundOf, BoundUnwatched};
+pub use certified::{
+    Certified, Certified16, Certified16Unwatched, Certified4, Certified4Unwatched, CertifiedOf, CertifiedUnwatched,
+};
 pub use interval::{Interval, IntervalOf, IntervalUnwatched};
 pub use reference::{literal_mode, set_literal_mode, with_literal_mode, LiteralMode, Reference};
 pub use shadow::{Shadow, ShadowOf, ShadowUnwatched};
