@@ -9,6 +9,7 @@
 //! twinstep judges rounding error only, not discretization or modelling error.
 
 pub mod audit;
+pub mod certificate;
 pub mod events;
 pub mod lens;
 pub mod real;

@@ -165,6 +165,13 @@ impl<const K: usize, const W: bool> CertifiedOf<K, W> {
         (hi, lo)
     }
 
+    /// `primal − shadow`, to double precision (the estimate of the primal's error, as the Shadow lens gives it).
+    #[must_use]
+    pub fn signed_error(self) -> f64 {
+        let DoubleWord { hi, lo } = self.shadow.canonical();
+        (self.primal - hi) - lo
+    }
+
     /// `R = A + M`, rounded up: the exact value lies within `R` of the shadow (between steps, after the runner's
     /// condensation, this is the certificate's radius `D` of the value).
     #[must_use]
@@ -896,8 +903,7 @@ macro_rules! certified_lens {
             }
 
             fn error_estimate(self) -> f64 {
-                let DoubleWord { hi, lo } = self.shadow.canonical();
-                ((self.primal - hi) - lo).abs()
+                self.signed_error().abs()
             }
 
             fn error_bound(self) -> Option<f64> {
