@@ -14,7 +14,11 @@
 use std::hint::black_box;
 use std::time::{Duration, Instant};
 use twinstep::audit::{Audit, AuditLens, FieldSpec, Levels, Scenario, Tolerance};
-use twinstep::lens::{Bound, BoundUnwatched, Interval, IntervalUnwatched, Shadow, ShadowUnwatched};
+use twinstep::certificate::{certify, CertificateOptions, Route};
+use twinstep::lens::{
+    Bound, BoundUnwatched, Certified4Unwatched, CertifiedUnwatched, Interval, IntervalUnwatched, Shadow,
+    ShadowUnwatched,
+};
 use twinstep::{BaseOps, MixedOps, Real, RefOps};
 
 /// One explicit step of the 1-D heat equation `u_t = u_xx`, fixed ends.
@@ -198,6 +202,54 @@ fn time_audit<L: AuditLens>(cells: usize, steps: u64) -> Duration {
     twice.saturating_sub(once) / steps as u32
 }
 
+/// The 2-D diffusion kernel as a scenario on an `n × n` grid.
+struct Plate {
+    n: usize,
+}
+
+impl Scenario for Plate {
+    fn fields(&self) -> Vec<FieldSpec> {
+        vec![FieldSpec::new("u", &[self.n, self.n])]
+    }
+
+    fn initial_values(&self) -> Vec<Vec<f64>> {
+        vec![profile::<f64>(self.n * self.n)]
+    }
+
+    fn step<T>(&self, levels: &mut Levels<T>)
+    where
+        T: Real + BaseOps<f64>,
+        f64: MixedOps<T>,
+        for<'a> &'a T: RefOps<T>,
+    {
+        diffusion_2d_twin::<T>(&levels.current[0], &mut levels.next[0], self.n, T::from_f64(0.2));
+    }
+}
+
+/// Time per step of a certified run of `scenario` (kernel, condensation and seeding, the forward route), from
+/// the difference of runs of `2·steps` and `steps` steps (best of 3), so that the start (initial data, the
+/// colouring probe) does not count.
+fn time_certified<S: Scenario, const K: usize>(scenario: &S, steps: u64) -> Duration
+where
+    twinstep::lens::CertifiedOf<K, false>: Real + BaseOps<f64> + twinstep::lens::Lens,
+    f64: MixedOps<twinstep::lens::CertifiedOf<K, false>>,
+    for<'a> &'a twinstep::lens::CertifiedOf<K, false>: RefOps<twinstep::lens::CertifiedOf<K, false>>,
+{
+    let run = |steps: u64| {
+        (0..3)
+            .map(|_| {
+                let options = CertificateOptions { route: Route::Forward, ..CertificateOptions::default() };
+                let start = Instant::now();
+                black_box(certify::<S, K>(scenario, steps, options, |_, _| {}).expect("the run"));
+                start.elapsed()
+            })
+            .min()
+            .unwrap_or_default()
+    };
+    let (once, twice) = (run(steps), run(2 * steps));
+    twice.saturating_sub(once) / steps as u32
+}
+
 fn main() {
     const CELLS: usize = 100_000;
     const GRID: usize = 512;
@@ -232,6 +284,44 @@ fn main() {
         );
         let rows = lens_rows!(GRID * GRID, diffusion_steps, 0.2, |u, out, r| diffusion_2d_twin(u, out, GRID, r));
         report(section, original, Some(twin), &rows);
+    }
+
+    // The certified lens: the kernel alone (the lens's arithmetic), and a certified run of the forward route
+    // (kernel, then the condensation and seeding pass over every value), against the same original.
+    let section = "certified, 1-D heat 10^5 cells and 2-D diffusion 512×512";
+    if wanted(section) {
+        let original = time_kernel::<f64>(CELLS, heat_steps, |u, out| heat_1d(u, out, 0.25));
+        let rows = [
+            (
+                "K=4 kernel",
+                time_kernel::<Certified4Unwatched>(CELLS, heat_steps / 4, |u, out| {
+                    heat_1d_twin(u, out, Certified4Unwatched::from_f64(0.25))
+                }),
+                None,
+            ),
+            (
+                "K=8 kernel",
+                time_kernel::<CertifiedUnwatched>(CELLS, heat_steps / 4, |u, out| {
+                    heat_1d_twin(u, out, CertifiedUnwatched::from_f64(0.25))
+                }),
+                None,
+            ),
+            ("K=4 run", time_certified::<_, 4>(&Rod { cells: CELLS }, heat_steps as u64 / 8), Some(40.0)),
+            ("K=8 run", time_certified::<_, 8>(&Rod { cells: CELLS }, heat_steps as u64 / 8), None),
+        ];
+        report("certified, 1-D heat, 10^5 cells", original, None, &rows);
+        let original = time_kernel::<f64>(GRID * GRID, diffusion_steps, |u, out| diffusion_2d(u, out, GRID, 0.2));
+        let rows = [
+            (
+                "K=8 kernel",
+                time_kernel::<CertifiedUnwatched>(GRID * GRID, diffusion_steps / 4, |u, out| {
+                    diffusion_2d_twin(u, out, GRID, CertifiedUnwatched::from_f64(0.2))
+                }),
+                None,
+            ),
+            ("K=8 run", time_certified::<_, 8>(&Plate { n: GRID }, diffusion_steps as u64 / 4), Some(40.0)),
+        ];
+        report("certified, 2-D diffusion, 512×512", original, None, &rows);
     }
 
     // A whole audit also runs the original beside the lens and measures every cell after every step.

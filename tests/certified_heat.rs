@@ -115,7 +115,11 @@ fn print_diagnostics() {
         let (t, u) = check_field("x", facts.step, &levels.current[0], &exact);
         if facts.step % 200 == 0 || facts.step < 3 {
             let f = &facts.fields[0];
-            println!("step {} true {t:e} upper {u:e} worst {:?} maxD {:e} est {:e} growth {}", facts.step, f.worst, f.max_radius, f.estimate, facts.growth);
+            println!(
+                "step {} true {t:e} upper {u:e} worst {:?} maxD {:e} est {:e} growth {}",
+                facts.step, f.worst, f.max_radius, f.estimate, facts.growth
+            );
         }
-    }).unwrap();
+    })
+    .unwrap();
 }

@@ -169,7 +169,8 @@ impl Tape {
         // underflow may have lost, and a normal floor for the last roundings.
         let max_initial = self.initial.iter().copied().fold(0.0, f64::max);
         let inflation = 1.0 + 2.0 * (terms + 2.0) * U;
-        let floor = (underflow + f64::from_bits(1) * (n as f64).mul_add(max_initial, 1.0)) * 2.0 + 8.0 * f64::MIN_POSITIVE;
+        let floor =
+            (underflow + f64::from_bits(1) * (n as f64).mul_add(max_initial, 1.0)) * 2.0 + 8.0 * f64::MIN_POSITIVE;
         let bounds = accumulated
             .into_iter()
             .map(|b| {

@@ -87,11 +87,8 @@ impl Colouring {
     /// over `current` alone (the blocks a kernel usually reads).
     pub fn candidates(layout: &Layout, k: usize) -> Vec<Colouring> {
         let mut out = Vec::new();
-        let spreads: [&dyn Fn(Role) -> bool; 3] = [
-            &|_| true,
-            &|r| matches!(r, Role::Previous | Role::Current),
-            &|r| r == Role::Current,
-        ];
+        let spreads: [&dyn Fn(Role) -> bool; 3] =
+            [&|_| true, &|r| matches!(r, Role::Previous | Role::Current), &|r| r == Role::Current];
         for modulus in (k.div_ceil(2).max(1)..=k).rev() {
             for live in spreads {
                 let count = layout.blocks.iter().filter(|b| live(b.role)).count().max(1);
@@ -191,8 +188,10 @@ mod tests {
         // Offsets (0,0), (±1,0), (0,±1) map to 0, ±m_0, ±1 mod 8; distinct for m_0 = 3 (0, 3, 5, 1, 7) —
         // checked by hand (common practice, no source).
         let m = multipliers(2, 8);
-        let colours: std::collections::BTreeSet<usize> =
-            [(0i64, 0i64), (1, 0), (-1, 0), (0, 1), (0, -1)].iter().map(|&(a, b)| (a * m[0] as i64 + b).rem_euclid(8) as usize).collect();
+        let colours: std::collections::BTreeSet<usize> = [(0i64, 0i64), (1, 0), (-1, 0), (0, 1), (0, -1)]
+            .iter()
+            .map(|&(a, b)| (a * m[0] as i64 + b).rem_euclid(8) as usize)
+            .collect();
         assert_eq!(colours.len(), 5, "multipliers {m:?}");
         assert_eq!(m[1], 1);
     }

@@ -193,7 +193,9 @@ pub enum SetupError {
 impl std::fmt::Display for SetupError {
     fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
         match self {
-            SetupError::TooManyCells => write!(f, "the levels hold more cells than 2^32, which the certificate ids name"),
+            SetupError::TooManyCells => {
+                write!(f, "the levels hold more cells than 2^32, which the certificate ids name")
+            }
             SetupError::ColouringMismatch => write!(f, "the colouring has another number of blocks than the levels"),
         }
     }
@@ -285,7 +287,11 @@ impl Certificate {
         self.anchor_reference = max_of(&radii);
         self.seed(levels, &radii);
         self.radii = radii;
-        self.summarize(levels, 1.0, false, 0)
+        let mut fields = vec![FieldSummary::default(); levels.current.len()];
+        for (f, field) in levels.current.iter().enumerate() {
+            field.iter().enumerate().for_each(|(cell, value)| fields[f].add(cell, value));
+        }
+        self.facts(fields, 1.0, false, 0)
     }
 
     /// Condenses every value after a step (call it after the levels have rotated, with the step's events),
@@ -306,17 +312,31 @@ impl Certificate {
         if self.end.is_none() && !undecided.is_empty() {
             self.end = Some(CertificateEnd { step: self.step, reason: EndReason::Undecided { sites: undecided } });
         }
-        let (growth, largest_remainder) = self.condense(levels);
+        // The forward route condenses, seeds and summarizes in one pass over the values (condensing a value reads
+        // only itself and the previous radii); the backward route may anchor between condensing and seeding.
+        let fused = self.route == Route::Forward;
+        let (growth, largest_remainder, fused_fields) = self.condense(levels, fused);
         // The anchor reference grows by the local bounds each step adds, so that a linear accumulation of them
         // (a stable scheme) never counts as growth.
         self.anchor_reference += largest_remainder;
         self.growths.push(growth);
         self.choose_route();
-        let anchored = self.anchor_if_due();
-        let radii = std::mem::take(&mut self.radii);
-        self.seed(levels, &radii);
-        self.radii = radii;
-        self.summarize(levels, growth, anchored, clashes)
+        let mut anchored = false;
+        let fields = match fused_fields {
+            Some(fields) => fields,
+            None => {
+                anchored = self.anchor_if_due();
+                let radii = std::mem::take(&mut self.radii);
+                self.seed(levels, &radii);
+                self.radii = radii;
+                let mut fields = vec![FieldSummary::default(); levels.current.len()];
+                for (f, field) in levels.current.iter().enumerate() {
+                    field.iter().enumerate().for_each(|(cell, value)| fields[f].add(cell, value));
+                }
+                fields
+            }
+        };
+        self.facts(fields, growth, anchored, clashes)
     }
 
     /// The step from which the certificate no longer holds, if it ended.
@@ -355,22 +375,35 @@ impl Certificate {
     }
 
     /// Every value's condensed radius into `scratch` (by its id at the next step), the rows onto the tape, and one
-    /// step of the power iteration; returns its growth and the largest remainder `M`.
-    fn condense<const K: usize, const W: bool>(&mut self, levels: &mut Levels<CertifiedOf<K, W>>) -> (f64, f64) {
+    /// step of the power iteration; returns its growth and the largest remainder `M`. With `seed_now`, each value
+    /// is also seeded with its new radius and summarized in the same pass (then the summaries come back).
+    fn condense<const K: usize, const W: bool>(
+        &mut self,
+        levels: &mut Levels<CertifiedOf<K, W>>,
+        seed_now: bool,
+    ) -> (f64, f64, Option<Vec<FieldSummary>>) {
         let mut largest_remainder = 0.0f64;
+        let mut fields = vec![FieldSummary::default(); levels.current.len()];
         if let Some(tape) = self.tape.as_mut() {
             tape.open();
         }
         let (radii, probe) = (&self.radii, &self.probe);
-        for (block, (_, _, field)) in self.layout.blocks.iter().zip(fields_mut(levels)) {
+        for (block, (role, f, field)) in self.layout.blocks.iter().zip(fields_mut(levels)) {
             let base = block.base as usize;
-            for (cell, value) in field.iter().enumerate() {
+            for (cell, value) in field.iter_mut().enumerate() {
+                let id = base + cell;
                 let (d, spread) = value.condensed(radii);
-                self.scratch[base + cell] = d;
+                self.scratch[id] = d;
                 largest_remainder = largest_remainder.max(value.remainder());
-                self.probe_next[base + cell] = value.entries().map(|(j, c)| c.abs() * probe[j as usize]).sum();
+                self.probe_next[id] = value.entries().map(|(j, c)| c.abs() * probe[j as usize]).sum();
                 if let Some(tape) = self.tape.as_mut() {
                     tape.row(value.entries(), value.remainder(), spread);
+                }
+                if seed_now {
+                    value.seed(id as u32, usize::from(self.slots[id]), d);
+                    if role == Role::Current {
+                        fields[f].add(cell, value);
+                    }
                 }
             }
         }
@@ -385,7 +418,7 @@ impl Certificate {
         for (v, &next) in self.probe.iter_mut().zip(&self.probe_next) {
             *v = (next / growth).max(1e-300);
         }
-        (growth, largest_remainder)
+        (growth, largest_remainder, seed_now.then_some(fields))
     }
 
     /// Under [`Route::Auto`], after [`PROBE_STEPS`] steps: forward when the measured growth raised to the horizon
@@ -435,47 +468,18 @@ impl Certificate {
             let base = block.base as usize;
             for (cell, value) in field.iter_mut().enumerate() {
                 let id = base + cell;
-                *value = value.seeded(id as u32, usize::from(self.slots[id]), radii[id]);
+                value.seed(id as u32, usize::from(self.slots[id]), radii[id]);
             }
         }
     }
 
-    /// The facts of the step just done, per field of the current level.
-    fn summarize<const K: usize, const W: bool>(
-        &mut self,
-        levels: &Levels<CertifiedOf<K, W>>,
-        growth: f64,
-        anchored: bool,
-        clashes: u64,
-    ) -> StepCertificate {
-        let fields = levels
-            .current
-            .iter()
+    /// The facts of the step just done, from the summaries of the current level's fields.
+    fn facts(&mut self, fields: Vec<FieldSummary>, growth: f64, anchored: bool, clashes: u64) -> StepCertificate {
+        let fields = fields
+            .into_iter()
             .enumerate()
-            .map(|(f, field)| {
-                let mut out = FieldCertificate {
-                    worst: (0.0, 0.0),
-                    worst_cell: 0,
-                    estimate: 0.0,
-                    max_radius: 0.0,
-                    lost_cells: 0,
-                    useless: false,
-                };
-                let mut scale = 0.0f64;
-                for (cell, value) in field.iter().enumerate() {
-                    let (lower, upper) = value.guaranteed_error();
-                    let d = value.radius();
-                    out.worst.0 = out.worst.0.max(lower);
-                    if upper > out.worst.1 || cell == 0 {
-                        out.worst.1 = upper;
-                        out.worst_cell = cell;
-                    }
-                    out.estimate = out.estimate.max(value.signed_error().abs());
-                    out.max_radius = out.max_radius.max(d);
-                    out.lost_cells += usize::from(!d.is_finite());
-                    scale = scale.max(value.shadow().0.abs());
-                }
-                out.useless = out.max_radius > 0.5 * out.estimate && out.max_radius > 1e-30 * scale;
+            .map(|(f, summary)| {
+                let out = summary.finish();
                 if out.lost_cells > 0 && self.lost_from[f].is_none() {
                     self.lost_from[f] = Some(self.step);
                 }
@@ -489,7 +493,50 @@ impl Certificate {
     }
 }
 
+/// The running summary of one field's cells.
+#[derive(Clone, Debug, Default)]
+struct FieldSummary {
+    out: FieldCertificate,
+    scale: f64,
+}
+
+impl Default for FieldCertificate {
+    fn default() -> Self {
+        FieldCertificate {
+            worst: (0.0, 0.0),
+            worst_cell: 0,
+            estimate: 0.0,
+            max_radius: 0.0,
+            lost_cells: 0,
+            useless: false,
+        }
+    }
+}
+
+impl FieldSummary {
+    /// Takes one seeded value (its radius is its `D`).
+    #[inline]
+    fn add<const K: usize, const W: bool>(&mut self, cell: usize, value: &CertifiedOf<K, W>) {
+        let out = &mut self.out;
+        let (lower, upper) = value.guaranteed_error();
+        let d = value.radius();
+        out.worst.0 = out.worst.0.max(lower);
+        if upper > out.worst.1 || cell == 0 {
+            out.worst.1 = upper;
+            out.worst_cell = cell;
+        }
+        out.estimate = out.estimate.max(value.signed_error().abs());
+        out.max_radius = out.max_radius.max(d);
+        out.lost_cells += usize::from(!d.is_finite());
+        self.scale = self.scale.max(value.shadow().0.abs());
+    }
+
+    fn finish(mut self) -> FieldCertificate {
+        self.out.useless = self.out.max_radius > 0.5 * self.out.estimate && self.out.max_radius > 1e-30 * self.scale;
+        self.out
+    }
+}
+
 fn max_of(values: &[f64]) -> f64 {
     values.iter().copied().fold(0.0, |a, b| if b.is_nan() { f64::INFINITY } else { a.max(b) })
 }
-

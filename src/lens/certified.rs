@@ -174,6 +174,7 @@ impl<const K: usize, const W: bool> CertifiedOf<K, W> {
 
     /// `R = A + M`, rounded up: the exact value lies within `R` of the shadow (between steps, after the runner's
     /// condensation, this is the certificate's radius `D` of the value).
+    #[inline]
     #[must_use]
     pub fn radius(self) -> f64 {
         let r = self.linear + self.remainder;
@@ -187,6 +188,7 @@ impl<const K: usize, const W: bool> CertifiedOf<K, W> {
     /// The guaranteed interval of the primal's error: `|primal − exact| ∈ [lower, upper]`, from
     /// `| |p − ṽ| − |p − exact| | ≤ |ṽ − exact| ≤ R`, with `|p − ṽ|` computed with its own rounding accounted for
     /// and both ends rounded outward. `(0, ∞)` once the bound is lost.
+    #[inline]
     #[must_use]
     pub fn guaranteed_error(self) -> (f64, f64) {
         let radius = self.radius();
@@ -218,6 +220,7 @@ impl<const K: usize, const W: bool> CertifiedOf<K, W> {
     /// Condensation at the end of a step (docs/lenses.md, "Certified"): `M + Σ_j |c̃_j|·D_j` over the list, with
     /// `D` looked up by input id, the ball radius `R` as the second rigorous choice, rounded up; and the part
     /// `Σ_j |c̃_j| D_j` alone (the backward route's rounding term needs it).
+    #[inline]
     pub(crate) fn condensed(&self, radii: &[f64]) -> (f64, f64) {
         let mut spread = 0.0;
         for k in 0..K {
@@ -235,15 +238,16 @@ impl<const K: usize, const W: bool> CertifiedOf<K, W> {
         (total.min(self.radius()), spread)
     }
 
-    /// The value as an input of a step: coefficient 1 on its own `id` in `slot`, spread `A = D`, remainder 0
-    /// (the ball around its shadow has radius `D`).
-    pub(crate) fn seeded(mut self, id: u32, slot: usize, d: f64) -> Self {
+    /// Makes the value an input of a step: coefficient 1 on its own `id` in `slot`, spread `A = D`, remainder 0
+    /// (the ball around its shadow has radius `D`). Written in place: building the value and copying it back
+    /// made every wide load wait for the narrow stores before it (store forwarding).
+    #[inline(always)]
+    pub(crate) fn seed(&mut self, id: u32, slot: usize, d: f64) {
         self.coefs = [0.0; K];
         self.coefs[slot % K] = 1.0;
         self.ids[slot % K] = id;
         self.remainder = 0.0;
         self.linear = d;
-        self
     }
 
     /// A lost value: the primal and shadow as computed, no bound.
@@ -344,7 +348,8 @@ impl<const K: usize, const W: bool> CertifiedOf<K, W> {
             + beta_err.mul_add(y.linear, (3.0 * U) * (b * y.linear))
             + dropped;
         let ingredients = local_ingredients + x.remainder + y.remainder + x.linear + y.linear;
-        Self { primal, shadow, remainder: lost_if_nan(up(total, ingredients)), linear: lost_if_nan(linear), ids, coefs }
+        // A NaN bound (∞ − ∞, 0·∞) propagates; the readers (`radius`, `ball`, the condensation) take it as lost.
+        Self { primal, shadow, remainder: up(total, ingredients), linear, ids, coefs }
     }
 
     /// A value with no inputs: what `from_f64` and the literals give.
@@ -854,7 +859,8 @@ impl<const K: usize, const W: bool> Core for CertifiedOf<K, W> {
         }
         let x_larger = matches!(self.shadow.partial_cmp(other.shadow), Some(core::cmp::Ordering::Greater));
         let shadow = if x_larger == is_max { self.shadow } else { other.shadow };
-        let bound = self.ball_radius().max(other.ball_radius());
+        let (rx, ry) = (self.ball_radius(), other.ball_radius());
+        let bound = if rx.is_nan() || ry.is_nan() { f64::NAN } else { rx.max(ry) };
         Self::without_coefficients(primal, shadow, up(bound, bound))
     }
 }

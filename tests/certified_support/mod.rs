@@ -20,7 +20,13 @@ pub struct X(pub FBig<HalfEven>);
 
 /// The arithmetic the schemes need; implemented by [`X`] and by exact rationals.
 pub trait Exact:
-    Clone + PartialOrd + Add<Output = Self> + Sub<Output = Self> + Mul<Output = Self> + Div<Output = Self> + Neg<Output = Self>
+    Clone
+    + PartialOrd
+    + Add<Output = Self>
+    + Sub<Output = Self>
+    + Mul<Output = Self>
+    + Div<Output = Self>
+    + Neg<Output = Self>
 {
     /// A double, exactly (every finite double is a dyadic rational, IEEE 754-2019 §3.2).
     fn of(x: f64) -> Self;
