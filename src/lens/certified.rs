@@ -152,9 +152,12 @@ struct Smooth {
 }
 
 impl<const K: usize, const W: bool> CertifiedOf<K, W> {
-    /// A primal with an explicit shadow `hi + lo` taken as exact (no coefficients, no remainder).
+    /// A primal with an explicit shadow `hi + lo` taken as exact (no coefficients, no remainder). The pair is
+    /// normalized first (TwoSum, exact): the error bounds of the double-word product and quotient assume
+    /// `|lo| ≤ ulp(hi)/2`.
     #[must_use]
     pub fn new(primal: f64, hi: f64, lo: f64) -> Self {
+        let (hi, lo) = crate::lens::eft::two_sum(hi, lo);
         Self { primal, shadow: DoubleWord { hi, lo }, remainder: 0.0, linear: 0.0, ids: [0; K], coefs: [0.0; K] }
     }
 
@@ -207,13 +210,15 @@ impl<const K: usize, const W: bool> CertifiedOf<K, W> {
         (lower, upper)
     }
 
-    /// The entries of the list: `(id, coefficient)` for every non-empty slot.
-    pub(crate) fn entries(&self) -> impl Iterator<Item = (u32, f64)> + '_ {
+    /// The entries of the list: `(id, coefficient)` for every non-empty slot — the signed coefficients `c̃_j` of the
+    /// affine form over the step's inputs.
+    pub fn entries(&self) -> impl Iterator<Item = (u32, f64)> + '_ {
         self.ids.iter().zip(&self.coefs).filter(|(_, &c)| c != 0.0).map(|(&i, &c)| (i, c))
     }
 
-    /// The remainder bound `M`.
-    pub(crate) fn remainder(self) -> f64 {
+    /// The remainder bound `M` of the affine form.
+    #[must_use]
+    pub fn remainder(self) -> f64 {
         self.remainder
     }
 
@@ -241,8 +246,9 @@ impl<const K: usize, const W: bool> CertifiedOf<K, W> {
     /// Makes the value an input of a step: coefficient 1 on its own `id` in `slot`, spread `A = D`, remainder 0
     /// (the ball around its shadow has radius `D`). Written in place: building the value and copying it back
     /// made every wide load wait for the narrow stores before it (store forwarding).
+    /// (For runners of their own and for tests; [`crate::certificate::Certificate`] seeds every input.)
     #[inline(always)]
-    pub(crate) fn seed(&mut self, id: u32, slot: usize, d: f64) {
+    pub fn seed(&mut self, id: u32, slot: usize, d: f64) {
         self.coefs = [0.0; K];
         self.coefs[slot % K] = 1.0;
         self.ids[slot % K] = id;

@@ -273,3 +273,13 @@ pub fn check_field<const K: usize, const W: bool>(
     }
     (worst_true, worst_upper)
 }
+
+/// The largest of `ratio` and `upper / true_error` where the true error is not zero (a plain function: the scalar
+/// bounds of a generic caller would capture the comparisons of doubles).
+pub fn worst_ratio(ratio: f64, (true_error, upper): (f64, f64)) -> f64 {
+    if true_error > 0.0 {
+        ratio.max(upper / true_error)
+    } else {
+        ratio
+    }
+}
