@@ -273,3 +273,20 @@ fn exact_values_stay_points() {
     assert_eq!(Core::mul(z, a).radius(), 0.0);
     assert!(Core::orders(z, C::new(0.0, 0.0, 0.0)) == twinstep::lens::scalar::Orders::EQUAL);
 }
+
+/// The rounding of merged coefficients: `a·x + b·x` has the coefficient fl(a + b) ≠ a + b (for a = 0.1, b = 0.2 as
+/// doubles the sum rounds up by 2^-54·…); on a wide ball that rounding, not the shadow's, dominates the remainder.
+#[test]
+fn merged_coefficients_are_covered_where_they_round() {
+    let mut stream = Stream(7);
+    for &(a, b) in &[(0.1, 0.2), (1.0 / 3.0, 0.7), (-0.3, 1e-3), (1e10, -3.3)] {
+        let x = input(1.5, 0.0, 0, 0, 1.0);
+        let (ca, cb) = (C::new(a, a, 0.0), C::new(b, b, 0.0));
+        let z = Core::add(Core::mul(ca, x), Core::mul(cb, x));
+        let s = [shadow(x)];
+        for xi in points(&mut stream, &s, &[1.0]) {
+            let exact = rat(a) * xi[0].clone() + rat(b) * xi[0].clone();
+            check_invariant("a·x + b·x", z, &s, &xi, &exact);
+        }
+    }
+}
