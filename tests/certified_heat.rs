@@ -12,6 +12,8 @@ use twinstep_fixtures::heat_slice::heat_step_twin;
 
 /// The initial data `sin(π i/n)`; its twin evaluates the real sine of the real π i/n in the lens, so the
 /// certificate starts from the rigorous bound of that computation (item 4 of the issue).
+// Only the twin runs here; the rewrite keeps the original beside it.
+#[allow(dead_code)]
 #[twinstep::audit]
 fn initial(i: usize, n: usize) -> f64 {
     (std::f64::consts::PI * i as f64 / n as f64).sin()
@@ -98,28 +100,4 @@ fn heat_half_from_doubles_is_enclosed_for_2000_steps() {
     let rod = Rod { cells, r: 0.5, doubles: Some(values) };
     let ratio = run_against_oracle(&rod, 2000, start);
     assert!(ratio <= 1.0 + 1e-6, "upper end / true worst error = {ratio}");
-}
-
-#[test]
-#[ignore]
-fn print_diagnostics() {
-    let rod = Rod { cells: 33, r: 0.25, doubles: None };
-    let n = rod.cells - 1;
-    let start: Vec<X> = (0..rod.cells).map(|i| (X::pi() * X::of(i as f64) / X::of(n as f64)).sin()).collect();
-    let r = X::of(rod.r);
-    let mut exact = start;
-    certify::<_, 4>(&rod, 2000, CertificateOptions::default(), |levels, facts| {
-        if facts.step > 0 {
-            exact = heat(&exact, &r);
-        }
-        let (t, u) = check_field("x", facts.step, &levels.current[0], &exact);
-        if facts.step % 200 == 0 || facts.step < 3 {
-            let f = &facts.fields[0];
-            println!(
-                "step {} true {t:e} upper {u:e} worst {:?} maxD {:e} est {:e} growth {}",
-                facts.step, f.worst, f.max_radius, f.estimate, facts.growth
-            );
-        }
-    })
-    .unwrap();
 }

@@ -144,6 +144,9 @@ pub type Certified16Of<const W: bool> = CertifiedOf<16, W>;
 
 /// A smooth function of one variable, as the lens linearizes it.
 struct Smooth {
+    /// Whether the ball `[lo, hi]` lies where the function is smooth and the 160-bit evaluation is affordable
+    /// (checked before evaluating: dashu-float would panic on a logarithm of a negative number).
+    domain: fn(lo: f64, hi: f64) -> bool,
     /// f(x) and f′(x) at 160 bits.
     eval: fn(&Big) -> (Big, Big),
     /// An upper bound of |f″| over `[lo, hi]` for a ball of radius `radius` around a point where `|f| ≈ value`, or
@@ -350,8 +353,8 @@ impl<const K: usize, const W: bool> CertifiedOf<K, W> {
         let total = local
             + (a + alpha_err) * x.remainder
             + (b + beta_err) * y.remainder
-            + alpha_err.mul_add(x.linear, (3.0 * U) * (a * x.linear))
-            + beta_err.mul_add(y.linear, (3.0 * U) * (b * y.linear))
+            + (3.0 * U).mul_add(a, alpha_err) * x.linear
+            + (3.0 * U).mul_add(b, beta_err) * y.linear
             + dropped;
         let ingredients = local_ingredients + x.remainder + y.remainder + x.linear + y.linear;
         // A NaN bound (∞ − ∞, 0·∞) propagates; the readers (`radius`, `ball`, the condensation) take it as lost.
@@ -400,7 +403,9 @@ impl<const K: usize, const W: bool> CertifiedOf<K, W> {
     /// theorem with the Lagrange remainder).
     fn smooth(self, primal: f64, f: &Smooth) -> Self {
         let x = self.shadow;
-        let Some(argument) = big(x) else {
+        let (lo, hi) = self.ball();
+        let argument = if (f.domain)(lo, hi) { big(x) } else { None };
+        let Some(argument) = argument else {
             return Self::unbounded(primal, DoubleWord::from_f64(primal));
         };
         let (value, derivative) = (f.eval)(&argument);
@@ -409,7 +414,6 @@ impl<const K: usize, const W: bool> CertifiedOf<K, W> {
         let radius = self.ball_radius() * (1.0 + 4.0 * U);
         // The 160-bit argument is within 2^-160|x̃| of x̃: the curvature is taken over that too.
         let widened = radius.max(HIGH_PRECISION * x.hi.abs());
-        let (lo, hi) = self.ball();
         let (lo, hi) = (lo.min(x.hi - widened), hi.max(x.hi + widened));
         let Some(curvature) = (f.curvature)(lo, hi, widened, shadow.hi.abs()) else {
             return Self::unbounded(primal, shadow);
@@ -429,26 +433,35 @@ impl<const K: usize, const W: bool> CertifiedOf<K, W> {
     }
 }
 
-/// exp: f′ = f; |f″| = e^t ≤ e^{x̃}·e^R ≤ |f(x̃)|(1 + 2R) for R ≤ 1 (convexity: e^R ≤ 1 + (e − 1)R).
+/// Everywhere, for arguments of moderate size (a sine of 10¹⁰⁰ is exact in dashu-float but slow; beyond these
+/// limits the value is lost rather than waited for).
+fn moderate(lo: f64, hi: f64) -> bool {
+    lo > -1e6 && hi < 1e6
+}
+
+/// exp (domain: e^x overflows binary64 beyond 709.8 and underflows below −745; the value is lost there): f′ = f; |f″| = e^t ≤ e^{x̃}·e^R ≤ |f(x̃)|(1 + 2R) for R ≤ 1 (convexity: e^R ≤ 1 + (e − 1)R).
 const EXP: Smooth = Smooth {
+    domain: |lo, hi| lo > -708.0 && hi < 708.0,
     eval: |x| {
         let v = x.exp();
         (v.clone(), v)
     },
-    curvature: |_, _, radius, value| (radius <= 1.0).then(|| value * (1.0 + 2.0 * radius) * (1.0 + 8.0 * U)),
+    curvature: |_, _, radius, value| (radius <= 1.0).then_some(value * (1.0 + 2.0 * radius) * (1.0 + 8.0 * U)),
 };
 
 /// ln: f′ = 1/x; |f″| = 1/t² ≤ 1/lo² on a ball inside (0, ∞).
 const LN: Smooth = Smooth {
+    domain: |lo, hi| lo > 0.0 && hi < f64::INFINITY,
     eval: |x| (x.ln(), Big::ONE / x),
     curvature: |lo, _, _, _| (lo > 0.0).then(|| (1.0 / (lo * lo)) * (1.0 + 8.0 * U)),
 };
 
 /// sin: f′ = cos; |f″| ≤ 1.
-const SIN: Smooth = Smooth { eval: |x| x.sin_cos(), curvature: |_, _, _, _| Some(1.0) };
+const SIN: Smooth = Smooth { domain: moderate, eval: |x| x.sin_cos(), curvature: |_, _, _, _| Some(1.0) };
 
 /// cos: f′ = −sin; |f″| ≤ 1.
 const COS: Smooth = Smooth {
+    domain: moderate,
     eval: |x| {
         let (s, c) = x.sin_cos();
         (c, -s)
@@ -458,6 +471,7 @@ const COS: Smooth = Smooth {
 
 /// tanh: f′ = 1 − tanh²; |f″| = |2 tanh·sech²| ≤ 4/(3√3) < 1.
 const TANH: Smooth = Smooth {
+    domain: moderate,
     eval: |x| {
         let t = x.tanh();
         let d = Big::ONE - &t * &t;
@@ -468,6 +482,7 @@ const TANH: Smooth = Smooth {
 
 /// atan: f′ = 1/(1 + x²); |f″| = 2|t|/(1 + t²)² ≤ 3√3/8 < 1.
 const ATAN: Smooth = Smooth {
+    domain: moderate,
     eval: |x| {
         let d = Big::ONE / (Big::ONE + x * x);
         (x.atan(), d)
@@ -476,12 +491,18 @@ const ATAN: Smooth = Smooth {
 };
 
 /// asin: f′ = 1/√(1 − x²); |f″| = |t|/(1 − t²)^{3/2} ≤ m/(1 − m²)^{3/2} with m = max|t| < 1.
-const ASIN: Smooth =
-    Smooth { eval: |x| (x.asin(), Big::ONE / (Big::ONE - x * x).sqrt()), curvature: arcsine_curvature };
+const ASIN: Smooth = Smooth {
+    domain: |lo, hi| lo > -1.0 && hi < 1.0,
+    eval: |x| (x.asin(), Big::ONE / (Big::ONE - x * x).sqrt()),
+    curvature: arcsine_curvature,
+};
 
 /// acos: f′ = −1/√(1 − x²); |f″| as for asin.
-const ACOS: Smooth =
-    Smooth { eval: |x| (x.acos(), -(Big::ONE / (Big::ONE - x * x).sqrt())), curvature: arcsine_curvature };
+const ACOS: Smooth = Smooth {
+    domain: |lo, hi| lo > -1.0 && hi < 1.0,
+    eval: |x| (x.acos(), -(Big::ONE / (Big::ONE - x * x).sqrt())),
+    curvature: arcsine_curvature,
+};
 
 fn arcsine_curvature(lo: f64, hi: f64, _: f64, _: f64) -> Option<f64> {
     let m = lo.abs().max(hi.abs()) * (1.0 + 2.0 * U);
@@ -570,7 +591,9 @@ impl<const K: usize, const W: bool> Core for CertifiedOf<K, W> {
         let (rx, ry) = (self.ball_radius(), rhs.ball_radius());
         // |ỹ| − R_y from below: |ỹ| ≥ |yh|(1 − u) ≥ fl(|yh|(1 − 2u)), and fl(t − R_y)(1 − 2u) ≤ t − R_y.
         let gap = ((y.hi.abs() * (1.0 - 2.0 * U)) - ry) * (1.0 - 2.0 * U);
-        if !(gap > 0.0) || !shadow.is_finite() {
+        // (NaN compares false: a NaN gap is a lost divisor too.)
+        let positive = gap > 0.0;
+        if !positive || !shadow.is_finite() {
             if ry > 0.0 {
                 record(EventKind::DivisionByZeroEnclosure); // the divisor's ball holds zero
             }
@@ -659,7 +682,8 @@ impl<const K: usize, const W: bool> Core for CertifiedOf<K, W> {
         }
         // The ball inside (0, ∞): x̃ − R from below.
         let low = ((x.hi * (1.0 - 2.0 * U)) - radius * (1.0 + 2.0 * U)) * (1.0 - 2.0 * U);
-        if !(low > 1e-250) || !shadow.is_finite() || shadow.hi <= 0.0 {
+        let inside = low > 1e-250; // false for NaN too
+        if !inside || !shadow.is_finite() || shadow.hi <= 0.0 {
             // Exact arithmetic may take the root of a negative number (or the residual below may underflow).
             return Self::unbounded(primal, shadow);
         }
