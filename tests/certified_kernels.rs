@@ -6,13 +6,11 @@
 mod certified_support;
 
 use certified_support::{arrhenius, check_field, diffusion_2d, leapfrog, minmod_advection, shallow_water, upwind};
-use certified_support::{worst_ratio, Exact, X};
-use twinstep::audit::{Error, FieldSpec, Levels, Scenario, Scheme};
+use certified_support::{worst_ratio, Case, Exact, MinmodStep, Step, UpwindStep, X};
+use twinstep::audit::{FieldSpec, Levels, Scheme};
 use twinstep::certificate::{certify, CertificateOptions, Route, StepCertificate};
 use twinstep::lens::CertifiedOf;
 use twinstep::{BaseOps, MixedOps, Real, RefOps};
-use twinstep_fixtures::advection_minmod::minmod_step_twin;
-use twinstep_fixtures::advection_upwind::upwind_step_twin;
 use twinstep_fixtures::reaction_diffusion::arrhenius_step_twin;
 use twinstep_fixtures::shallow_water::shallow_water_step_twin;
 use twinstep_fixtures::wave_leapfrog::wave_leapfrog_step_twin;
@@ -39,58 +37,6 @@ fn profile(cells: usize) -> Vec<f64> {
     (0..cells)
         .map(|i| (i as f64 * std::f64::consts::TAU / cells as f64).sin() + 0.3 * (i as f64 * 0.77).cos())
         .collect()
-}
-
-/// A scenario from a field list, a scheme, initial values and a step written for any scalar.
-struct Case<F> {
-    fields: Vec<FieldSpec>,
-    scheme: Scheme,
-    start: Vec<Vec<f64>>,
-    step: F,
-}
-
-/// The step of a [`Case`]: one generic function of the levels (a closure cannot be generic over the scalar).
-trait Step: Sync {
-    fn run<T>(&self, levels: &mut Levels<T>)
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>;
-}
-
-impl<F: Step> Scenario for Case<F> {
-    fn fields(&self) -> Vec<FieldSpec> {
-        self.fields.clone()
-    }
-
-    fn scheme(&self) -> Scheme {
-        self.scheme
-    }
-
-    fn init<T>(&self, levels: &mut Levels<T>) -> Result<(), Error>
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
-        for (f, values) in self.start.iter().enumerate() {
-            levels.current[f].set_f64(values)?;
-        }
-        // A three-level scheme starts from two levels: `previous` gets the same data (a string at rest).
-        for (f, values) in self.start.iter().enumerate().take(levels.previous.len()) {
-            levels.previous[f].set_f64(values)?;
-        }
-        Ok(())
-    }
-
-    fn step<T>(&self, levels: &mut Levels<T>)
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
-        self.step.run(levels);
-    }
 }
 
 /// Runs a case and checks every step against the oracle `advance` (which maps the oracle's fields at step n to
@@ -159,22 +105,6 @@ fn diffusion_2d_is_enclosed_and_tight() {
     assert!(ratio <= 1.0 + 1e-6, "upper end / true worst error = {ratio}");
 }
 
-struct Upwind {
-    nu: Vec<f64>,
-}
-
-impl Step for Upwind {
-    fn run<T>(&self, levels: &mut Levels<T>)
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
-        let nu: Vec<T> = self.nu.iter().map(|&v| T::from_f64(v)).collect();
-        upwind_step_twin::<T>(&levels.current[0], &nu, &mut levels.next[0]);
-    }
-}
-
 #[test]
 fn upwind_advection_with_a_changing_wind_is_enclosed_and_tight() {
     let cells = 40;
@@ -184,28 +114,13 @@ fn upwind_advection_with_a_changing_wind_is_enclosed_and_tight() {
         fields: vec![FieldSpec::new("u", &[cells])],
         scheme: Scheme::TwoLevel,
         start: vec![profile(cells)],
-        step: Upwind { nu: nu.clone() },
+        step: UpwindStep(nu.clone()),
     };
     let nu: Vec<X> = nu.iter().map(|&v| X::of(v)).collect();
     let (facts, ratio) =
         check::<_, 4>("upwind", &case, 500, CertificateOptions::default(), |u| u[0] = upwind(&u[0], &nu));
     assert!(facts.iter().all(|f| f.holds));
     assert!(ratio <= 1.0 + 1e-6, "upper end / true worst error = {ratio}");
-}
-
-struct Minmod {
-    nu: f64,
-}
-
-impl Step for Minmod {
-    fn run<T>(&self, levels: &mut Levels<T>)
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
-        minmod_step_twin::<T>(&levels.current[0], &mut levels.next[0], T::from_f64(self.nu));
-    }
 }
 
 #[test]
@@ -215,7 +130,7 @@ fn minmod_advection_is_enclosed_while_its_limiter_is_decided() {
         fields: vec![FieldSpec::new("u", &[cells])],
         scheme: Scheme::TwoLevel,
         start: vec![profile(cells)],
-        step: Minmod { nu: 0.45 },
+        step: MinmodStep(0.45),
     };
     let nu = X::of(0.45);
     let (facts, ratio) =

@@ -4,17 +4,15 @@
 
 mod certified_support;
 
+use certified_support::{line, HeatStep, MinmodStep, Step, UpwindStep};
 use dashu_base::Abs;
 use dashu_ratio::RBig;
 use proptest::prelude::*;
-use twinstep::audit::{Error, FieldSpec, Levels, Scenario};
+use twinstep::audit::Levels;
 use twinstep::certificate::{certify, CertificateOptions, EndReason, Route};
 use twinstep::events::EventKind;
 use twinstep::lens::scalar::Core;
 use twinstep::{BaseOps, MixedOps, Real, RefOps};
-use twinstep_fixtures::advection_minmod::minmod_step_twin;
-use twinstep_fixtures::advection_upwind::upwind_step_twin;
-use twinstep_fixtures::heat_slice::heat_step_twin;
 
 /// A linear stencil with arbitrary signed weights on a periodic grid: `out_i = Σ_k w_k u_{i+k−h}`.
 // Only the twin runs here; the rewrite keeps the original beside it.
@@ -32,50 +30,17 @@ fn stencil_step(u: &[f64], out: &mut [f64], weights: &[f64]) {
     }
 }
 
-/// A one-field, two-level scenario from initial doubles and a step written for any scalar.
-struct Line<F> {
-    start: Vec<f64>,
-    step: F,
-}
-
-trait LineStep: Sync {
-    fn run<T>(&self, u: &[T], out: &mut [T])
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>;
-}
-
-impl<F: LineStep> Scenario for Line<F> {
-    fn fields(&self) -> Vec<FieldSpec> {
-        vec![FieldSpec::new("u", &[self.start.len()])]
-    }
-
-    fn initial_values(&self) -> Vec<Vec<f64>> {
-        vec![self.start.clone()]
-    }
-
-    fn step<T>(&self, levels: &mut Levels<T>)
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
-        self.step.run(&levels.current[0], &mut levels.next[0]);
-    }
-}
-
 struct Weights(Vec<f64>);
 
-impl LineStep for Weights {
-    fn run<T>(&self, u: &[T], out: &mut [T])
+impl Step for Weights {
+    fn run<T>(&self, levels: &mut Levels<T>)
     where
         T: Real + BaseOps<f64>,
         f64: MixedOps<T>,
         for<'a> &'a T: RefOps<T>,
     {
         let w: Vec<T> = self.0.iter().map(|&x| T::from_f64(x)).collect();
-        stencil_step_twin::<T>(u, out, &w);
+        stencil_step_twin::<T>(&levels.current[0], &mut levels.next[0], &w);
     }
 }
 
@@ -93,7 +58,7 @@ proptest! {
         weights in proptest::collection::vec(-1.5f64..1.5, 1..=5),
         start in proptest::collection::vec(-4.0f64..4.0, 3..=19),
     ) {
-        let line = Line { start: start.clone(), step: Weights(weights.clone()) };
+        let line = line(start.clone(), Weights(weights.clone()));
         let n = start.len();
         let mut exact: Vec<RBig> = start.iter().map(|&v| rat(v)).collect();
         let w: Vec<RBig> = weights.iter().map(|&v| rat(v)).collect();
@@ -118,19 +83,6 @@ proptest! {
     }
 }
 
-struct Heat(f64);
-
-impl LineStep for Heat {
-    fn run<T>(&self, u: &[T], out: &mut [T])
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
-        heat_step_twin::<T>(u, out, T::from_f64(self.0));
-    }
-}
-
 /// Fails when the condensation takes absolute values before summing. At r = ½ the heat stencil's coefficient of
 /// `u_i` in its own update is 1 − 2r = 0: summed with signs, `D⁺_i = ½D_{i−1} + ½D_{i+1} + L` and the radius grows
 /// by the local bounds only; taken absolutely (the dependency effect), `|1| + |−2r| + 2r = 3` per step, so after
@@ -138,7 +90,7 @@ impl LineStep for Heat {
 #[test]
 fn condensation_sums_signed_coefficients_before_absolute_values() {
     let start: Vec<f64> = (0..40).map(|i| 1.0 + (i as f64 * 0.4).sin()).collect();
-    let line = Line { start, step: Heat(0.5) };
+    let line = line(start, HeatStep(0.5));
     let mut worst = 0.0f64;
     let options = CertificateOptions { route: Route::Forward, ..Default::default() };
     let run = certify::<_, 4>(&line, 300, options, |_, facts| worst = worst.max(facts.fields[0].max_radius))
@@ -146,19 +98,6 @@ fn condensation_sums_signed_coefficients_before_absolute_values() {
     // Each step adds local bounds of a few u²·max|u| (u² ≈ 1.2·10⁻³²; max|u| ≤ 2): 300 steps stay below 10⁻²⁸.
     assert!(worst < 1e-28, "the radius grew to {worst:e}");
     assert!((run.growth - 1.0).abs() < 1e-12, "Σ|c| = 0 + ½ + ½ = 1 per row: {}", run.growth);
-}
-
-struct Minmod(f64);
-
-impl LineStep for Minmod {
-    fn run<T>(&self, u: &[T], out: &mut [T])
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
-        minmod_step_twin::<T>(u, out, T::from_f64(self.0));
-    }
 }
 
 /// Initial data computed in the kernel's arithmetic: a plateau at 0.1 + 0.2 (0.30000000000000004 in f64, 0.3 in
@@ -174,30 +113,27 @@ fn plateau(i: usize) -> f64 {
     }
 }
 
+/// MUSCL with minmod over initial data from [`plateau`], computed through the twin.
 struct Plateau;
 
-impl Scenario for Plateau {
-    fn fields(&self) -> Vec<FieldSpec> {
-        vec![FieldSpec::new("u", &[24])]
+impl Step for Plateau {
+    fn run<T>(&self, levels: &mut Levels<T>)
+    where
+        T: Real + BaseOps<f64>,
+        f64: MixedOps<T>,
+        for<'a> &'a T: RefOps<T>,
+    {
+        MinmodStep(0.4).run(levels);
     }
 
-    fn init<T>(&self, levels: &mut Levels<T>) -> Result<(), Error>
+    fn init<T>(&self, levels: &mut Levels<T>) -> bool
     where
         T: Real + BaseOps<f64>,
         f64: MixedOps<T>,
         for<'a> &'a T: RefOps<T>,
     {
         levels.current[0].fill(|ix| plateau_twin::<T>(ix[0]));
-        Ok(())
-    }
-
-    fn step<T>(&self, levels: &mut Levels<T>)
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
-        Minmod(0.4).run(&levels.current[0], &mut levels.next[0]);
+        true
     }
 }
 
@@ -207,8 +143,10 @@ impl Scenario for Plateau {
 #[test]
 fn an_undecided_limiter_ends_the_certificate_at_its_line() {
     let mut holds = Vec::new();
-    let run = certify::<_, 8>(&Plateau, 10, CertificateOptions::default(), |_, facts| holds.push(facts.holds))
-        .expect("the run");
+    let run = certify::<_, 8>(&line(vec![0.0; 24], Plateau), 10, CertificateOptions::default(), |_, facts| {
+        holds.push(facts.holds)
+    })
+    .expect("the run");
     let end = run.end.expect("the certificate ends");
     assert_eq!(end.step, 1);
     let EndReason::Undecided { sites } = end.reason;
@@ -221,20 +159,6 @@ fn an_undecided_limiter_ends_the_certificate_at_its_line() {
         "sites {sites:?}, expected advection_minmod.rs:{line}"
     );
     assert_eq!(holds, [true, false, false, false, false, false, false, false, false, false, false]);
-}
-
-struct Upwind(Vec<f64>);
-
-impl LineStep for Upwind {
-    fn run<T>(&self, u: &[T], out: &mut [T])
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
-        let nu: Vec<T> = self.0.iter().map(|&v| T::from_f64(v)).collect();
-        upwind_step_twin::<T>(u, &nu, out);
-    }
 }
 
 /// Over 10⁵ steps of the monotone schemes the radius stays far below the error: the upper end of the worst error
@@ -256,10 +180,10 @@ fn monotone_schemes_stay_tight_for_100000_steps() {
         );
     };
     let steps = 100_000;
-    let heat = Line { start: start.clone(), step: Heat(0.25) };
+    let heat = line(start.clone(), HeatStep(0.25));
     certify::<_, 4>(&heat, steps, CertificateOptions::default(), |_, facts| check("heat", facts, 301.0)).expect("heat");
     let nu: Vec<f64> = (0..24).map(|i| 0.6 * (i as f64 * 0.26 + 0.1).cos()).collect();
-    let upwind = Line { start: start.clone(), step: Upwind(nu) };
+    let upwind = line(start.clone(), UpwindStep(nu));
     certify::<_, 4>(&upwind, steps, CertificateOptions::default(), |_, facts| check("upwind", facts, 301.0))
         .expect("upwind");
 }

@@ -44,7 +44,7 @@ use crate::events::{record, EventKind};
 use crate::lens::eft::{next_down, next_up, two_prod, DoubleWord};
 use crate::lens::reference::{constant_reference, Reference};
 use crate::lens::scalar::{Core, Orders};
-use crate::lens::shadow::{big, double_word, Big};
+use crate::lens::shadow::{big, double_word, Big, ShadowOf};
 use crate::lens::Lens;
 use crate::Constant;
 use core::cell::Cell;
@@ -164,18 +164,22 @@ impl<const K: usize, const W: bool> CertifiedOf<K, W> {
         Self { primal, shadow: DoubleWord { hi, lo }, remainder: 0.0, linear: 0.0, ids: [0; K], coefs: [0.0; K] }
     }
 
+    /// The primal and shadow as a [`ShadowOf`] value: its readers serve this lens too.
+    #[inline(always)]
+    fn as_shadow(self) -> ShadowOf<W> {
+        ShadowOf::new(self.primal, self.shadow.hi, self.shadow.lo)
+    }
+
     /// The shadow as the pair `(hi, lo)`.
     #[must_use]
     pub fn shadow(self) -> (f64, f64) {
-        let DoubleWord { hi, lo } = self.shadow.canonical();
-        (hi, lo)
+        self.as_shadow().shadow()
     }
 
     /// `primal − shadow`, to double precision (the estimate of the primal's error, as the Shadow lens gives it).
     #[must_use]
     pub fn signed_error(self) -> f64 {
-        let DoubleWord { hi, lo } = self.shadow.canonical();
-        (self.primal - hi) - lo
+        self.as_shadow().signed_error()
     }
 
     /// `R = A + M`, rounded up: the exact value lies within `R` of the shadow (between steps, after the runner's
@@ -384,6 +388,11 @@ impl<const K: usize, const W: bool> CertifiedOf<K, W> {
     /// `x·y` where only the reference matters (composition); the primal is set by the caller.
     fn times(self, y: Self) -> Self {
         <Self as Core>::mul(self, y)
+    }
+
+    /// `(eˣ, e⁻ˣ)`, for the hyperbolic functions.
+    fn exponentials(self) -> (Self, Self) {
+        (<Self as Core>::exp(self), <Self as Core>::exp(<Self as Core>::neg(self)))
     }
 
     /// The sign of the ball: `Some(true)` when every exact value is > 0, `Some(false)` when every one is < 0.
@@ -796,15 +805,16 @@ impl<const K: usize, const W: bool> Core for CertifiedOf<K, W> {
 
     #[track_caller]
     fn sinh(self) -> Self {
-        // (e^x − e^{−x})/2
-        let (e, f) = (self.exp(), <Self as Core>::neg(self).exp());
+        let (e, f) = self.exponentials();
         <Self as Core>::sub(e, f).times(Self::exact(0.5)).with_primal(self.primal.sinh())
+        // (eˣ − e⁻ˣ)/2
     }
 
     #[track_caller]
     fn cosh(self) -> Self {
-        let (e, f) = (self.exp(), <Self as Core>::neg(self).exp());
+        let (e, f) = self.exponentials();
         <Self as Core>::add(e, f).times(Self::exact(0.5)).with_primal(self.primal.cosh())
+        // (eˣ + e⁻ˣ)/2
     }
 
     #[track_caller]
