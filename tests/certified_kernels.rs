@@ -290,3 +290,21 @@ fn routes_follow_the_measured_growth() {
     assert_eq!(run.route, Route::Forward);
     assert!((run.growth - 1.0).abs() < 1e-12, "Σ|c| = 1 exactly for the monotone scheme: {}", run.growth);
 }
+
+#[test]
+fn the_backward_route_is_declined_beyond_its_size_and_says_so() {
+    // 70 × 70 cells on two levels: 9800 ids, more than MAX_BACKWARD_IDS = 4096 (a dense 9800² matrix of
+    // sensitivities would take 770 MB).
+    let n = 70;
+    let case = Case {
+        fields: vec![FieldSpec::new("u", &[n, n])],
+        scheme: Scheme::TwoLevel,
+        start: vec![profile(n * n)],
+        step: Diffusion { n, r: 0.2 },
+    };
+    let options = CertificateOptions { route: Route::Backward, ..CertificateOptions::default() };
+    let run = certify::<_, 8>(&case, 3, options, |_, _| {}).expect("the run");
+    assert!(run.backward_declined);
+    assert_eq!(run.route, Route::Forward);
+    assert_eq!(run.backward.bytes, 0);
+}

@@ -62,6 +62,10 @@ use layout::{fields_mut, Layout};
 /// How many steps [`Route::Auto`] watches before it chooses.
 pub const PROBE_STEPS: u64 = 16;
 
+/// The most ids the backward route sweeps: its dense matrix of sensitivities holds ids² doubles (two of them, 256 MB
+/// at this size). Beyond it the certificate stays on the forward route and says so ([`Certificate::backward_declined`]).
+pub const MAX_BACKWARD_IDS: usize = 4096;
+
 /// How the certificate carries `D` from step to step.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub enum Route {
@@ -171,6 +175,8 @@ pub struct Certificate {
     probe_next: Vec<f64>,
     growths: Vec<f64>,
     route: Route,
+    /// Whether the backward route was asked for (or left to [`Route::Auto`]) but the levels have too many ids.
+    declined: bool,
     tape: Option<Tape>,
     step: u64,
     end: Option<CertificateEnd>,
@@ -220,8 +226,10 @@ impl Certificate {
         let slots = colouring.slots(&layout);
         let ids = layout.ids;
         let fields = levels.current.len();
+        let declined = ids > MAX_BACKWARD_IDS && options.route != Route::Forward;
         Ok(Certificate {
-            route: options.route,
+            route: if declined { Route::Forward } else { options.route },
+            declined,
             options,
             horizon,
             layout,
@@ -357,6 +365,12 @@ impl Certificate {
             return 1.0;
         }
         (settled.iter().map(|g| g.ln()).sum::<f64>() / settled.len() as f64).exp()
+    }
+
+    /// Whether the backward route was wanted but not taken: more than [`MAX_BACKWARD_IDS`] ids. The certificate is
+    /// then the forward route's, rigorous but growing with `ρ(|J̃|)` (see [`Certificate::growth`]).
+    pub fn backward_declined(&self) -> bool {
+        self.declined
     }
 
     /// The cost of the backward route so far.

@@ -24,6 +24,8 @@ pub struct CertifiedRun {
     pub growth: f64,
     /// The backward route's cost.
     pub backward: BackwardCost,
+    /// Whether the backward route was wanted but the levels had more than `MAX_BACKWARD_IDS` ids.
+    pub backward_declined: bool,
     /// The colouring used.
     pub colouring: Colouring,
     /// List clashes over the run.
@@ -115,6 +117,7 @@ where
         route: certificate.route(),
         growth: certificate.growth(),
         backward: certificate.backward_cost(),
+        backward_declined: certificate.backward_declined(),
         colouring: certificate.colouring().clone(),
         clashes,
         lost_from: certificate.lost_from().to_vec(),
