@@ -94,3 +94,15 @@ fn heat_half_from_doubles_is_enclosed_for_2000_steps() {
     let ratio = run_against_oracle(&rod, 2000, start);
     assert!(ratio <= 1.0 + 1e-6, "upper end / true worst error = {ratio}");
 }
+
+#[test]
+fn heat_over_100000_steps_is_enclosed_and_tight_against_the_oracle() {
+    // 300 K and a perturbation (invented data), given as doubles: r = ¼ over 10⁵ steps, the 1024-bit oracle at
+    // every step and cell, the upper end within 1 + 10⁻⁶ of the true worst error (the criterion).
+    let cells = 17;
+    let values: Vec<f64> = (0..cells).map(|i| 300.0 + (i as f64 * 0.9).sin()).collect();
+    let start = values.iter().map(|&v| X::of(v)).collect();
+    let rod = line(values, Rod { heat: HeatStep(0.25), computed: false });
+    let ratio = run_against_oracle(&rod, 100_000, start);
+    assert!(ratio <= 1.0 + 1e-6, "upper end / true worst error = {ratio}");
+}

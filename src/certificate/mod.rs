@@ -406,10 +406,10 @@ impl Certificate {
             let base = block.base as usize;
             for (cell, value) in field.iter_mut().enumerate() {
                 let id = base + cell;
-                let (d, spread) = value.condensed(radii);
+                let (d, spread, weight) = value.condensed(radii, probe);
                 self.scratch[id] = d;
                 largest_remainder = largest_remainder.max(value.remainder());
-                self.probe_next[id] = value.entries().map(|(j, c)| c.abs() * probe[j as usize]).sum();
+                self.probe_next[id] = weight;
                 if let Some(tape) = self.tape.as_mut() {
                     tape.row(value.entries(), value.remainder(), spread);
                 }

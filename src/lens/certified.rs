@@ -230,24 +230,24 @@ impl<const K: usize, const W: bool> CertifiedOf<K, W> {
     }
 
     /// Condensation at the end of a step (docs/lenses.md, "Certified"): `M + Σ_j |c̃_j|·D_j` over the list, with
-    /// `D` looked up by input id, the ball radius `R` as the second rigorous choice, rounded up; and the part
-    /// `Σ_j |c̃_j| D_j` alone (the backward route's rounding term needs it).
+    /// `D` looked up by input id, the ball radius `R` as the second rigorous choice, rounded up; the part
+    /// `Σ_j |c̃_j| D_j` alone (the backward route's rounding term needs it); and `Σ_j |c̃_j| v_j` for the runner's
+    /// power iteration on `|J̃|` — one pass over the slots for the three.
     #[inline]
-    pub(crate) fn condensed(&self, radii: &[f64]) -> (f64, f64) {
-        let mut spread = 0.0;
+    pub(crate) fn condensed(&self, radii: &[f64], probe: &[f64]) -> (f64, f64, f64) {
+        let (mut spread, mut weight) = (0.0, 0.0);
         for k in 0..K {
-            let c = self.coefs[k];
-            // An empty slot contributes nothing, whatever radius its stale id would find (0·∞ would be NaN).
-            let term = if c == 0.0 {
-                0.0
-            } else {
-                c.abs() * radii.get(self.ids[k] as usize).copied().unwrap_or(f64::INFINITY)
-            };
-            spread += term;
+            let c = self.coefs[k].abs();
+            let id = self.ids[k] as usize;
+            // An empty slot contributes nothing, whatever its stale id finds (0·∞ would be NaN).
+            if c != 0.0 {
+                spread += c * radii.get(id).copied().unwrap_or(f64::INFINITY);
+                weight += c * probe.get(id).copied().unwrap_or(1.0);
+            }
         }
         let spread = lost_if_nan(up(spread, spread));
         let total = lost_if_nan(up(self.remainder + spread, self.remainder + spread));
-        (total.min(self.radius()), spread)
+        (total.min(self.radius()), spread, weight)
     }
 
     /// Makes the value an input of a step: coefficient 1 on its own `id` in `slot`, spread `A = D`, remainder 0
