@@ -150,6 +150,11 @@ fn multipliers(rank: usize, modulus: usize) -> Vec<usize> {
     if rank <= 1 {
         return vec![1; rank];
     }
+    if rank > 3 {
+        // The search below grows as modulus^(rank − 1); beyond 3-D take powers of 3, which separate the box of a
+        // grid with at least 3^rank colours (fewer colours clash, rigorously).
+        return (0..rank).rev().map(|d| 3usize.pow(d as u32) % modulus.max(1)).collect();
+    }
     let free = rank - 1;
     let mut best = (0usize, 0usize, vec![1; rank]);
     let combos = modulus.pow(free as u32);
