@@ -176,7 +176,7 @@ fn arrhenius_reaction_diffusion_with_exp_is_enclosed() {
         step: Arrhenius { dt, diffusion, activation },
     };
     let (dt, diffusion, activation) = (X::of(dt), X::of(diffusion), X::of(activation));
-    let (facts, ratio) = check::<_, 4>("arrhenius", &case, 60, CertificateOptions::default(), |u| {
+    let (facts, ratio) = check::<_, 4>("arrhenius", &case, 500, CertificateOptions::default(), |u| {
         u[0] = arrhenius(&u[0], &dt, &diffusion, &activation)
     });
     assert!(facts.iter().all(|f| f.holds));
