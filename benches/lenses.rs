@@ -18,9 +18,11 @@
 use std::hint::black_box;
 use std::time::{Duration, Instant};
 use twinstep::audit::{Audit, AuditLens, FieldSpec, Levels, Scenario, Tolerance};
+use twinstep::certificate::{certify, CertificateOptions, Route};
 use twinstep::lens::{
     bits_format_scope, AttributedUnwatched, Bfloat16Unwatched, Binary16Unwatched, Binary32Unwatched, BitsUnwatched,
-    Bound, BoundUnwatched, Format, Interval, IntervalUnwatched, Shadow, ShadowUnwatched,
+    Bound, BoundUnwatched, Certified4Unwatched, CertifiedUnwatched, Format, Interval, IntervalUnwatched, Shadow,
+    ShadowUnwatched,
 };
 use twinstep::Real;
 
@@ -213,6 +215,103 @@ fn time_audit<L: AuditLens>(cells: usize, steps: u64) -> Duration {
     twice.saturating_sub(once) / steps as u32
 }
 
+/// The 2-D diffusion kernel as a scenario on an `n × n` grid.
+struct Plate {
+    n: usize,
+}
+
+impl Scenario for Plate {
+    fn fields(&self) -> Vec<FieldSpec> {
+        vec![FieldSpec::new("u", &[self.n, self.n])]
+    }
+
+    fn initial_values(&self) -> Vec<Vec<f64>> {
+        vec![profile::<f64>(self.n * self.n)]
+    }
+
+    fn step<T>(&self, levels: &mut Levels<T>)
+    where
+        T: Real + BaseOps<f64>,
+        f64: MixedOps<T>,
+        for<'a> &'a T: RefOps<T>,
+    {
+        diffusion_2d_twin::<T>(&levels.current[0], &mut levels.next[0], self.n, T::from_f64(0.2));
+    }
+}
+
+/// One leapfrog step of the 1-D wave equation, `y⁺ = 2y − y⁻ + c²(y_{i−1} − 2y_i + y_{i+1})`, ends at rest (the
+/// scheme of `fixtures/src/wave_leapfrog.rs`, here because the fixtures crate's generic impls overwhelm the type
+/// inference of this file's other kernels). With c = 0.9 the absolute Jacobian grows by about 2.4 per step.
+#[twinstep::audit]
+pub fn wave_1d(before: &[f64], now: &[f64], after: &mut [f64], c2: f64) {
+    let n = now.len();
+    after[0] = 0.0;
+    after[n - 1] = 0.0;
+    for i in 1..n - 1 {
+        after[i] = 2.0 * now[i] - before[i] + c2 * (now[i - 1] - 2.0 * now[i] + now[i + 1]);
+    }
+}
+
+/// A plucked string of `cells` points as a three-level scenario.
+struct Wave {
+    cells: usize,
+}
+
+impl Scenario for Wave {
+    fn fields(&self) -> Vec<FieldSpec> {
+        vec![FieldSpec::new("y", &[self.cells])]
+    }
+
+    fn scheme(&self) -> twinstep::audit::Scheme {
+        twinstep::audit::Scheme::ThreeLevel
+    }
+
+    fn init<T>(&self, levels: &mut Levels<T>) -> Result<(), twinstep::audit::Error>
+    where
+        T: Real + BaseOps<f64>,
+        f64: MixedOps<T>,
+        for<'a> &'a T: RefOps<T>,
+    {
+        let n = self.cells;
+        let y: Vec<f64> = (0..n).map(|i| if i == 0 || i == n - 1 { 0.0 } else { profile::<f64>(n)[i] }).collect();
+        levels.current[0].set_f64(&y)?;
+        levels.previous[0].set_f64(&y)
+    }
+
+    fn step<T>(&self, levels: &mut Levels<T>)
+    where
+        T: Real + BaseOps<f64>,
+        f64: MixedOps<T>,
+        for<'a> &'a T: RefOps<T>,
+    {
+        wave_1d_twin::<T>(&levels.previous[0], &levels.current[0], &mut levels.next[0], T::from_f64(0.81));
+    }
+}
+
+/// Time per step of a certified run of `scenario` (kernel, condensation and seeding, the forward route), from
+/// the difference of runs of `2·steps` and `steps` steps (best of 3), so that the start (initial data, the
+/// colouring probe) does not count.
+fn time_certified<S: Scenario, const K: usize>(scenario: &S, steps: u64) -> Duration
+where
+    twinstep::lens::CertifiedOf<K, false>: Real + BaseOps<f64> + twinstep::lens::Lens,
+    f64: MixedOps<twinstep::lens::CertifiedOf<K, false>>,
+    for<'a> &'a twinstep::lens::CertifiedOf<K, false>: RefOps<twinstep::lens::CertifiedOf<K, false>>,
+{
+    let run = |steps: u64| {
+        (0..3)
+            .map(|_| {
+                let options = CertificateOptions { route: Route::Forward, ..CertificateOptions::default() };
+                let start = Instant::now();
+                black_box(certify::<S, K>(scenario, steps, options, |_, _| {}).expect("the run"));
+                start.elapsed()
+            })
+            .min()
+            .unwrap_or_default()
+    };
+    let (once, twice) = (run(steps), run(2 * steps));
+    twice.saturating_sub(once) / steps as u32
+}
+
 fn main() {
     const CELLS: usize = 100_000;
     const GRID: usize = 512;
@@ -224,8 +323,12 @@ fn main() {
 
     let section = "1-D heat, 10^5 cells";
     if wanted(section) {
-        let (original, twin) =
-            time_f64_pair(CELLS, heat_steps, |u, out| heat_1d(u, out, 0.25), |u, out| heat_1d_twin(u, out, 0.25));
+        let (original, twin) = time_f64_pair(
+            CELLS,
+            heat_steps,
+            |u, out| heat_1d(u, out, 0.25),
+            |u, out| heat_1d_twin::<f64>(u, out, 0.25),
+        );
         let rows = lens_rows!(CELLS, heat_steps, 0.25, |u, out, r| heat_1d_twin(u, out, r));
         report(section, original, Some(twin), &rows);
     }
@@ -243,7 +346,7 @@ fn main() {
             GRID * GRID,
             diffusion_steps,
             |u, out| diffusion_2d(u, out, GRID, 0.2),
-            |u, out| diffusion_2d_twin(u, out, GRID, 0.2),
+            |u, out| diffusion_2d_twin::<f64>(u, out, GRID, 0.2),
         );
         let rows = lens_rows!(GRID * GRID, diffusion_steps, 0.2, |u, out, r| diffusion_2d_twin(u, out, GRID, r));
         report(section, original, Some(twin), &rows);
@@ -263,6 +366,75 @@ fn main() {
         let rows = [("Shadow", shadow, None), ("Attributed", attributed, None)];
         report(section, original, None, &rows);
         println!("  Attributed / Shadow: {:.1}×", attributed.as_secs_f64() / shadow.as_secs_f64());
+    }
+
+    // The certified lens: the kernel alone (the lens's arithmetic), and a certified run of the forward route
+    // (kernel, then the condensation and seeding pass over every value), against the same original.
+    let section = "certified, 1-D heat 10^5 cells and 2-D diffusion 512×512";
+    if wanted(section) {
+        let original = time_kernel::<f64>(CELLS, heat_steps, |u, out| heat_1d(u, out, 0.25));
+        let rows = [
+            (
+                "K=4 kernel",
+                time_kernel::<Certified4Unwatched>(CELLS, heat_steps / 4, |u, out| {
+                    heat_1d_twin(u, out, Certified4Unwatched::from_f64(0.25))
+                }),
+                None,
+            ),
+            (
+                "K=8 kernel",
+                time_kernel::<CertifiedUnwatched>(CELLS, heat_steps / 4, |u, out| {
+                    heat_1d_twin(u, out, CertifiedUnwatched::from_f64(0.25))
+                }),
+                None,
+            ),
+            ("K=4 run", time_certified::<_, 4>(&Rod { cells: CELLS }, heat_steps as u64 / 8), Some(40.0)),
+            ("K=8 run", time_certified::<_, 8>(&Rod { cells: CELLS }, heat_steps as u64 / 8), None),
+        ];
+        report("certified, 1-D heat, 10^5 cells", original, None, &rows);
+        let original = time_kernel::<f64>(GRID * GRID, diffusion_steps, |u, out| diffusion_2d(u, out, GRID, 0.2));
+        let rows = [
+            (
+                "K=8 kernel",
+                time_kernel::<CertifiedUnwatched>(GRID * GRID, diffusion_steps / 4, |u, out| {
+                    diffusion_2d_twin(u, out, GRID, CertifiedUnwatched::from_f64(0.2))
+                }),
+                None,
+            ),
+            ("K=8 run", time_certified::<_, 8>(&Plate { n: GRID }, diffusion_steps as u64 / 4), Some(40.0)),
+        ];
+        report("certified, 2-D diffusion, 512×512", original, None, &rows);
+    }
+
+    // The backward route at 10⁴ steps: a leapfrog string of 32 points (three levels, 96 ids), where ρ(|J|) ≈ 2.4
+    // makes the forward radius grow geometrically; time, sweeps and the rows kept.
+    let section = "certified, backward route, leapfrog 32 points, 10^4 steps";
+    if wanted(section) {
+        let wave = Wave { cells: 32 };
+        let steps = 10_000;
+        let forward = Instant::now();
+        let options = CertificateOptions { route: Route::Forward, ..CertificateOptions::default() };
+        black_box(certify::<_, 8>(&wave, steps, options, |_, _| {}).expect("the run"));
+        let forward = forward.elapsed();
+        let started = Instant::now();
+        let options = CertificateOptions { route: Route::Backward, ..CertificateOptions::default() };
+        let run = certify::<_, 8>(&wave, steps, options, |_, _| {}).expect("the run");
+        let total = started.elapsed();
+        println!("{section}:");
+        println!("  forward route        {:>10.3} s", forward.as_secs_f64());
+        println!(
+            "  backward route       {:>10.3} s  ({} sweeps, {:.3} s in sweeps, {:.2e} multiply-adds, rows kept {:.1} MB)",
+            total.as_secs_f64(),
+            run.backward.sweeps,
+            run.backward.time.as_secs_f64(),
+            run.backward.multiply_adds as f64,
+            run.backward.bytes as f64 / 1e6
+        );
+        let f = &run.last.fields[0];
+        println!(
+            "  at step {steps}: worst error of y in [{:.6e}, {:.6e}], max D {:.2e}",
+            f.worst.0, f.worst.1, f.max_radius
+        );
     }
 
     // A whole audit also runs the original beside the lens and measures every cell after every step.

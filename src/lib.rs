@@ -10,6 +10,7 @@
 
 pub mod attribution;
 pub mod audit;
+pub mod certificate;
 pub mod events;
 pub mod lens;
 pub mod real;

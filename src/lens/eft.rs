@@ -164,9 +164,37 @@ impl core::ops::Sub for DoubleWord {
 /// included; `benches/lenses.rs` measured the 1-D heat kernel at 16.5–17× plain f64 with AccurateDWPlusDW and
 /// 11.5× with this.
 #[inline(always)]
-fn dw_sum((sh, sl): (f64, f64), v: f64) -> DoubleWord {
-    let (hi, lo) = two_sum(sh, sl + v);
-    DoubleWord { hi, lo }
+fn dw_sum(parts: (f64, f64), v: f64) -> DoubleWord {
+    dw_sum_bounded(parts, v).0
+}
+
+/// [`dw_sum`] together with `|v| + |w|`, whose product with u bounds its error a posteriori: the TwoSums are
+/// exact, so `z − (x + y) = (w − (sl + v)) + (v − (xl + yl))`, and a round-to-nearest result r of an exact value
+/// t has `|r − t| ≤ u·|r|` (IEEE 754-2019; exact in the subnormal range, where additions do not round). The bound
+/// is 0 when the sum is exact with operands that are doubles (`xl = yl = sl = 0`), which the a-priori bound above is
+/// not. Used by [`super::certified`]; the extra `abs` and add are dead code for [`dw_sum`] and are dropped.
+#[inline(always)]
+fn dw_sum_bounded((sh, sl): (f64, f64), v: f64) -> (DoubleWord, f64) {
+    let w = sl + v;
+    let (hi, lo) = two_sum(sh, w);
+    (DoubleWord { hi, lo }, v.abs() + w.abs())
+}
+
+impl DoubleWord {
+    /// `x + y` exactly as [`core::ops::Add`] computes it, and `e` with `|result − (x + y)| ≤ u·e`
+    /// (see [`dw_sum_bounded`]).
+    #[inline(always)]
+    #[must_use]
+    pub fn add_bounded(self, y: DoubleWord) -> (DoubleWord, f64) {
+        dw_sum_bounded(two_sum(self.hi, y.hi), self.lo + y.lo)
+    }
+
+    /// `x − y` exactly as [`core::ops::Sub`] computes it, and `e` with `|result − (x − y)| ≤ u·e`.
+    #[inline(always)]
+    #[must_use]
+    pub fn sub_bounded(self, y: DoubleWord) -> (DoubleWord, f64) {
+        dw_sum_bounded(two_diff(self.hi, y.hi), self.lo - y.lo)
+    }
 }
 
 impl core::ops::Mul for DoubleWord {

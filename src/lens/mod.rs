@@ -51,6 +51,7 @@ use variant_conversions;
 
 pub mod attributed;
 pub mod bound;
+pub mod certified;
 pub mod dwmath;
 pub mod eft;
 pub mod elementary;
@@ -70,6 +71,9 @@ pub use emulated::{
     Binary32Unwatched, Bits, BitsOf, BitsUnwatched,
 };
 pub use format::{bits_format_scope, Format, FormatError};
+pub use certified::{
+    Certified, Certified16, Certified16Unwatched, Certified4, Certified4Unwatched, CertifiedOf, CertifiedUnwatched,
+};
 pub use interval::{Interval, IntervalOf, IntervalUnwatched};
 pub use reference::{literal_mode, set_literal_mode, with_literal_mode, LiteralMode, Reference};
 pub use shadow::{Shadow, ShadowOf, ShadowUnwatched, Shadowed};

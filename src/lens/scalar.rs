@@ -152,6 +152,15 @@ pub trait Core: Copy + Sized {
     fn atan2(self, other: Self) -> Self;
     #[track_caller]
     fn hypot(self, other: Self) -> Self;
+
+    /// `max`/`min` (`choose` is `f64::max` or `f64::min`). By default [`select`]: the operand the primal chooses,
+    /// with a branch instability recorded when the reference could choose the other. A lens whose reference can
+    /// follow the exact `max`/`min` without a decision (both are 1-Lipschitz) overrides it.
+    #[inline]
+    #[track_caller]
+    fn select(self, other: Self, choose: fn(f64, f64) -> f64) -> Self {
+        select(self, other, choose)
+    }
 }
 
 /// Records NaN or an infinity that an operation produced from finite operands. The hot path is one test of the
@@ -637,12 +646,12 @@ macro_rules! lens_scalar {
             #[inline]
             #[track_caller]
             fn max(self, other: $lens<W>) -> $lens<W> {
-                $crate::lens::scalar::select(self, other, f64::max)
+                <$lens<W> as $crate::lens::scalar::Core>::select(self, other, f64::max)
             }
             #[inline]
             #[track_caller]
             fn min(self, other: $lens<W>) -> $lens<W> {
-                $crate::lens::scalar::select(self, other, f64::min)
+                <$lens<W> as $crate::lens::scalar::Core>::select(self, other, f64::min)
             }
             #[inline]
             #[track_caller]

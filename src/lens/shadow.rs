@@ -100,12 +100,13 @@ impl<P: PrimalFormat, const W: bool> Shadowed<P, W> {
     }
 }
 
-type Big = FBig<HalfEven>;
+pub(crate) type Big = FBig<HalfEven>;
 /// Working precision of the shadow's elementary functions.
-const BITS: usize = 160;
+pub(crate) const BITS: usize = 160;
 
-/// A finite double-word value as a `dashu-float` number (exact).
-fn big(x: DoubleWord) -> Option<Big> {
+/// A finite double-word value as a `dashu-float` number, rounded to [`BITS`] bits (exact when `hi` and `lo` fit
+/// in them; within 2^-160 relative otherwise).
+pub(crate) fn big(x: DoubleWord) -> Option<Big> {
     if !x.is_finite() || !x.lo.is_finite() {
         return None;
     }
@@ -115,7 +116,7 @@ fn big(x: DoubleWord) -> Option<Big> {
 }
 
 /// The nearest double-word value of a `dashu-float` number: round to nearest, then the remainder.
-fn double_word(x: &Big) -> DoubleWord {
+pub(crate) fn double_word(x: &Big) -> DoubleWord {
     let hi = x.to_f64().value();
     match Big::try_from(hi) {
         Ok(hi_big) if hi.is_finite() => DoubleWord { hi, lo: (x - hi_big).to_f64().value() },
