@@ -24,7 +24,7 @@ use twinstep::lens::{
     Bound, BoundUnwatched, Certified4Unwatched, CertifiedUnwatched, Format, Interval, IntervalUnwatched, Shadow,
     ShadowUnwatched,
 };
-use twinstep::Real;
+use twinstep::{BaseOps, MixedOps, Real, RefOps};
 
 /// One explicit step of the 1-D heat equation `u_t = u_xx`, fixed ends.
 #[twinstep::audit]
@@ -174,6 +174,7 @@ struct Rod {
     cells: usize,
 }
 
+
 #[twinstep::scenario]
 impl Scenario for Rod {
     fn fields(&self) -> Vec<FieldSpec> {
@@ -220,6 +221,7 @@ struct Plate {
     n: usize,
 }
 
+#[twinstep::scenario]
 impl Scenario for Plate {
     fn fields(&self) -> Vec<FieldSpec> {
         vec![FieldSpec::new("u", &[self.n, self.n])]
@@ -229,12 +231,7 @@ impl Scenario for Plate {
         vec![profile::<f64>(self.n * self.n)]
     }
 
-    fn step<T>(&self, levels: &mut Levels<T>)
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
+    fn step<T>(&self, levels: &mut Levels<T>) {
         diffusion_2d_twin::<T>(&levels.current[0], &mut levels.next[0], self.n, T::from_f64(0.2));
     }
 }
@@ -257,6 +254,7 @@ struct Wave {
     cells: usize,
 }
 
+#[twinstep::scenario]
 impl Scenario for Wave {
     fn fields(&self) -> Vec<FieldSpec> {
         vec![FieldSpec::new("y", &[self.cells])]
@@ -266,24 +264,14 @@ impl Scenario for Wave {
         twinstep::audit::Scheme::ThreeLevel
     }
 
-    fn init<T>(&self, levels: &mut Levels<T>) -> Result<(), twinstep::audit::Error>
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
+    fn init<T>(&self, levels: &mut Levels<T>) -> Result<(), twinstep::audit::Error> {
         let n = self.cells;
         let y: Vec<f64> = (0..n).map(|i| if i == 0 || i == n - 1 { 0.0 } else { profile::<f64>(n)[i] }).collect();
         levels.current[0].set_f64(&y)?;
         levels.previous[0].set_f64(&y)
     }
 
-    fn step<T>(&self, levels: &mut Levels<T>)
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
+    fn step<T>(&self, levels: &mut Levels<T>) {
         wave_1d_twin::<T>(&levels.previous[0], &levels.current[0], &mut levels.next[0], T::from_f64(0.81));
     }
 }

@@ -42,6 +42,7 @@ struct Pipe {
     courant: f64,
 }
 
+
 #[twinstep::scenario]
 impl Scenario for Pipe {
     fn fields(&self) -> Vec<FieldSpec> {

@@ -38,6 +38,7 @@ struct Greenhouse {
     r: f64,
 }
 
+
 #[twinstep::scenario]
 impl Scenario for Greenhouse {
     fn fields(&self) -> Vec<FieldSpec> {

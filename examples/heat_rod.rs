@@ -34,6 +34,7 @@ struct Rod {
     r: f64,
 }
 
+
 #[twinstep::scenario]
 impl Scenario for Rod {
     fn fields(&self) -> Vec<FieldSpec> {

@@ -47,6 +47,7 @@ struct GuitarString {
     courant: f64,
 }
 
+
 #[twinstep::scenario]
 impl Scenario for GuitarString {
     fn fields(&self) -> Vec<FieldSpec> {

@@ -16,6 +16,7 @@ struct Case {
     fields: Vec<FieldSpec>,
     panic_at: Option<u64>,
 }
+
 #[twinstep::scenario]
 impl Scenario for Case {
     fn fields(&self) -> Vec<FieldSpec> {

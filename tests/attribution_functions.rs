@@ -28,6 +28,7 @@ struct Growth {
     x: Vec<f64>,
     c: f64,
 }
+
 #[twinstep::scenario]
 impl Scenario for Growth {
     fn fields(&self) -> Vec<FieldSpec> {

@@ -16,6 +16,7 @@ struct Faulty {
     panic_at: Option<u64>,
 }
 
+
 #[twinstep::scenario]
 impl Scenario for Faulty {
     fn fields(&self) -> Vec<FieldSpec> {

@@ -32,6 +32,7 @@ struct Case {
     tenth: bool,
 }
 
+
 #[twinstep::scenario]
 impl Scenario for Case {
     fn fields(&self) -> Vec<FieldSpec> {

@@ -28,6 +28,7 @@ impl Cooling {
     }
 }
 
+
 #[twinstep::scenario]
 impl Scenario for Cooling {
     fn fields(&self) -> Vec<FieldSpec> {

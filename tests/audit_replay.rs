@@ -56,6 +56,7 @@ struct Walk {
     start: f64,
 }
 
+
 #[twinstep::scenario]
 impl Scenario for Walk {
     fn fields(&self) -> Vec<FieldSpec> {

@@ -153,7 +153,7 @@ fn an_undecided_limiter_ends_the_certificate_at_its_line() {
     let source = include_str!("../fixtures/src/advection_minmod.rs");
     let line = source.lines().position(|l| l.contains("if a * b <= 0.0")).expect("the limiter's test") as u32 + 1;
     assert!(
-        sites.iter().any(|(kind, site, _)| *kind == EventKind::BranchInstability
+        sites.iter().any(|(kind, site, _)| *kind == EventKind::UndecidedComparison
             && site.file.ends_with("advection_minmod.rs")
             && site.line == line),
         "sites {sites:?}, expected advection_minmod.rs:{line}"

@@ -23,6 +23,7 @@ struct Rod {
     cells: usize,
     offset: f64,
 }
+
 #[twinstep::scenario]
 impl Scenario for Rod {
     fn fields(&self) -> Vec<FieldSpec> {

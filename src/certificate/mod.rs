@@ -314,7 +314,7 @@ impl Certificate {
         let clashes = take_clashes();
         let undecided: Vec<_> = events
             .iter()
-            .filter(|(kind, _, _)| matches!(kind, EventKind::BranchInstability | EventKind::IndexInstability))
+            .filter(|(kind, _, _)| matches!(kind, EventKind::UndecidedComparison | EventKind::UndecidedIndex))
             .copied()
             .collect();
         if self.end.is_none() && !undecided.is_empty() {

@@ -604,7 +604,7 @@ impl<const K: usize, const W: bool> Core for CertifiedOf<K, W> {
         let positive = gap > 0.0;
         if !positive || !shadow.is_finite() {
             if ry > 0.0 {
-                record(EventKind::DivisionByZeroEnclosure); // the divisor's ball holds zero
+                record(EventKind::DivisorMayBeZero); // the divisor's ball holds zero
             }
             return Self::unbounded(primal, shadow);
         }
@@ -638,7 +638,7 @@ impl<const K: usize, const W: bool> Core for CertifiedOf<K, W> {
         let quotient = <Self as Core>::div(self, rhs);
         let (lo, hi) = quotient.ball();
         if q.is_finite() && (lo.trunc() != q || hi.trunc() != q) {
-            record(EventKind::BranchInstability);
+            record(EventKind::UndecidedComparison);
         }
         <Self as Core>::sub(self, <Self as Core>::exact(q).times(rhs)).with_primal(c)
     }

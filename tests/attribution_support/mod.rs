@@ -82,6 +82,7 @@ impl Planted {
         u
     }
 }
+
 #[twinstep::scenario]
 impl Scenario for Planted {
     fn fields(&self) -> Vec<FieldSpec> {

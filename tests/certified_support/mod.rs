@@ -322,6 +322,8 @@ pub fn line<F: Step>(start: Vec<f64>, step: F) -> Case<F> {
     Case { fields: vec![FieldSpec::new("u", &[start.len()])], scheme: Scheme::TwoLevel, start: vec![start], step }
 }
 
+
+#[twinstep::scenario]
 impl<F: Step> Scenario for Case<F> {
     fn fields(&self) -> Vec<FieldSpec> {
         self.fields.clone()
@@ -331,12 +333,7 @@ impl<F: Step> Scenario for Case<F> {
         self.scheme
     }
 
-    fn init<T>(&self, levels: &mut Levels<T>) -> Result<(), Error>
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
+    fn init<T>(&self, levels: &mut Levels<T>) -> Result<(), Error> {
         if self.step.init(levels) {
             return Ok(());
         }
@@ -349,12 +346,7 @@ impl<F: Step> Scenario for Case<F> {
         Ok(())
     }
 
-    fn step<T>(&self, levels: &mut Levels<T>)
-    where
-        T: Real + BaseOps<f64>,
-        f64: MixedOps<T>,
-        for<'a> &'a T: RefOps<T>,
-    {
+    fn step<T>(&self, levels: &mut Levels<T>) {
         self.step.run(levels);
     }
 }

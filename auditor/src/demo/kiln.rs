@@ -71,6 +71,7 @@ impl Wall {
     }
 }
 
+
 #[twinstep::scenario]
 impl Scenario for Wall {
     fn fields(&self) -> Vec<FieldSpec> {
