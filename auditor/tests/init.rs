@@ -116,10 +116,10 @@ fn library_kernel_harness_is_written_then_built_and_run() {
     let output = twinstep(&args);
     assert_eq!(output.status.code(), Some(0), "{}", stderr(&output));
     let report = stdout(&output);
-    assert!(report.contains("## twinstep audit: heat_step"), "{report}");
+    assert!(report.contains("## twinstep audit of heat_step"), "{report}");
     assert!(report.contains("> **Verdict:"), "{report}");
     // Under `twinstep run` the harness leaves the report to the CLI: it appears once.
-    assert_eq!(report.matches("twinstep audit: heat_step").count(), 1, "{report}");
+    assert_eq!(report.matches("twinstep audit of heat_step").count(), 1, "{report}");
     // The harness's step_original calls the original kernel: its values are the twin's with T = f64, bit for bit.
     let text = std::fs::read_to_string(&trace).unwrap();
     assert!(text.contains(r#""record":"summary""#) && !text.contains("primal_mismatch"), "{text}");
