@@ -174,7 +174,6 @@ struct Rod {
     cells: usize,
 }
 
-
 #[twinstep::scenario]
 impl Scenario for Rod {
     fn fields(&self) -> Vec<FieldSpec> {

@@ -42,7 +42,6 @@ struct Pipe {
     courant: f64,
 }
 
-
 #[twinstep::scenario]
 impl Scenario for Pipe {
     fn fields(&self) -> Vec<FieldSpec> {

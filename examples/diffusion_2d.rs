@@ -38,7 +38,6 @@ struct Greenhouse {
     r: f64,
 }
 
-
 #[twinstep::scenario]
 impl Scenario for Greenhouse {
     fn fields(&self) -> Vec<FieldSpec> {

@@ -34,7 +34,6 @@ struct Rod {
     r: f64,
 }
 
-
 #[twinstep::scenario]
 impl Scenario for Rod {
     fn fields(&self) -> Vec<FieldSpec> {

@@ -47,7 +47,6 @@ struct GuitarString {
     courant: f64,
 }
 
-
 #[twinstep::scenario]
 impl Scenario for GuitarString {
     fn fields(&self) -> Vec<FieldSpec> {

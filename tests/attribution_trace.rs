@@ -19,11 +19,7 @@ fn trace_with_attribution() -> (String, AttributionRecord) {
     static CALLS: std::sync::atomic::AtomicUsize = std::sync::atomic::AtomicUsize::new(0);
     let call = CALLS.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
     let path = std::env::temp_dir().join(format!("twinstep-attribution-{}-{call}.jsonl", std::process::id()));
-    Audit::new(&rod, Tolerance::absolute(1e-9), STEPS)
-        .trace(&path)
-        .lens::<Shadow>()
-        .run()
-        .expect("the audit runs");
+    Audit::new(&rod, Tolerance::absolute(1e-9), STEPS).trace(&path).lens::<Shadow>().run().expect("the audit runs");
     let text = std::fs::read_to_string(&path).expect("the trace");
     let _ = std::fs::remove_file(&path);
     let record = Attribution::new(&rod, STEPS).run().expect("the attribution runs");

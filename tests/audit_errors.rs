@@ -16,7 +16,6 @@ struct Faulty {
     panic_at: Option<u64>,
 }
 
-
 #[twinstep::scenario]
 impl Scenario for Faulty {
     fn fields(&self) -> Vec<FieldSpec> {

@@ -32,7 +32,6 @@ struct Case {
     tenth: bool,
 }
 
-
 #[twinstep::scenario]
 impl Scenario for Case {
     fn fields(&self) -> Vec<FieldSpec> {

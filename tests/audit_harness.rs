@@ -28,7 +28,6 @@ impl Cooling {
     }
 }
 
-
 #[twinstep::scenario]
 impl Scenario for Cooling {
     fn fields(&self) -> Vec<FieldSpec> {

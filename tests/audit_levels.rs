@@ -96,7 +96,6 @@ struct Decay {
     seen: Mutex<Vec<(u64, f64, f64)>>,
 }
 
-
 #[twinstep::scenario]
 impl Scenario for Decay {
     fn fields(&self) -> Vec<FieldSpec> {

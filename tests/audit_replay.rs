@@ -56,7 +56,6 @@ struct Walk {
     start: f64,
 }
 
-
 #[twinstep::scenario]
 impl Scenario for Walk {
     fn fields(&self) -> Vec<FieldSpec> {

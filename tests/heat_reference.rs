@@ -81,7 +81,6 @@ fn values_of<L: Lens<Watched = L> + 'static>(field: &dyn Any) -> Option<Vec<L>> 
     Some(unwatched.iter().map(|&cell| cell.watched()).collect())
 }
 
-
 #[twinstep::scenario]
 impl Scenario for Rod {
     fn fields(&self) -> Vec<FieldSpec> {

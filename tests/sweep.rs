@@ -54,8 +54,7 @@ fn scratch(name: &str) -> std::path::PathBuf {
 fn bisection_finds_the_least_precision_that_meets_the_tolerance() {
     let rod = Rod { cells: 16, offset: 0.0 };
     let path = scratch("least");
-    let outcome =
-        Sweep::new(&rod, Tolerance::absolute(1e-9), 200).kernel("heat_step").trace(&path).run().unwrap();
+    let outcome = Sweep::new(&rod, Tolerance::absolute(1e-9), 200).kernel("heat_step").trace(&path).run().unwrap();
     let least = outcome.summary.least_bits.expect("binary64 meets 1e-9 on values of order 1");
     // Errors of order 2^-p·(a few) on values ≤ 1 (unit roundoff, Higham §2.2, from memory): binary32 (2^-24 ≈
     // 6e-8) cannot meet 1e-9, binary64 can, so the least precision lies strictly between them.

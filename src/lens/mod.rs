@@ -66,14 +66,14 @@ pub mod shadow;
 
 pub use attributed::{Attributed, AttributedOf, AttributedUnwatched};
 pub use bound::{Bound, BoundOf, BoundUnwatched};
+pub use certified::{
+    Certified, Certified16, Certified16Unwatched, Certified4, Certified4Unwatched, CertifiedOf, CertifiedUnwatched,
+};
 pub use emulated::{
     Bfloat16, Bfloat16Of, Bfloat16Unwatched, Binary16, Binary16Of, Binary16Unwatched, Binary32, Binary32Of,
     Binary32Unwatched, Bits, BitsOf, BitsUnwatched,
 };
 pub use format::{bits_format_scope, Format, FormatError};
-pub use certified::{
-    Certified, Certified16, Certified16Unwatched, Certified4, Certified4Unwatched, CertifiedOf, CertifiedUnwatched,
-};
 pub use interval::{Interval, IntervalOf, IntervalUnwatched};
 pub use reference::{literal_mode, set_literal_mode, with_literal_mode, LiteralMode, Reference};
 pub use shadow::{Shadow, ShadowOf, ShadowUnwatched, Shadowed};

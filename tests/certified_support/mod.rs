@@ -322,7 +322,6 @@ pub fn line<F: Step>(start: Vec<f64>, step: F) -> Case<F> {
     Case { fields: vec![FieldSpec::new("u", &[start.len()])], scheme: Scheme::TwoLevel, start: vec![start], step }
 }
 
-
 #[twinstep::scenario]
 impl<F: Step> Scenario for Case<F> {
     fn fields(&self) -> Vec<FieldSpec> {

@@ -71,7 +71,6 @@ impl Wall {
     }
 }
 
-
 #[twinstep::scenario]
 impl Scenario for Wall {
     fn fields(&self) -> Vec<FieldSpec> {
