@@ -10,7 +10,7 @@ use dashu_float::round::mode::HalfEven;
 use dashu_float::FBig;
 use dashu_ratio::RBig;
 use proptest::prelude::*;
-use twinstep::lens::{Bound, Interval, Lens, Shadow};
+use twinstep::lens::{Bound, Enclosure, Interval, Lens, Shadow};
 use twinstep::Real;
 
 type Big = FBig<HalfEven>;
@@ -43,7 +43,7 @@ struct Uncertain {
 
 fn uncertain(p: f64, k: i32, t: u8) -> Uncertain {
     let r = p.abs() * 2f64.powi(-k);
-    let enclosure = inari::Interval::try_from((p - r, p + r)).expect("ordered");
+    let enclosure = Enclosure::new(p - r, p + r).expect("ordered");
     let (lo, hi) = (rational(enclosure.inf()), rational(enclosure.sup()));
     let exact = &lo + (&hi - &lo) * RBig::from(t) / RBig::from(4);
     // The ball must hold the whole enclosure: its radius is the larger distance from p, rounded up.
@@ -160,7 +160,7 @@ proptest! {
 /// The dashu-float value of X = lo + t(hi − lo) (as in [`uncertain`]) for the elementary-function checks.
 fn big_exact(p: f64, k: i32, t: u8) -> Big {
     let r = p.abs() * 2f64.powi(-k);
-    let e = inari::Interval::try_from((p - r, p + r)).expect("ordered");
+    let e = Enclosure::new(p - r, p + r).expect("ordered");
     let (lo, hi) = (big(e.inf()), big(e.sup()));
     &lo + (&hi - &lo) * Big::from(t) / Big::from(4u8)
 }
@@ -293,19 +293,46 @@ proptest! {
 }
 
 #[test]
-fn constants_match_inaris_enclosures() {
+fn constants_are_enclosed_tightly() {
+    use dashu_float::round::mode::{Down, Up};
     use twinstep::Constant;
-    // inari ships tight enclosures of the std constants (inari::Interval::PI etc.), an independent source.
-    let inari_value = |c: Constant| -> inari::Interval {
-        macro_rules! table {
-            ($($name:ident),*) => { match c { $(Constant::$name => inari::Interval::$name),* } };
+    // Each constant's enclosure must be the two adjacent doubles around the real number: its value at 256 bits
+    // by dashu-float (π and e by its own routines, the rest from ln 2, ln 10 and √2 as in `std::f64::consts`'
+    // definitions), rounded to 53 bits down and up by dashu-float's directed rounding — an independent
+    // computation from the one the lens's constant table makes (which rounds to nearest and compares). A 300-bit
+    // value could round across a double only if the constant lay within 2^-299 (relative) of one.
+    let at = |bits: usize, c: Constant| -> Big {
+        let n = |k: u32| Big::from(k).with_precision(bits).value();
+        let (pi, ln2, ln10, sqrt2) = (Big::pi(bits), n(2).ln(), n(10).ln(), n(2).sqrt());
+        match c {
+            Constant::PI => pi,
+            Constant::TAU => pi * n(2),
+            Constant::E => Big::e(bits),
+            Constant::SQRT_2 => sqrt2,
+            Constant::LN_2 => ln2,
+            Constant::LN_10 => ln10,
+            Constant::LOG2_E => n(1) / ln2,
+            Constant::LOG10_E => n(1) / ln10,
+            Constant::LOG2_10 => ln10 / ln2,
+            Constant::LOG10_2 => ln2 / ln10,
+            Constant::FRAC_PI_2 => pi / n(2),
+            Constant::FRAC_PI_3 => pi / n(3),
+            Constant::FRAC_PI_4 => pi / n(4),
+            Constant::FRAC_PI_6 => pi / n(6),
+            Constant::FRAC_PI_8 => pi / n(8),
+            Constant::FRAC_1_PI => n(1) / pi,
+            Constant::FRAC_2_PI => n(2) / pi,
+            Constant::FRAC_2_SQRT_PI => n(2) / pi.sqrt(),
+            Constant::FRAC_1_SQRT_2 => n(1) / sqrt2,
         }
-        twinstep::with_constant_names!(table)
     };
     for c in Constant::ALL {
+        let value = at(300, c);
+        let down = value.clone().with_rounding::<Down>().with_precision(53).value().to_f64().value();
+        let up = value.with_rounding::<Up>().with_precision(53).value().to_f64().value();
         let ours = Interval::constant(c).enclosure();
-        let theirs = inari_value(c);
-        assert_eq!((ours.inf(), ours.sup()), (theirs.inf(), theirs.sup()), "{}", c.name());
+        assert_eq!((ours.inf(), ours.sup()), (down, up), "{}", c.name());
+        assert!(down < up, "{}: an irrational constant is no double", c.name());
         let ball = Bound::constant(c);
         // A constant held to the nearest double is off by at most half an ulp, u·|x| with u = 2^-53 (IEEE
         // 754-2019 §4.3.1, round to nearest): a radius below 2u·|x| = ε·|x| is the tightest a ball can honestly be.

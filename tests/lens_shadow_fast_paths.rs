@@ -8,49 +8,23 @@
 //! §4.2.2), for the claim that the fast paths return the algorithm's own doubles; IEEE 754-2019 for the
 //! non-finite cases.
 
+mod double_word_support;
+
 use dashu_ratio::RBig;
+use double_word_support::{double_word, dw_times_dw3, rational, value};
 use proptest::prelude::*;
-use twinstep::lens::eft::{two_diff, two_sum, DoubleWord};
+use twinstep::lens::eft::{two_diff, two_sum, DoubleWord, Products};
 use twinstep::lens::{Lens, Shadow, ShadowUnwatched};
 use twinstep::Real;
-
-fn rational(x: f64) -> RBig {
-    RBig::try_from(x).expect("finite")
-}
-
-fn value(x: DoubleWord) -> RBig {
-    rational(x.hi) + rational(x.lo)
-}
 
 /// Random doubles with random magnitudes between 2^-40 and 2^40, either sign.
 fn operand() -> impl Strategy<Value = f64> {
     (-1.0f64..1.0, -40i32..40).prop_map(|(m, e)| m * 2f64.powi(e)).prop_filter("non-zero", |x| *x != 0.0)
 }
 
-/// A normalized double-word number hi + lo, |lo| ≤ ulp(hi)/2 (lo = fraction · ulp(hi)/2, ulp(hi) the gap to
-/// the next double away from zero: consecutive encodings of same-signed doubles, IEEE 754-2019 §3.4).
-fn double_word(hi: f64, fraction: f64) -> DoubleWord {
-    let ulp = f64::from_bits(hi.abs().to_bits() + 1) - hi.abs();
-    DoubleWord { hi, lo: fraction * ulp / 2.0 }
-}
-
 /// A power of two ±2^k.
 fn power_of_two() -> impl Strategy<Value = f64> {
     (-60i32..60, any::<bool>()).prop_map(|(k, negative)| if negative { -(2f64.powi(k)) } else { 2f64.powi(k) })
-}
-
-/// DWTimesDW3 exactly as JMP 2017 state it (Algorithm 12, from memory), with no shortcut:
-/// (ch, cl1) = 2Prod(xh, yh); tl0 = RN(xl·yl); tl1 = RN(xh·yl + tl0); cl2 = RN(xl·yh + tl1); cl3 = RN(cl1 + cl2);
-/// (zh, zl) = Fast2Sum(ch, cl3).
-fn dw_times_dw3(x: DoubleWord, y: DoubleWord) -> (f64, f64) {
-    let ch = x.hi * y.hi;
-    let cl1 = x.hi.mul_add(y.hi, -ch);
-    let tl0 = x.lo * y.lo;
-    let tl1 = x.hi.mul_add(y.lo, tl0);
-    let cl2 = x.lo.mul_add(y.hi, tl1);
-    let cl3 = cl1 + cl2;
-    let zh = ch + cl3;
-    (zh, cl3 - (zh - ch))
 }
 
 /// The relative error |computed − exact| / |exact| as a rational, compared with 2^-k.
@@ -72,9 +46,10 @@ proptest! {
         // terms of a left double, and the general path for a right one, must give Algorithm 12's doubles (zeros
         // compared by value: the sign of a zero lo may differ).
         let (x, y) = (DoubleWord::from_f64(a), double_word(b, f));
+        // With the fused products the algorithm is stated with (the split ones: tests/lens_eft_paths.rs).
         for (left, right) in [(x, y), (y, x), (x, DoubleWord::from_f64(b))] {
-            let fast = left * right;
-            let (hi, lo) = dw_times_dw3(left, right);
+            let fast = left.mul_with(right, Products::Fused);
+            let (hi, lo) = dw_times_dw3(Products::Fused, left, right);
             prop_assert!(fast.hi == hi && fast.lo == lo, "{left:?} * {right:?}: {fast:?} vs ({hi:e}, {lo:e})");
             // And the result is within JMP's bound for Algorithm 12, 4u² = 2^-104 (from memory), of the exact
             // product; 2^-103 leaves room for the bound's higher-order terms.
@@ -88,9 +63,9 @@ proptest! {
         // product that fits the format is delivered exactly); the fast path returns that pair, and so does
         // Algorithm 12.
         let (x, y) = (DoubleWord::from_f64(k), double_word(b, f));
-        let fast = x * y;
+        let fast = x.mul_with(y, Products::Fused);
         prop_assert_eq!(value(fast), value(x) * value(y));
-        let (hi, lo) = dw_times_dw3(x, y);
+        let (hi, lo) = dw_times_dw3(Products::Fused, x, y);
         prop_assert!(fast.hi == hi && fast.lo == lo, "{fast:?} vs ({hi:e}, {lo:e})");
     }
 

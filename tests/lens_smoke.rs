@@ -1,6 +1,6 @@
 //! Smoke checks of the lens surface: literals as written, events at the user's site.
 
-use twinstep::events::{drain, EventKind};
+use twinstep::events::{Collector, EventKind};
 use twinstep::lens::{literal_mode, Bound, Interval, Lens, Reference, Shadow};
 use twinstep::Real;
 
@@ -22,13 +22,13 @@ fn one_tenth_as_written() {
 
 #[test]
 fn comparison_records_an_undecided_comparison_at_the_callers_line() {
-    let _ = drain();
+    let events = Collector::start::<Bound>();
     let x = Bound::new(1.0, 1e-10);
     let y = Bound::from_f64(1.0 + 1e-12);
     let line = line!() + 1;
     let below = x < y;
     assert!(below);
-    let events = drain();
+    let events = events.take();
     assert_eq!(events.len(), 1, "{events:?}");
     assert_eq!(events[0].0, EventKind::UndecidedComparison);
     assert_eq!(events[0].1.line, line);

@@ -125,8 +125,8 @@ Exit codes: 0 the summary was written, 2 no trace given, unreadable, or without 
     #[command(after_help = "The harness (an example, binary or test of your crate) must write its trace to the path \
 in the TWINSTEP_TRACE environment variable, which `Audit::new` does unless told otherwise (`twinstep init` writes \
 such a harness).\n\
-It is built in its own target directory (default <workspace>/target/twinstep) with -C target-cpu=haswell on x86-64 \
-appended to CARGO_ENCODED_RUSTFLAGS, so your own build settings and artefacts stay untouched.\n\
+It is built in its own target directory (default <workspace>/target/twinstep) with -C target-cpu=native appended to \
+CARGO_ENCODED_RUSTFLAGS (for speed only: no flag is needed), so your own build settings and artefacts stay untouched.\n\
 A progress bar is drawn on stderr when it is a terminal.\n\
 Exit codes: 0 the harness ran and its report was written, 2 usage or input error, 3 the build or the harness failed \
 (its partial trace, if any, is still reported).")]

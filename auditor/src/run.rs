@@ -2,9 +2,14 @@
 //! cargo, with what the lenses need, without touching the user's own build.
 //!
 //! Why a separate target directory (`<workspace>/target/twinstep` by default): the harness is built with
-//! `-C target-cpu=haswell` on x86-64 (the interval lens's FMA and AVX2 rounding instructions) and in the release
-//! profile; sharing the user's `target/` would rebuild their production artefacts with those settings and back.
-//! The flag is passed through `CARGO_ENCODED_RUSTFLAGS`, appended to what the user's environment already sets.
+//! `-C target-cpu=native` and in the release profile; sharing the user's `target/` would rebuild their production
+//! artefacts with those settings and back. The flag is for speed only — twinstep builds and audits correctly with
+//! no flags on any target — and it is safe because the harness runs where it is built: with a hardware fused
+//! multiply-add in reach (x86-64 since Haswell; every AArch64), the lenses' error-free products take it instead of
+//! Veltkamp–Dekker splitting, and the loops use the machine's widest vectors. Floating-point results do not depend
+//! on it (Rust never contracts `a * b + c` into a fused operation, and `mul_add` is IEEE fusedMultiplyAdd on
+//! every target). The flag is passed through `CARGO_ENCODED_RUSTFLAGS`, appended to what the user's environment
+//! already sets; a `target-cpu` of the user's own wins.
 //!
 //! The harness learns where to write its trace from the `TWINSTEP_TRACE` environment variable; while it runs, the
 //! growing trace feeds a progress bar on stderr when stderr is a terminal. When it ends, the trace is rendered; the
@@ -114,17 +119,17 @@ impl RunRequest {
 }
 
 /// `CARGO_ENCODED_RUSTFLAGS` for the audit build: the user's flags (encoded, or plain `RUSTFLAGS`, which cargo
-/// would otherwise read) with `-C target-cpu=haswell` appended on x86-64. Flags are separated by 0x1f in the
-/// encoded form (cargo reference, "Environment variables").
+/// would otherwise read) with `-C target-cpu=native` appended unless they name a `target-cpu`. Flags are
+/// separated by 0x1f in the encoded form (cargo reference, "Environment variables").
 #[must_use]
-pub fn encoded_rustflags(encoded: Option<&str>, plain_flags: Option<&str>, arch: &str) -> String {
+pub fn encoded_rustflags(encoded: Option<&str>, plain_flags: Option<&str>) -> String {
     let mut flags: Vec<String> = match (encoded, plain_flags) {
         (Some(e), _) if !e.is_empty() => e.split('\x1f').map(str::to_owned).collect(),
         (_, Some(p)) => p.split_whitespace().map(str::to_owned).collect(),
         _ => Vec::new(),
     };
-    if arch == "x86_64" && !flags.iter().any(|f| f.contains("target-cpu")) {
-        flags.extend(["-C".to_owned(), "target-cpu=haswell".to_owned()]);
+    if !flags.iter().any(|f| f.contains("target-cpu")) {
+        flags.extend(["-C".to_owned(), "target-cpu=native".to_owned()]);
     }
     flags.join("\x1f")
 }
@@ -147,10 +152,7 @@ pub fn command(plan: &RunPlan) -> Command {
     }
     let encoded = std::env::var("CARGO_ENCODED_RUSTFLAGS").ok();
     let plain_flags = std::env::var("RUSTFLAGS").ok();
-    command.env(
-        "CARGO_ENCODED_RUSTFLAGS",
-        encoded_rustflags(encoded.as_deref(), plain_flags.as_deref(), std::env::consts::ARCH),
-    );
+    command.env("CARGO_ENCODED_RUSTFLAGS", encoded_rustflags(encoded.as_deref(), plain_flags.as_deref()));
     command.env_remove("RUSTFLAGS");
     command.env(TRACE_ENV, &plan.trace);
     command.env(RUN_ENV, "1");

@@ -172,7 +172,8 @@ impl<'s, S: Scenario> Attribution<'s, S> {
             Scheme::ThreeLevel => 3,
         };
         table::reset(exact, specs.len());
-        let _ = crate::events::drain(); // nothing from before belongs to this run
+        // Starting the collector drops what earlier runs left; holding it keeps this run's events from another.
+        let collector = crate::events::Collector::start::<AttributedUnwatched>();
         let mut at = 0u64;
         let outcome = catch_unwind(AssertUnwindSafe(|| -> Result<Levels<AttributedUnwatched>, Error> {
             let mut state = Levels::new(&specs, levels, self.scenario.stages());
@@ -189,8 +190,9 @@ impl<'s, S: Scenario> Attribution<'s, S> {
             Ok(state)
         }));
         // Events belong to audits; this run's are dropped so that they do not reach the next audit on the thread.
-        let _ = crate::events::drain();
-        let _ = crate::events::take_unseen_non_finite();
+        let _ = collector.take();
+        let _ = collector.take_unseen_non_finite();
+        drop(collector);
         let sites = table::take();
         let state = outcome.map_err(|payload| Error::ScenarioPanicked {
             lens: "attributed".into(),

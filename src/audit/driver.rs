@@ -14,6 +14,7 @@ use std::time::{Duration, Instant};
 use super::lens_thread::{self, AuditLens, ChunkResult, LensChannels};
 use super::recorder::{LensInfo, Plan};
 use super::{Error, RecordPolicy, Recorder, Scenario, Tolerance, RUN_ENV, TRACE_ENV};
+use crate::events::Collector;
 use crate::trace::Trace;
 
 /// A lens's thread body, instantiated for the lens type when it is added.
@@ -22,6 +23,8 @@ type LensRun<S> = fn(&S, &Plan, LensChannels);
 struct LensEntry<S> {
     info: LensInfo,
     run: LensRun<S>,
+    /// Whether this thread collects the lens's events already (then its threads would wait for it forever).
+    collected_here: fn() -> bool,
 }
 
 /// An audit of a scenario: which lenses, what tolerance, how many steps, where the trace goes.
@@ -110,7 +113,12 @@ impl<'s, S: Scenario> Audit<'s, S> {
     /// non-finite, so both audit the same way under the watched lens's name.
     #[must_use]
     pub fn lens<L: AuditLens>(mut self) -> Self {
-        self.lenses.push(LensEntry { info: LensInfo::of::<L::Watched>(), run: lens_thread::run::<L, S> });
+        let collected_here = Collector::active_here::<L>;
+        self.lenses.push(LensEntry {
+            info: LensInfo::of::<L::Watched>(),
+            run: lens_thread::run::<L, S>,
+            collected_here,
+        });
         self
     }
 
@@ -124,6 +132,12 @@ impl<'s, S: Scenario> Audit<'s, S> {
         for (i, entry) in self.lenses.iter().enumerate() {
             if self.lenses[..i].iter().any(|other| other.info.name == entry.info.name) {
                 return Err(Error::DuplicateLens { lens: entry.info.name.to_string() });
+            }
+            if (entry.collected_here)() {
+                return Err(Error::LensCollectedHere { lens: entry.info.name.to_string() });
+            }
+            if (entry.collected_here)() {
+                return Err(Error::LensCollectedHere { lens: entry.info.name.to_string() });
             }
         }
         let mut recorder = Recorder::for_lenses(&self.plan, self.lenses.iter().map(|l| l.info.clone()).collect())?;

@@ -10,6 +10,7 @@
 //! from the replay, which adds the NaN/∞ events with the line where each value arose. The initial data run with
 //! the watched variant directly (they run once).
 
+use crate::events::Collector;
 use std::panic::{catch_unwind, AssertUnwindSafe};
 use std::sync::mpsc::{Receiver, Sender};
 use std::time::{Duration, Instant};
@@ -93,11 +94,11 @@ const MAX_REPLAYS: usize = 16;
 /// How old a checkpoint may grow before a chunk renews it.
 const CHECKPOINT_AGE: Duration = Duration::from_millis(500);
 
-/// What this thread's lens recorded since the last call: its events, and whether an unwatched variant noted a
+/// What the lens recorded since the last call, on any thread: its events, and whether an unwatched variant noted a
 /// non-finite value the fields may not show (`events::note_unseen_non_finite`). Taken together after every run
 /// of a step, so that nothing one run leaves behind is read as the next one's.
-fn collect() -> (Events, bool) {
-    (crate::events::drain(), crate::events::take_unseen_non_finite())
+fn collect(collector: &Collector) -> (Events, bool) {
+    (collector.take(), collector.take_unseen_non_finite())
 }
 
 /// When a step needs a replay with the watched lens: the first step at which a field's primal or its error turns
@@ -192,8 +193,11 @@ impl<'s, L: AuditLens, S: Scenario> LensThread<'s, L, S> {
     /// The measurements of every step up to state `to` not yet run (the first chunk is the initial data, step 0).
     fn chunk(&mut self, to: u64) -> ChunkResult {
         let mut out = Vec::new();
+        // Held only while this chunk runs, so that another audit of the same lens type can take its turn between
+        // chunks (see `events::Collector`). Starting it drops what earlier runs of the lens left behind.
+        let collector = Collector::start::<L>();
         if self.next.is_none() {
-            out.push(self.initial()?);
+            out.push(self.initial(&collector)?);
             self.next = Some(0);
         }
         // Copying the levels costs about as much as a step reading and writing them, so the checkpoint is renewed
@@ -203,34 +207,33 @@ impl<'s, L: AuditLens, S: Scenario> LensThread<'s, L, S> {
                 Some(Checkpoint { levels: self.twin.clone(), step: self.next.unwrap_or(0), taken: Instant::now() });
         }
         while let Some(n) = self.next.filter(|&n| n < to) {
-            out.push(self.advance(n));
+            out.push(self.advance(n, &collector));
             self.next = Some(n + 1);
         }
         Ok(out)
     }
 
     /// The initial data, written by the watched variant (they run once) and measured.
-    fn initial(&mut self) -> Result<LensStep, Error> {
-        let _ = collect(); // nothing from before the audit belongs to it
+    fn initial(&mut self, collector: &Collector) -> Result<LensStep, Error> {
         let mut watched = self.twin.convert(Lens::watched);
         L::init_watched(self.scenario, &mut watched)?;
-        let (events, _) = collect(); // the watched variant notes nothing
+        let (events, _) = collect(collector); // the watched variant notes nothing
         self.twin = watched.convert(Lens::unwatched);
         self.scenario.init_original(&mut self.original)?;
         if let Some(compiled) = self.compiled.as_mut() {
             with_literal_mode(LiteralMode::AsCompiled, || L::init_unwatched(self.scenario, compiled))?;
         }
-        let _ = collect();
+        let _ = collect(collector);
         let measured = self.observe(0, events);
         let _ = self.trigger.fires(&measured, false); // the watched run already saw the initial data
         Ok(measured)
     }
 
     /// One step `n → n + 1` of the lens, the original and the compiled-literal run, measured.
-    fn advance(&mut self, n: u64) -> LensStep {
+    fn advance(&mut self, n: u64, collector: &Collector) -> LensStep {
         (self.twin.step, self.original.step) = (n, n);
         L::step_unwatched(self.scenario, &mut self.twin);
-        let (events, noted) = collect();
+        let (events, noted) = collect(collector);
         self.scenario.step_original(&mut self.original);
         if let Some(compiled) = self.compiled.as_mut() {
             compiled.step = n;
@@ -238,13 +241,13 @@ impl<'s, L: AuditLens, S: Scenario> LensThread<'s, L, S> {
             compiled.rotate();
         }
         // The original and the compiled-literal run record nothing of interest: their events are dropped.
-        let _ = collect();
+        let _ = collect(collector);
         self.twin.rotate();
         self.original.rotate();
         let mut measured = self.observe(n + 1, events);
         if self.trigger.fires(&measured, noted) {
             if let Some(checkpoint) = &self.checkpoint {
-                measured.events = self.replay(checkpoint, n);
+                measured.events = self.replay(checkpoint, n, collector);
             }
             // Later replays (a NaN keeps meeting comparisons) start from here and cost one step.
             self.checkpoint = Some(Checkpoint { levels: self.twin.clone(), step: n + 1, taken: Instant::now() });
@@ -254,13 +257,13 @@ impl<'s, L: AuditLens, S: Scenario> LensThread<'s, L, S> {
 
     /// Runs steps `checkpoint.step..=step` again from the checkpoint, with the watched variant of the lens, and
     /// returns the events of the last of them (the steps before were recorded when they ran).
-    fn replay(&self, checkpoint: &Checkpoint<L::Unwatched>, step: u64) -> Events {
+    fn replay(&self, checkpoint: &Checkpoint<L::Unwatched>, step: u64, collector: &Collector) -> Events {
         let mut watched = checkpoint.levels.convert(Lens::watched);
         let mut events = Vec::new();
         for k in checkpoint.step..=step {
             watched.step = k;
             L::step_watched(self.scenario, &mut watched);
-            events = crate::events::drain();
+            events = collector.take();
             watched.rotate();
         }
         events

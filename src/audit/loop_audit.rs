@@ -199,6 +199,8 @@ struct LensSink<L> {
     tolerance: Tolerance,
     profiles: bool,
     wrong_scalar: bool,
+    /// The lens's events, from whichever thread the loop computes on; held for the whole run.
+    collector: crate::events::Collector,
     _lens: std::marker::PhantomData<fn() -> L>,
 }
 
@@ -214,8 +216,8 @@ impl<L: Lens> Sink for LensSink<L> {
             return;
         };
         let fields = cells.iter().map(|c| measure(c, &self.tolerance, self.profiles)).collect();
-        let events = crate::events::drain();
-        let _ = crate::events::take_unseen_non_finite();
+        let events = self.collector.take();
+        let _ = self.collector.take_unseen_non_finite();
         let lengths = cells.iter().map(Vec::len).collect();
         let measured = Some(Measured { fields, events });
         let _ = self.to_main.send(Message::Step { step, names: names.to_vec(), lengths, measured, primals });
@@ -313,7 +315,16 @@ impl<'a> LoopAudit<'a> {
     #[must_use]
     pub fn lens<L: Lens>(mut self, run: impl FnOnce() + Send + 'a) -> Self {
         fn sink<L: Lens>(to_main: SyncSender<Message>, tolerance: Tolerance, profiles: bool) -> Box<dyn Sink> {
-            let lens = LensSink::<L> { to_main, tolerance, profiles, wrong_scalar: false, _lens: Default::default() };
+            // Starting the collector drops what earlier runs of the lens left behind.
+            let collector = crate::events::Collector::start::<L>();
+            let lens = LensSink::<L> {
+                to_main,
+                tolerance,
+                profiles,
+                wrong_scalar: false,
+                collector,
+                _lens: Default::default(),
+            };
             Box::new(lens)
         }
         self.lenses.push(Run {
@@ -349,7 +360,6 @@ impl<'a> LoopAudit<'a> {
                 let (to_main, from_run) = sync_channel(AHEAD);
                 let Run { body, sink, .. } = run;
                 scope.spawn(move || {
-                    let _ = crate::events::drain(); // nothing from before the run belongs to it
                     let failed = to_main.clone();
                     let outcome =
                         catch_unwind(AssertUnwindSafe(|| with_sink(sink(to_main, tolerance, profiles), body)));

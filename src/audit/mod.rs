@@ -65,6 +65,9 @@ pub enum Error {
     StepOrder { previous: u64, got: u64 },
     /// The same lens was added twice.
     DuplicateLens { lens: String },
+    /// The calling thread collects the lens's events already (a `Recorder` of it is alive there), so the audit's
+    /// lens thread would wait for it forever.
+    LensCollectedHere { lens: String },
     /// A recorder was given values of a lens it was not created for.
     UnknownLens { lens: String },
     /// The trace file could not be created.
@@ -106,6 +109,11 @@ or override init"
                 write!(f, "step {got} recorded after step {previous}: steps must increase")
             }
             Error::DuplicateLens { lens } => write!(f, "lens {lens} was added twice"),
+            Error::LensCollectedHere { lens } => write!(
+                f,
+                "this thread already collects the events of lens {lens} (a Recorder of it is alive here): finish \
+that recorder before auditing the same lens"
+            ),
             Error::UnknownLens { lens } => write!(f, "the recorder was not created for lens {lens:?}"),
             Error::TraceCreate { path, source } => write!(f, "cannot create trace {}: {source}", path.display()),
             Error::TraceWrite { path, source } => write!(f, "cannot write trace {}: {source}", path.display()),

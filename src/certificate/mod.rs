@@ -18,8 +18,8 @@
 //! [`Route::Auto`] records rows for the first [`PROBE_STEPS`] steps, estimates `ρ(|J̃|)` by a power iteration that
 //! rides along the condensation, and keeps the backward route only when `ρ^horizon` would exceed 10⁶.
 //!
-//! A comparison or integer conversion the ball cannot decide (the lens records a `branch_instability` or
-//! `index_instability` event at the caller's line) means exact arithmetic might take another path: the
+//! A comparison or integer conversion the ball cannot decide (the lens records an `undecided_comparison` or
+//! `undecided_index` event at the caller's line) means exact arithmetic might take another path: the
 //! certificate ends at that step for every cell — the lens cannot tell which cells a control-flow decision
 //! affects — and [`CertificateEnd`] names the step and the sites. A value whose bound is lost (a division by a ball
 //! holding zero, a root of a ball reaching below zero, an overflow) has `D = ∞` from then on: those cells are
@@ -28,15 +28,16 @@
 //! **What the audit driver calls** (one call before the loop, one after each step):
 //!
 //! ```ignore
+//! let events = twinstep::events::Collector::start::<Certified>(); // the lens's events, from every thread
 //! let mut certificate = Certificate::new(&mut levels, CertificateOptions::default(), Some(horizon))?;
 //! // after the initial data are in `levels` (computed through the twin or given as doubles):
 //! let start = certificate.begin(&mut levels);              // D⁰, then seeds step 0
 //! for n in 0..steps {
 //!     levels.step = n;
 //!     scenario.step(&mut levels);                          // the twin, with the (unwatched) certified lens
-//!     let events = twinstep::events::drain();              // the step's events, as the driver takes them now
+//!     let step_events = events.take();                     // the step's events, as the driver takes them
 //!     levels.rotate();
-//!     let facts = certificate.after_step(&mut levels, &events); // condenses, anchors, seeds step n + 1
+//!     let facts = certificate.after_step(&mut levels, &step_events); // condenses, anchors, seeds step n + 1
 //!     // measure `levels.current` now: Lens::error_bound is the upper end of the guaranteed interval
 //! }
 //! ```

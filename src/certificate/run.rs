@@ -87,8 +87,11 @@ where
         }
     };
     let mut levels = Levels::<CertifiedOf<K, false>>::new(&fields, levels_of(scenario.scheme()), scenario.stages());
+    // Starting the collector drops what earlier runs of the lens left behind; it takes the lens's events from
+    // every thread the scenario computes on.
+    let collector = crate::events::Collector::start::<CertifiedOf<K, false>>();
     catch_unwind(AssertUnwindSafe(|| scenario.init(&mut levels))).map_err(panicked(0))??;
-    let _ = crate::events::drain();
+    let _ = collector.take();
     let probe_colouring = options.colouring.is_none();
     let mut certificate = Certificate::new(&mut levels, options, Some(steps)).map_err(|e| match e {
         SetupError::TooManyCells | SetupError::ColouringMismatch => {
@@ -98,14 +101,14 @@ where
     let start = certificate.begin(&mut levels);
     observe(&levels, &start);
     if probe_colouring {
-        choose_colouring(scenario, &mut certificate, &mut levels).map_err(panicked(0))?;
+        choose_colouring(scenario, &mut certificate, &mut levels, &collector).map_err(panicked(0))?;
     }
     let mut clashes = 0;
     let mut last = start;
     for n in 0..steps {
         levels.step = n;
         catch_unwind(AssertUnwindSafe(|| scenario.step(&mut levels))).map_err(panicked(n))?;
-        let events = crate::events::drain();
+        let events = collector.take();
         levels.rotate();
         last = certificate.after_step(&mut levels, &events);
         clashes += last.clashes;
@@ -132,6 +135,7 @@ fn choose_colouring<S: Scenario, const K: usize>(
     scenario: &S,
     certificate: &mut Certificate,
     levels: &mut Levels<CertifiedOf<K, false>>,
+    collector: &crate::events::Collector,
 ) -> Result<(), Box<dyn std::any::Any + Send>>
 where
     CertifiedOf<K, false>: Real + BaseOps<f64>,
@@ -143,7 +147,7 @@ where
         let _ = certificate.recolour(&mut copy, colouring.clone());
         let _ = take_clashes();
         catch_unwind(AssertUnwindSafe(|| scenario.step(&mut copy)))?;
-        let _ = crate::events::drain();
+        let _ = collector.take();
         Ok(take_clashes())
     };
     let first = certificate.colouring().clone();

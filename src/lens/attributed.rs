@@ -400,7 +400,7 @@ impl<const W: bool> Core for AttributedOf<W> {
     fn div(self, rhs: Self) -> Self {
         // The shadow divides by zero where the primal does not: the shadow lens's event.
         if rhs.shadow.hi == 0.0 && rhs.primal.hi != 0.0 {
-            crate::events::record(crate::events::EventKind::DivisorMayBeZero);
+            crate::events::record::<Self>(crate::events::EventKind::DivisorMayBeZero);
         }
         self.arith(rhs, Arith::Div, Location::caller())
     }

@@ -18,7 +18,9 @@
 //! Elementary functions go through [`super::elementary`] (libm plus a documented allowance).
 
 use crate::events::{record, EventKind};
+use crate::lens::eft::mul_acc;
 use crate::lens::elementary::interval;
+use crate::lens::enclosure::Enclosure;
 use crate::lens::reference::Reference;
 use crate::lens::scalar::{Core, Orders};
 use crate::lens::Lens;
@@ -33,12 +35,17 @@ const INFLATION: f64 = 1.0 + 16.0 * U;
 /// The radius of a result `c` rounded to nearest whose exact counterpart lies within `propagated` of the exact
 /// operation on the primals: an upper bound of `u·|c| + η/2 + propagated`, where `propagated` is a formula of
 /// non-negative terms evaluated in round-to-nearest with at most 10 roundings (and at most 10 subnormal
-/// products, each off by ≤ η/2). Two FMAs, one rounding each:
-/// `fl(2u·|c| + fl(propagated·(1 + 16u) + τ))` ≥ `(1 − u)²·(2u|c| + (1 − u)^10 (1 + 16u)·exact + τ)` ≥
+/// products, each off by ≤ η/2). Two multiply-adds ([`mul_acc`]): with a hardware FMA one rounding each,
+/// `fl(2u·|c| + fl(propagated·(1 + 16u) + τ))` ≥ `(1 − u)²·(2u|c| + (1 − u)^10 (1 + 16u)·exact + τ)`, where
+/// `(1 − u)^12·(1 + 16u) ≥ 1 + 4u`; without, two roundings each,
+/// `fl(fl(2u·|c|) + fl(fl(propagated·(1 + 16u)) + τ))` ≥
+/// `(1 − u)·(2u|c| − η/2) + (1 − u)^13 (1 + 16u)·exact + (1 − u)²·τ − η/2`, where `(1 − u)^13·(1 + 16u) ≥ 1 + 2u`
+/// (the product `2u·|c|` is a power-of-two scaling, exact unless subnormal, and a subnormal
+/// `propagated·(1 + 16u)` is off by at most η/2: τ covers both). Either way the result is at least
 /// `u|c| + exact + 5η`, with τ = [`FLOOR`] ≥ 8η.
 #[inline(always)]
 fn radius_of(c: f64, propagated: f64) -> f64 {
-    c.abs().mul_add(2.0 * U, propagated.mul_add(INFLATION, FLOOR))
+    mul_acc(c.abs(), 2.0 * U, mul_acc(propagated, INFLATION, FLOOR))
 }
 
 /// The absolute term of every radius, 2^-1019: a *normal* number, far above the 8η the subnormal roundings need,
@@ -74,9 +81,9 @@ impl<const W: bool> BoundOf<W> {
         }
     }
 
-    /// The enclosure `[primal − radius, primal + radius]`, rounded outward by inari.
+    /// The enclosure `[primal − radius, primal + radius]`, rounded outward.
     #[must_use]
-    pub fn enclosure(self) -> inari::Interval {
+    pub fn enclosure(self) -> Enclosure {
         if self.radius == 0.0 {
             interval(self.primal, self.primal)
         } else {
@@ -85,8 +92,8 @@ impl<const W: bool> BoundOf<W> {
     }
 
     /// The primal with the smallest radius whose ball contains the enclosure `out`: `max|out − primal|`,
-    /// computed outward by inari. An empty `out` (a domain error) loses the bound.
-    fn around(primal: f64, out: inari::Interval) -> Self {
+    /// computed outward. An empty `out` (a domain error) loses the bound.
+    fn around(primal: f64, out: Enclosure) -> Self {
         if out.is_empty() || !primal.is_finite() {
             return Self { primal, radius: f64::INFINITY };
         }
@@ -150,7 +157,7 @@ impl<const W: bool> Core for BoundOf<W> {
         // exactly (r = 0: a literal that is its double, an f64 input or parameter, as in `2.0 * u[i]` and
         // `r * (…)`) leaves |x|s; the select says so, and for a constant operand the compiler drops the other
         // terms (IEEE arithmetic cannot fold 0·(|y| + s) away by itself). 1-D heat: see docs/lenses.md, Cost.
-        let propagated = if r == 0.0 { x.abs() * s } else { x.abs().mul_add(s, r * (y.abs() + s)) };
+        let propagated = if r == 0.0 { x.abs() * s } else { mul_acc(x.abs(), s, r * (y.abs() + s)) };
         Self { primal: c, radius: radius_of(c, propagated) }
     }
 
@@ -166,7 +173,7 @@ impl<const W: bool> Core for BoundOf<W> {
         let radius = radius_of(c, propagated);
         let divisor_holds_zero = denominator.is_nan() || denominator <= 0.0;
         if divisor_holds_zero && s > 0.0 {
-            record(EventKind::DivisorMayBeZero);
+            record::<Self>(EventKind::DivisorMayBeZero);
         }
         Self { primal: c, radius: if divisor_holds_zero { f64::INFINITY } else { radius } }
     }
@@ -180,7 +187,7 @@ impl<const W: bool> Core for BoundOf<W> {
         let quotient_bound = (x / y).abs() * (1.0 + 2.0 * U) + ETA;
         let quotients = self.enclosure() / rhs.enclosure();
         if (s > 0.0 || r > 0.0) && quotients.inf().trunc() != quotients.sup().trunc() {
-            record(EventKind::UndecidedComparison); // the exact quotient may truncate to another integer
+            record::<Self>(EventKind::UndecidedComparison); // the exact quotient may truncate to another integer
         }
         Self { primal: c, radius: radius_of(0.0, r + quotient_bound * s) }
     }
@@ -195,7 +202,7 @@ impl<const W: bool> Core for BoundOf<W> {
         let (x, r, y, s) = (self.primal, self.radius, a.primal, a.radius);
         let c = x.mul_add(y, b.primal);
         // one rounding: |c − (xy + z)| ≤ u|c| + η/2;  propagated |x|s + r(|y| + s) + t
-        Self { primal: c, radius: radius_of(c, x.abs().mul_add(s, r * (y.abs() + s)) + b.radius) }
+        Self { primal: c, radius: radius_of(c, mul_acc(x.abs(), s, r * (y.abs() + s)) + b.radius) }
     }
 
     #[inline(always)]

@@ -36,7 +36,7 @@
 //! proven error radii — the one assumption, stated in docs/lenses.md).
 //!
 //! **Decisions.** Comparisons, integer conversions, `floor` and the other step functions are decided on the ball
-//! `ṽ ± R`; an undecided one records a `branch_instability` / `index_instability` event at the caller's line, which
+//! `ṽ ± R`; an undecided one records a `undecided_comparison` / `undecided_index` event at the caller's line, which
 //! ends the certificate (the runner reads the events). `max`, `min` and `abs` need no decision: undecided, they
 //! keep a rigorous value without coefficients (both are 1-Lipschitz), see [`CertifiedOf::select`].
 
@@ -604,7 +604,7 @@ impl<const K: usize, const W: bool> Core for CertifiedOf<K, W> {
         let positive = gap > 0.0;
         if !positive || !shadow.is_finite() {
             if ry > 0.0 {
-                record(EventKind::DivisorMayBeZero); // the divisor's ball holds zero
+                record::<Self>(EventKind::DivisorMayBeZero); // the divisor's ball holds zero
             }
             return Self::unbounded(primal, shadow);
         }
@@ -638,7 +638,7 @@ impl<const K: usize, const W: bool> Core for CertifiedOf<K, W> {
         let quotient = <Self as Core>::div(self, rhs);
         let (lo, hi) = quotient.ball();
         if q.is_finite() && (lo.trunc() != q || hi.trunc() != q) {
-            record(EventKind::UndecidedComparison);
+            record::<Self>(EventKind::UndecidedComparison);
         }
         <Self as Core>::sub(self, <Self as Core>::exact(q).times(rhs)).with_primal(c)
     }

@@ -1,8 +1,8 @@
 //! Rigorous enclosures of the elementary functions over an input enclosure, without MPFR, for [`super::Bound`]
 //! and [`super::Interval`].
 //!
-//! inari built without its MPFR feature has only the basic operations, so these functions evaluate the system
-//! libm in `f64` and widen outward. The assumption (stated in `docs/lenses.md`): every libm function used here is
+//! The interval core ([`Enclosure`]) has the basic operations only, so these functions evaluate the system libm
+//! in `f64` and widen outward. The assumption (stated in `docs/lenses.md`): every libm function used here is
 //! within [`LIBM_ULPS`] units in the last place of the true result for finite arguments (glibc documents ≤ 1–2
 //! ulps for these functions on x86-64; we allow 4). The widening is twice that, plus a few subnormals, computed in
 //! round-to-nearest so that the rounding of the widening itself is covered.
@@ -11,7 +11,9 @@
 //! `cos` use a second-order Taylor bound around the midpoint; `tan` detects a pole in the range; `atan2` uses
 //! the gradient bound away from the origin and the branch cut.
 
-use inari::{const_interval, Interval};
+use crate::lens::enclosure::Enclosure as Interval;
+use crate::lens::reference::constant_reference;
+use crate::Constant;
 
 /// The assumed maximum error of libm's elementary functions, in ulps of the result.
 pub const LIBM_ULPS: f64 = 4.0;
@@ -37,12 +39,18 @@ fn up(v: f64) -> f64 {
     -down(-v)
 }
 
-/// The interval `[lo, hi]`, or the empty set when the bounds are NaN or crossed (a domain error).
+/// The interval `[lo, hi]`, or the empty set when the bounds are NaN or crossed (a domain error):
+/// [`Interval::between`].
 #[must_use]
 pub fn interval(lo: f64, hi: f64) -> Interval {
-    let lo = if lo == f64::INFINITY { f64::MAX } else { lo };
-    let hi = if hi == f64::NEG_INFINITY { f64::MIN } else { hi };
-    Interval::try_from((lo, hi)).unwrap_or(Interval::EMPTY)
+    Interval::between(lo, hi)
+}
+
+/// The enclosure of a constant of `std::f64::consts`: the doubles below and above the real number, from its
+/// 256-bit value ([`constant_reference`]).
+fn constant(c: Constant) -> Interval {
+    let r = constant_reference(c);
+    interval(r.down, r.up)
 }
 
 /// The enclosure of libm results `lo ≤ hi` standing for true values.
@@ -72,7 +80,7 @@ fn within(x: Interval, lo: f64, hi: f64) -> Interval {
     x.intersection(interval(lo, hi))
 }
 
-/// √x, increasing on [0, ∞) (correctly rounded in IEEE 754-2019; inari's is used).
+/// √x, increasing on [0, ∞) (correctly rounded in IEEE 754-2019, so the tightest enclosure: [`Interval::sqrt`]).
 #[must_use]
 pub fn sqrt(x: Interval) -> Interval {
     x.sqrt()
@@ -147,7 +155,7 @@ pub fn acos(x: Interval) -> Interval {
 /// arctan, increasing, inside (−π/2, π/2).
 #[must_use]
 pub fn atan(x: Interval) -> Interval {
-    let half_pi = Interval::FRAC_PI_2.sup();
+    let half_pi = constant(Constant::FRAC_PI_2).sup();
     increasing(x, f64::atan).intersection(interval(-half_pi, half_pi))
 }
 
@@ -177,7 +185,7 @@ pub fn cosh(x: Interval) -> Interval {
 /// sin or cos around the midpoint m with radius r: |f(m + h) − f(m)| ≤ r·|f′(m)| + r²/2 (Taylor with Lagrange
 /// remainder, |f″| ≤ 1), inside [−1, 1].
 fn periodic(x: Interval, f: fn(f64) -> f64, derivative: fn(f64) -> f64) -> Interval {
-    let unit = const_interval!(-1.0, 1.0);
+    let unit = interval(-1.0, 1.0);
     if x.is_empty() {
         return x;
     }
@@ -187,7 +195,7 @@ fn periodic(x: Interval, f: fn(f64) -> f64, derivative: fn(f64) -> f64) -> Inter
     }
     let slope = widened(derivative(m).abs(), derivative(m).abs()); // |f′(m)| with the libm allowance
     let radius = interval(r, r);
-    let spread = (radius * slope + radius * radius * const_interval!(0.5, 0.5)).sup(); // r·|f′(m)| + r²/2, ↑
+    let spread = (radius * slope + radius * radius * interval(0.5, 0.5)).sup(); // r·|f′(m)| + r²/2, ↑
     let centre = widened(f(m), f(m));
     (centre + interval(-spread, spread)).intersection(unit)
 }
@@ -212,7 +220,7 @@ pub fn tan(x: Interval) -> Interval {
         return x;
     }
     let (a, b) = (x.inf().tan(), x.sup().tan());
-    if x.wid().is_nan() || x.wid() >= Interval::PI.inf() || a > b {
+    if x.wid().is_nan() || x.wid() >= constant(Constant::PI).inf() || a > b {
         return Interval::ENTIRE;
     }
     widened(a, b)
@@ -283,7 +291,7 @@ pub fn hypot(x: Interval, y: Interval) -> Interval {
 /// the centre ± (r_x + r_y)/d, where d ≤ the box's distance to the origin bounds 1/|∇atan2| = √(x² + y²).
 #[must_use]
 pub fn atan2(y: Interval, x: Interval) -> Interval {
-    let pi = Interval::PI.sup();
+    let pi = constant(Constant::PI).sup();
     let whole = interval(-pi, pi);
     if x.is_empty() || y.is_empty() {
         return Interval::EMPTY;
@@ -303,8 +311,8 @@ pub fn atan2(y: Interval, x: Interval) -> Interval {
 }
 
 /// Implements the elementary functions of [`super::scalar::Core`] for an enclosure lens through the functions of
-/// this module. The lens provides `fn enclosure(self) -> inari::Interval` (its reference as an enclosure) and
-/// `fn around(primal: f64, enclosure: inari::Interval) -> Self`; the primal is always the `f64` function of the
+/// this module. The lens provides `fn enclosure(self) -> Enclosure` (its reference as an enclosure) and
+/// `fn around(primal: f64, enclosure: Enclosure) -> Self`; the primal is always the `f64` function of the
 /// primal, as the float program computes it.
 #[macro_export]
 #[doc(hidden)]

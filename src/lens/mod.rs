@@ -2,7 +2,7 @@
 //! branches and index casts follow) with a *reference* that tells how far rounding has moved it.
 //!
 //! One lens per file, all behind [`Lens`]: [`Bound`] (midpoint and rigorous radius, the fast default),
-//! [`Interval`] (inf–sup enclosure with inari), [`Shadow`] (a double-double running the same operations). The
+//! [`Interval`] (inf–sup enclosure, IEEE 1788-2015, our own pure-Rust [`enclosure`] core), [`Shadow`] (a double-double running the same operations). The
 //! operator boilerplate every lens shares — mixed operations with `f64`, references, compound assignment,
 //! comparisons that record undecided comparisons, `Sum`, the whole [`crate::Real`] surface — is written once in
 //! [`scalar`] and instantiated per lens from the lens's small [`scalar::Core`] of primitive operations.
@@ -52,10 +52,12 @@ use variant_conversions;
 pub mod attributed;
 pub mod bound;
 pub mod certified;
+pub mod directed;
 pub mod dwmath;
 pub mod eft;
 pub mod elementary;
 pub mod emulated;
+pub mod enclosure;
 pub mod format;
 pub mod interval;
 pub mod num;
@@ -73,6 +75,7 @@ pub use emulated::{
     Bfloat16, Bfloat16Of, Bfloat16Unwatched, Binary16, Binary16Of, Binary16Unwatched, Binary32, Binary32Of,
     Binary32Unwatched, Bits, BitsOf, BitsUnwatched,
 };
+pub use enclosure::Enclosure;
 pub use format::{bits_format_scope, Format, FormatError};
 pub use interval::{Interval, IntervalOf, IntervalUnwatched};
 pub use reference::{literal_mode, set_literal_mode, with_literal_mode, LiteralMode, Reference};

@@ -62,9 +62,12 @@ impl Orders {
 
 /// The primitive operations of a lens. Everything else is derived by [`lens_scalar!`](crate::lens_scalar!).
 ///
+/// `'static` because events are filed under the lens type that recorded them (`events::record::<Self>`), from
+/// whichever thread computes.
+///
 /// Each operation computes the primal exactly as the float program would (`a + b`, `x.exp()` in `f64`) and the
 /// lens's reference side alongside.
-pub trait Core: Copy + Sized {
+pub trait Core: Copy + Sized + 'static {
     /// Whether operations test their result for NaN/∞ and record the event at the caller (one predicted branch
     /// per operation, which keeps loops from vectorizing; see `docs/lenses.md`).
     const WATCH: bool = true;
@@ -169,7 +172,7 @@ pub trait Core: Copy + Sized {
 #[track_caller]
 pub fn watch<T: Core>(out: T, operands_finite: impl FnOnce() -> bool) -> T {
     if T::WATCH && !out.primal().is_finite() {
-        non_finite(out.primal(), operands_finite());
+        non_finite::<T>(out.primal(), operands_finite());
     }
     out
 }
@@ -177,9 +180,9 @@ pub fn watch<T: Core>(out: T, operands_finite: impl FnOnce() -> bool) -> T {
 #[cold]
 #[inline(never)]
 #[track_caller]
-fn non_finite(value: f64, operands_finite: bool) {
+fn non_finite<T: Core>(value: f64, operands_finite: bool) {
     if operands_finite {
-        record(if value.is_nan() { EventKind::Nan } else { EventKind::Infinity });
+        record::<T>(if value.is_nan() { EventKind::Nan } else { EventKind::Infinity });
     }
 }
 
@@ -190,7 +193,7 @@ fn non_finite(value: f64, operands_finite: bool) {
 #[doc(hidden)]
 pub fn note_unseen<T: Core>(finite: bool) {
     if !T::WATCH && !finite {
-        crate::events::note_unseen_non_finite();
+        crate::events::note_unseen_non_finite::<T>();
     }
 }
 
@@ -205,7 +208,7 @@ pub fn compare<T: Core>(a: T, b: T, predicate: fn(Ordering) -> bool) -> bool {
     };
     let answer = predicate(order);
     if !a.orders(b).all_give(predicate, answer) {
-        record(EventKind::UndecidedComparison);
+        record::<T>(EventKind::UndecidedComparison);
     }
     answer
 }
@@ -217,7 +220,7 @@ pub fn order<T: Core>(a: T, b: T) -> Option<Ordering> {
     note_unseen::<T>(a.primal().is_finite() && b.primal().is_finite());
     let order = a.primal().partial_cmp(&b.primal())?;
     if !a.orders(b).all_give(|o| o == order, true) {
-        record(EventKind::UndecidedComparison);
+        record::<T>(EventKind::UndecidedComparison);
     }
     Some(order)
 }
@@ -245,7 +248,7 @@ pub fn decide<T: Core, R: PartialEq>(x: T, step: impl Fn(f64) -> R, kind: EventK
     note_unseen::<T>(x.primal().is_finite());
     let (lo, hi) = x.range();
     if x.primal().is_finite() && (step(lo) != primal || step(hi) != primal) {
-        record(kind);
+        record::<T>(kind);
     }
     primal
 }

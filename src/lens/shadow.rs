@@ -210,7 +210,7 @@ impl<P: PrimalFormat, const W: bool> Core for Shadowed<P, W> {
     #[track_caller]
     fn div(self, rhs: Self) -> Self {
         if rhs.shadow.hi == 0.0 && rhs.primal != 0.0 {
-            record(EventKind::DivisorMayBeZero); // the shadow divides by zero where the primal does not
+            record::<Self>(EventKind::DivisorMayBeZero); // the shadow divides by zero where the primal does not
         }
         Self::of(P::div(self.primal, rhs.primal), self.shadow.div(rhs.shadow))
     }
@@ -233,7 +233,7 @@ impl<P: PrimalFormat, const W: bool> Core for Shadowed<P, W> {
             }
         };
         if q.is_finite() && quotient.is_finite() && truncated != q {
-            record(EventKind::UndecidedComparison);
+            record::<Self>(EventKind::UndecidedComparison);
         }
         Self::of(c, shadow)
     }

@@ -73,6 +73,8 @@ pub struct Recorder {
     /// Steps whose profiles were written (every profiled lens and field has one at each).
     profiled_steps: usize,
     started: Instant,
+    /// The lens's events from every thread, for a recorder of the user's own loop (the driver takes them itself).
+    collector: Option<crate::events::Collector>,
 }
 
 /// A step whose records wait for the next `EVENT_CONTEXT` steps: written if an event comes near it.
@@ -91,8 +93,12 @@ impl Recorder {
     ///
     /// After each step (and, if wanted, for the initial data as step 0) call [`Recorder::record_step`], then
     /// [`Recorder::finish`]. A recorder dropped without `finish` leaves a trace without summary: an incomplete run.
+    ///
+    /// From here until the recorder is dropped it collects the events of `L` on every thread
+    /// ([`crate::events::Collector`]): another recorder or audit of the same lens type on another thread waits.
     pub fn create<L: Lens>(plan: &Plan) -> Result<Recorder, Error> {
-        Recorder::for_lenses(plan, vec![LensInfo::of::<L>()])
+        let collector = crate::events::Collector::start::<L>();
+        Ok(Recorder { collector: Some(collector), ..Recorder::for_lenses(plan, vec![LensInfo::of::<L>()])? })
     }
 
     pub(crate) fn for_lenses(plan: &Plan, lenses: Vec<LensInfo>) -> Result<Recorder, Error> {
@@ -132,11 +138,12 @@ impl Recorder {
             last_step: None,
             profiled_steps: 0,
             started: Instant::now(),
+            collector: None,
         })
     }
 
     /// Records the state of every field after `step` (fields in the plan's order), with the events the lens
-    /// recorded on this thread since the last call.
+    /// recorded since the last call, on this thread and every other.
     pub fn record_step<L: Lens>(&mut self, step: u64, fields: &[&[L]]) -> Result<(), Error> {
         if self.lenses.len() != 1 || self.lenses[0].name != L::NAME {
             return Err(Error::UnknownLens { lens: L::NAME.to_string() });
@@ -155,7 +162,7 @@ impl Recorder {
             .enumerate()
             .map(|(i, f)| measure::measure(f, &self.plan.tolerance, self.plan.profiled(i)))
             .collect();
-        let events = crate::events::drain();
+        let events = self.collector.as_ref().map(crate::events::Collector::take).unwrap_or_default();
         self.ingest(LensStep { step, fields: measured, events, mismatches: Vec::new() }.into_all())
     }
 
