@@ -2,7 +2,7 @@
 //! shadow is from exact arithmetic — a guarantee meant to last the whole time loop, when the
 //! [`crate::certificate`] runner condenses it once per step.
 //!
-//! Within one step every value carries an *affine form* over the step's inputs (DESIGN §3b; docs/lenses.md,
+//! Within one step every value carries an *affine form* over the step's inputs (docs/lenses.md,
 //! "Certified"): with `s` the inputs' shadows, `D` rigorous radii `|s_j − u_j| ≤ D_j` of the exact inputs `u`, and
 //! `δ_j = ξ_j − s_j` for any `ξ` in the ball `B = {|ξ_j − s_j| ≤ D_j}`,
 //!
