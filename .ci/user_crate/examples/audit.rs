@@ -56,7 +56,10 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
         });
         let found = found.map(|t| (t.steps, t.count, t.first_step));
         if found != Some((6, 6 * CELLS as u64, 10)) {
-            return Err(format!("lens {lens}: branch instabilities in src/lib.rs {found:?}, expected 6 steps, 6000, from 10").into());
+            return Err(format!(
+                "lens {lens}: branch instabilities in src/lib.rs {found:?}, expected 6 steps, 6000, from 10"
+            )
+            .into());
         }
     }
     Ok(())

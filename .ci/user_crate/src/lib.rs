@@ -2,6 +2,9 @@
 //! rayon inside the kernel, a decimal literal, a comparison, a square root — annotated with `#[twinstep::audit]`.
 //! Invented for the check; twinstep judges rounding error only, not discretization or modelling error.
 
+pub mod held_out_string;
+pub mod held_out_swe;
+
 use rayon::prelude::*;
 
 /// A tenth off every cell, folded at zero, and the root of the folded value, one rayon task per chunk of cells.
