@@ -11,21 +11,32 @@ use twinstep::trace::{parse, AttributionRecord, Pattern, ReadError, Record, Reme
 
 const STEPS: u64 = 50;
 
-/// A real trace of the planted rod, with the attribution record of the same run inserted before the summary (as
-/// an audit that attributes writes it).
+/// A real trace of the planted rod from an audit that attributes its error (`Audit::attribute`), and the record of
+/// the same attribution run alone: the audit runs the same `Attribution`, so the two must be equal.
 fn trace_with_attribution() -> (String, AttributionRecord) {
     let rod = Planted::new(1024.0);
     // One file per call: the tests run in parallel.
     static CALLS: std::sync::atomic::AtomicUsize = std::sync::atomic::AtomicUsize::new(0);
     let call = CALLS.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
     let path = std::env::temp_dir().join(format!("twinstep-attribution-{}-{call}.jsonl", std::process::id()));
-    Audit::new(&rod, Tolerance::absolute(1e-9), STEPS).trace(&path).lens::<Shadow>().run().expect("the audit runs");
+    Audit::new(&rod, Tolerance::absolute(1e-9), STEPS)
+        .trace(&path)
+        .lens::<Shadow>()
+        .attribute()
+        .run()
+        .expect("the audit runs");
     let text = std::fs::read_to_string(&path).expect("the trace");
     let _ = std::fs::remove_file(&path);
     let record = Attribution::new(&rod, STEPS).run().expect("the attribution runs");
-    let line = serde_json::to_string(&Record::Attribution(record.clone())).expect("serializes");
-    let (body, summary) = text.trim_end().rsplit_once('\n').expect("a summary line");
-    (format!("{body}\n{line}\n{summary}\n"), record)
+    (text, record)
+}
+
+#[test]
+fn the_audit_writes_the_record_of_the_same_attribution_before_its_summary() {
+    let (text, record) = trace_with_attribution();
+    let lines: Vec<&str> = text.lines().collect();
+    let written: Record = serde_json::from_str(lines[lines.len() - 2]).expect("a record");
+    assert_eq!(written, Record::Attribution(record), "the last step's attribution comes just before the summary");
 }
 
 #[test]
