@@ -177,3 +177,38 @@ fn an_attribution_asked_for_wrongly_is_a_clear_error_and_writes_no_file() {
     assert_eq!(error.exit_code(), 2, "a mistake in the harness");
     assert!(!path.exists(), "no file for a harness mistake");
 }
+
+/// A step that adds nothing but exact zeros: every operation is exact (x + 0 = x, IEEE 754-2019 §6.3), so no line
+/// makes any error and there is no share to divide.
+struct Still;
+
+#[twinstep::scenario]
+impl Scenario for Still {
+    fn fields(&self) -> Vec<FieldSpec> {
+        vec![FieldSpec::new("w", &[4])]
+    }
+
+    fn initial_values(&self) -> Vec<Vec<f64>> {
+        vec![vec![1.0, 2.0, 3.0, 4.0]]
+    }
+
+    fn step<T>(&self, levels: &mut Levels<T>) {
+        for i in 0..4 {
+            levels.next[0][i] = levels.current[0][i] + T::from_f64(0.0);
+        }
+    }
+}
+
+#[test]
+fn a_field_without_error_has_no_share_and_says_so() {
+    let path = scratch("attribution_report_still.jsonl");
+    let trace = Audit::new(&Still, Tolerance::absolute(1e-12), 10)
+        .trace(&path)
+        .lens::<Shadow>()
+        .attribute()
+        .run()
+        .expect("the audit runs");
+    assert_eq!(trace.attribution[0].fields[0].error, 0.0);
+    let text = render(&trace, Format::Text, false);
+    assert!(text.contains("No line has a share of the error of w: at the attributed step it is zero"), "{text}");
+}

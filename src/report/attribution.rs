@@ -440,6 +440,16 @@ fn field_blocks(field: &FieldRanking) -> Vec<Block> {
     let at = if field.worst_cell.is_empty() { String::new() } else { format!(" in cell {:?}", field.worst_cell) };
     let error = field.error.map_or_else(|| format::LOST.to_owned(), format::error);
     let mut blocks = vec![Block::Paragraph { text: format!("Field `{}`: error {error}{at}.", field.field) }];
+    if field.lines.is_empty() {
+        // A share divides the error at the worst cell: there is none to divide when it is zero or not finite.
+        blocks.push(Block::Paragraph {
+            text: format!(
+                "No line has a share of the error of `{}`: at the attributed step it is zero or not a finite number.",
+                field.field
+            ),
+        });
+        return blocks;
+    }
     let head =
         ["#", "line", "source", "share", "cancelled bits (mean / max)", "absorbed bits (mean / max)", "runs", "remedy"];
     let align = vec![
