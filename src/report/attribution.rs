@@ -500,18 +500,25 @@ fn field_blocks(field: &FieldRanking) -> Vec<Block> {
     let source_of = |f: &Finding| {
         field.lines.iter().find(|l| l.file == f.file && l.line == f.line).and_then(|l| l.source.as_deref())
     };
+    let mut said: Option<Remedy> = None;
     for (i, finding) in field.findings.iter().take(TOP_FINDINGS).enumerate() {
         let lead = if i == 0 { "Line to change" } else { "Also" };
         let hits: Vec<String> = finding.patterns.iter().map(hit_words).collect();
         let background = finding.patterns.iter().find_map(|h| h.background);
+        // One remedy for several lines is said once, in full, at the first.
+        let remedy = if said == Some(finding.remedy) {
+            "the same".to_owned()
+        } else {
+            remedy_sentence(finding.remedy, background)
+        };
+        said = Some(finding.remedy);
         blocks.push(Block::Paragraph {
             text: format!(
-                "{lead}: {} — {} of the error of `{}`: {}. Remedy: {}.",
+                "{lead}: {} — {} of the error of `{}`: {}. Remedy: {remedy}.",
                 line_name(&finding.file, finding.line, source_of(finding)),
                 percent(finding.share),
                 field.field,
                 hits.join("; "),
-                remedy_sentence(finding.remedy, background)
             ),
         });
     }
