@@ -123,3 +123,29 @@ fn an_accumulation_loop_is_named_a_long_sum() {
     let site = record.sites.iter().find(|s| s.site.as_ref().is_some_and(|x| x.line == line)).expect("the site");
     assert_eq!((site.ops.count, site.ops.chained), (64 * 64, 64 * 56));
 }
+
+#[test]
+fn a_remedy_applied_reads_back_and_must_name_declared_fields() {
+    let (text, _) = trace_with_attribution();
+    let applied = |remedied: &str| {
+        let member = format!(
+            r#","applied":[{{"field":"u","remedied":"{remedied}","remedy":"carry_perturbation","background":1024.0}}]}}"#
+        );
+        let lines: Vec<String> = text
+            .lines()
+            .map(|l| {
+                if l.starts_with(r#"{"record":"attribution""#) {
+                    format!("{}{member}", &l[..l.len() - 1])
+                } else {
+                    l.to_owned()
+                }
+            })
+            .collect();
+        lines.join("\n") + "\n"
+    };
+    let trace = parse(&applied("u")).expect("a remedy naming a declared field reads");
+    let read = &trace.attribution[0].applied[0];
+    assert_eq!((read.field.as_str(), read.remedied.as_str(), read.remedy), ("u", "u", Remedy::CarryPerturbation));
+    assert_eq!(read.background, Some(1024.0));
+    assert!(matches!(parse(&applied("v")), Err(ReadError::UnknownName { .. })), "an undeclared field is refused");
+}
