@@ -11,21 +11,32 @@ use twinstep::trace::{parse, AttributionRecord, Pattern, ReadError, Record, Reme
 
 const STEPS: u64 = 50;
 
-/// A real trace of the planted rod, with the attribution record of the same run inserted before the summary (as
-/// an audit that attributes writes it).
+/// A real trace of the planted rod from an audit that attributes its error (`Audit::attribute`), and the record of
+/// the same attribution run alone: the audit runs the same `Attribution`, so the two must be equal.
 fn trace_with_attribution() -> (String, AttributionRecord) {
     let rod = Planted::new(1024.0);
     // One file per call: the tests run in parallel.
     static CALLS: std::sync::atomic::AtomicUsize = std::sync::atomic::AtomicUsize::new(0);
     let call = CALLS.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
     let path = std::env::temp_dir().join(format!("twinstep-attribution-{}-{call}.jsonl", std::process::id()));
-    Audit::new(&rod, Tolerance::absolute(1e-9), STEPS).trace(&path).lens::<Shadow>().run().expect("the audit runs");
+    Audit::new(&rod, Tolerance::absolute(1e-9), STEPS)
+        .trace(&path)
+        .lens::<Shadow>()
+        .attribute()
+        .run()
+        .expect("the audit runs");
     let text = std::fs::read_to_string(&path).expect("the trace");
     let _ = std::fs::remove_file(&path);
     let record = Attribution::new(&rod, STEPS).run().expect("the attribution runs");
-    let line = serde_json::to_string(&Record::Attribution(record.clone())).expect("serializes");
-    let (body, summary) = text.trim_end().rsplit_once('\n').expect("a summary line");
-    (format!("{body}\n{line}\n{summary}\n"), record)
+    (text, record)
+}
+
+#[test]
+fn the_audit_writes_the_record_of_the_same_attribution_before_its_summary() {
+    let (text, record) = trace_with_attribution();
+    let lines: Vec<&str> = text.lines().collect();
+    let written: Record = serde_json::from_str(lines[lines.len() - 2]).expect("a record");
+    assert_eq!(written, Record::Attribution(record), "the last step's attribution comes just before the summary");
 }
 
 #[test]
@@ -111,4 +122,30 @@ fn an_accumulation_loop_is_named_a_long_sum() {
     // 64 terms a row, the first eight of each chain below the run length: 56 of 64 sums continue a long chain.
     let site = record.sites.iter().find(|s| s.site.as_ref().is_some_and(|x| x.line == line)).expect("the site");
     assert_eq!((site.ops.count, site.ops.chained), (64 * 64, 64 * 56));
+}
+
+#[test]
+fn a_remedy_applied_reads_back_and_must_name_declared_fields() {
+    let (text, _) = trace_with_attribution();
+    let applied = |remedied: &str| {
+        let member = format!(
+            r#","applied":[{{"field":"u","remedied":"{remedied}","remedy":"carry_perturbation","background":1024.0}}]}}"#
+        );
+        let lines: Vec<String> = text
+            .lines()
+            .map(|l| {
+                if l.starts_with(r#"{"record":"attribution""#) {
+                    format!("{}{member}", &l[..l.len() - 1])
+                } else {
+                    l.to_owned()
+                }
+            })
+            .collect();
+        lines.join("\n") + "\n"
+    };
+    let trace = parse(&applied("u")).expect("a remedy naming a declared field reads");
+    let read = &trace.attribution[0].applied[0];
+    assert_eq!((read.field.as_str(), read.remedied.as_str(), read.remedy), ("u", "u", Remedy::CarryPerturbation));
+    assert_eq!(read.background, Some(1024.0));
+    assert!(matches!(parse(&applied("v")), Err(ReadError::UnknownName { .. })), "an undeclared field is refused");
 }

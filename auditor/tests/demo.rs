@@ -16,6 +16,9 @@ use twinstep_cli::demo::kiln::{wall_step, Wall};
 
 const STEPS: u64 = 60_000;
 
+/// The kernel's inner update, as `auditor/src/demo/kiln.rs` writes it.
+const INNER: &str = "out[i] = u[i] + r * (u[i - 1] - 2.0 * u[i] + u[i + 1]) + heat;";
+
 /// An f64 as an exact rational (every finite double is a dyadic rational, IEEE 754-2019 §3.2).
 fn rational(x: f64) -> RBig {
     RBig::try_from(x).expect("finite double")
@@ -92,6 +95,33 @@ fn shadow_estimates_match_the_exact_rational_solution() {
     let (t_err, _) = oracle_error(&temperature, &wall, STEPS);
     let (rise_err, _) = oracle_error(&rise, &wall, STEPS);
     assert!(t_err > 1e-9 && rise_err < 1e-12, "T {t_err:e}, rise {rise_err:e}");
+
+    // The report names the lines where the firing increment meets the 1300 K background — the kernel's three
+    // lines that add `heat`, the line to change first — with the remedy, and sets the remedy applied (the same
+    // kernel on `rise`) beside them: both measured errors are the exact-rational oracle's (written with three
+    // digits, as every report writes an error), and so is the drop.
+    let text = twinstep_cli::report::render(&trace, twinstep_cli::report::Format::Text, false);
+    let source = include_str!("../src/demo/kiln.rs");
+    let kernel = ["out[0] = u[0] + heat;", "out[n - 1] = u[n - 1] + heat;", INNER];
+    let named = |code: &str| {
+        let line = source.lines().position(|l| l.trim() == code).expect("a line of the kernel") + 1;
+        format!("auditor/src/demo/kiln.rs:{line} {code} — ")
+    };
+    let first = text.split("Line to change: ").nth(1).expect("a line to change");
+    assert!(kernel.iter().any(|code| first.starts_with(&named(code))), "{first}");
+    for code in kernel {
+        assert!(text.contains(&format!("Also: {}", named(code))) || first.starts_with(&named(code)), "{code}: {text}");
+    }
+    assert!(text.contains("Remedy: carry the perturbation — the rise above the background of about 1.30e3"), "{text}");
+    let error = twinstep::report::format::error;
+    let measured = format!(
+        "Remedy applied: field rise carries T as the rise above the background 1.30e3 (the remedy above, applied). \
+Measured by lens shadow at step {STEPS}: T {}, rise {}: the error drops {}.",
+        error(t_err),
+        error(rise_err),
+        twinstep::report::format::times(t_err / rise_err)
+    );
+    assert!(text.contains(&measured), "{measured:?} in\n{text}");
 }
 
 #[test]

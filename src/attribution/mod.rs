@@ -13,6 +13,7 @@
 //! single-threaded; a kernel that computes on rayon workers attributes the operations of those threads to no
 //! one (their site tables are their own), which shows as a residual.
 
+mod options;
 mod pattern;
 pub(crate) mod table;
 
@@ -24,6 +25,7 @@ use crate::lens::attributed::{AttributedUnwatched, Contributions};
 use crate::trace::{AttributionRecord, FieldAttribution, LineFacts, OpFacts, Share, SiteFacts, SiteRecord};
 use table::{Op, SiteState, Stats};
 
+pub use options::AttributeOptions;
 pub use pattern::{PATTERN_BITS, SIGNIFICANT_SHARE};
 pub use table::{Exact, LONG_SUM_RUN, OTHER_SLOT, PRECISION_BITS, REPRESENTATION_SLOT, SLOTS};
 
@@ -149,7 +151,15 @@ impl<'s, S: Scenario> Attribution<'s, S> {
             .collect();
         lines.sort_by(|a, b| b.largest_share().total_cmp(&a.largest_share()));
         let findings = pattern::find(&lines, &sites);
-        Ok(AttributionRecord { step: self.steps, slots: (OTHER_SLOT - 1) as u32, fields, lines, sites, findings })
+        Ok(AttributionRecord {
+            step: self.steps,
+            slots: (OTHER_SLOT - 1) as u32,
+            fields,
+            lines,
+            sites,
+            findings,
+            applied: Vec::new(),
+        })
     }
 
     /// The signed error `primal − shadow` of every cell of every field after one run in which `exact` is

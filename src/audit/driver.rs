@@ -5,6 +5,11 @@
 //! together (a guaranteed bound is judged against the best estimate of the same step). So the threads run a
 //! chunk of steps, the main thread records it, and the next chunk starts; the chunk length adapts so that a
 //! chunk takes about a tenth of a second, which keeps the trace on disk close behind the run.
+//!
+//! An audit asked to attribute its error ([`Audit::attribute`]) runs the [`crate::attribution::Attribution`] of
+//! the same scenario on one more thread, beside the lenses, and the recorder writes its record into the same
+//! trace after the records of the step it measures: the chunks stop at that step until the record is there, so
+//! the trace stays in step order.
 
 use std::path::PathBuf;
 use std::process::ExitCode;
@@ -14,11 +19,15 @@ use std::time::{Duration, Instant};
 use super::lens_thread::{self, AuditLens, ChunkResult, LensChannels};
 use super::recorder::{LensInfo, Plan};
 use super::{Error, RecordPolicy, Recorder, Scenario, Tolerance, RUN_ENV, TRACE_ENV};
+use crate::attribution::AttributeOptions;
 use crate::events::Collector;
-use crate::trace::Trace;
+use crate::trace::{AttributionRecord, Trace};
 
 /// A lens's thread body, instantiated for the lens type when it is added.
 type LensRun<S> = fn(&S, &Plan, LensChannels);
+
+/// The attribution thread's answer, awaited at the step it measures.
+type Attributing = (u64, Receiver<Result<AttributionRecord, Error>>);
 
 struct LensEntry<S> {
     info: LensInfo,
@@ -42,6 +51,7 @@ pub struct Audit<'s, S: Scenario> {
     scenario: &'s S,
     plan: Plan,
     lenses: Vec<LensEntry<S>>,
+    attribution: Option<AttributeOptions>,
 }
 
 impl<'s, S: Scenario> Audit<'s, S> {
@@ -52,7 +62,8 @@ impl<'s, S: Scenario> Audit<'s, S> {
         // `twinstep run` tells a harness where its trace goes through this variable (see the CLI's run command).
         let trace = std::env::var_os(TRACE_ENV)
             .map_or_else(|| std::env::temp_dir().join(format!("twinstep-{}.jsonl", std::process::id())), PathBuf::from);
-        Audit { scenario, plan: Plan::new("kernel", scenario.fields(), tolerance, steps, trace), lenses: Vec::new() }
+        let plan = Plan::new("kernel", scenario.fields(), tolerance, steps, trace);
+        Audit { scenario, plan, lenses: Vec::new(), attribution: None }
     }
 
     /// The kernel's name, for the trace and the report.
@@ -108,6 +119,22 @@ impl<'s, S: Scenario> Audit<'s, S> {
         self
     }
 
+    /// Also attributes the error of the audit's last step to the kernel's source lines, with the defaults of
+    /// [`AttributeOptions::new`]: the trace then carries an `attribution` record and every report a table of the
+    /// lines that make the error, with the remedy where the pattern is known (`docs/attribution.md`).
+    #[must_use]
+    pub fn attribute(self) -> Self {
+        self.attribute_with(AttributeOptions::new())
+    }
+
+    /// Attributes the error as `options` say (fewer steps than the audit, the lines to ablate, the fields that
+    /// carry another with a remedy applied).
+    #[must_use]
+    pub fn attribute_with(mut self, options: AttributeOptions) -> Self {
+        self.attribution = Some(options);
+        self
+    }
+
     /// Adds a lens; each lens runs on its own thread. Either variant of a lens may be given (`Bound` or
     /// `BoundUnwatched`): the driver runs the unwatched one and replays with the watched one where a value turns
     /// non-finite, so both audit the same way under the watched lens's name.
@@ -136,13 +163,29 @@ impl<'s, S: Scenario> Audit<'s, S> {
             if (entry.collected_here)() {
                 return Err(Error::LensCollectedHere { lens: entry.info.name.to_string() });
             }
-            if (entry.collected_here)() {
-                return Err(Error::LensCollectedHere { lens: entry.info.name.to_string() });
-            }
         }
+        // The plan first, so that a plan's mistake is named as such rather than as the attribution's it causes.
+        self.plan.validate()?;
+        let attribution = match &self.attribution {
+            Some(options) => {
+                let step = options.checked_step(&self.plan.fields, self.plan.steps)?;
+                Some((options, options.runner(self.scenario, step), step))
+            }
+            None => None,
+        };
         let mut recorder = Recorder::for_lenses(&self.plan, self.lenses.iter().map(|l| l.info.clone()).collect())?;
         let (scenario, plan) = (self.scenario, &self.plan);
         std::thread::scope(|scope| {
+            let attributing = attribution.map(|(options, runner, step)| {
+                let (answer, answered) = channel();
+                let applied = options.applied().to_vec();
+                scope.spawn(move || {
+                    let record = runner.run().map(|record| AttributionRecord { applied, ..record });
+                    // The receiver is gone only when the audit stopped on an error of its own.
+                    let _ = answer.send(record);
+                });
+                (step, answered)
+            });
             let channels: Vec<_> = self
                 .lenses
                 .iter()
@@ -154,24 +197,39 @@ impl<'s, S: Scenario> Audit<'s, S> {
                     (command_tx, result_rx)
                 })
                 .collect();
-            self.record_chunks(&channels, &mut recorder)?;
+            self.record_chunks(&channels, attributing, &mut recorder)?;
             drop(channels);
             recorder.finish()
         })
     }
 
     /// The main thread's loop: asks every lens thread for the next chunk, waits for all of them, and records the
-    /// chunk step by step, until the audited steps are done.
+    /// chunk step by step, until the audited steps are done. With an attribution under way, no chunk goes past
+    /// the step it measures before its record is handed to the recorder.
     fn record_chunks(
         &self,
         channels: &[(Sender<u64>, Receiver<ChunkResult>)],
+        mut attributing: Option<Attributing>,
         recorder: &mut Recorder,
     ) -> Result<(), Error> {
         let steps = self.plan.steps;
         let (mut done, mut chunk) = (None::<u64>, 1u64);
+        let attributed = |(step, answered): Attributing, recorder: &mut Recorder| {
+            let lost = || Error::ScenarioPanicked {
+                lens: "attributed".into(),
+                step,
+                message: "the attribution thread ended without reporting".into(),
+            };
+            recorder.attribution(answered.recv().map_err(|_| lost())??);
+            Ok::<(), Error>(())
+        };
         while done != Some(steps) {
+            if let Some(waiting) = attributing.take_if(|(step, _)| done == Some(*step)) {
+                attributed(waiting, recorder)?;
+            }
+            let until = attributing.as_ref().map_or(steps, |(step, _)| *step);
             // The first chunk is the initial data alone (step 0).
-            let to = done.map_or(0, |d| (d + chunk).min(steps));
+            let to = done.map_or(0, |d| (d + chunk).min(until));
             let started = Instant::now();
             for (command, _) in channels {
                 // A send fails only if the thread has ended, which it does after reporting an error below.
@@ -194,7 +252,8 @@ impl<'s, S: Scenario> Audit<'s, S> {
             chunk = if started.elapsed() < Duration::from_millis(100) { (chunk * 2).min(4096) } else { chunk / 2 };
             chunk = chunk.max(1);
         }
-        Ok(())
+        // An attribution of the last step.
+        attributing.map_or(Ok(()), |waiting| attributed(waiting, recorder))
     }
 
     /// Runs the audit, prints the terminal report on stdout and where the trace went on stderr, and returns the

@@ -76,6 +76,8 @@ pub enum Error {
     TraceWrite { path: PathBuf, source: std::io::Error },
     /// The user's initial data or step panicked in a lens's run.
     ScenarioPanicked { lens: String, step: u64, message: String },
+    /// The attribution an audit was asked for cannot be made as asked (`Audit::attribute_with`).
+    BadAttribution { reason: String },
 }
 
 impl std::fmt::Display for Error {
@@ -120,6 +122,7 @@ that recorder before auditing the same lens"
             Error::ScenarioPanicked { lens, step, message } => {
                 write!(f, "the scenario panicked in lens {lens} at step {step}: {message}")
             }
+            Error::BadAttribution { reason } => write!(f, "the attribution cannot run as asked: {reason}"),
         }
     }
 }

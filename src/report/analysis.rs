@@ -190,6 +190,8 @@ pub enum SectionKind {
     Steps,
     Bounds,
     Digits,
+    /// Where the error comes from, per source line (`super::attribution`).
+    Attribution,
     Figures,
     Events,
     Caution,
@@ -406,6 +408,7 @@ impl<'a> Analysis<'a> {
                 blocks,
             ));
         }
+        sections.extend(super::attribution::section(self));
         sections.push(Section::new(SectionKind::Figures, None, (), vec![Block::Figures]));
         sections.push(self.events_section());
         sections.push(Section::new(

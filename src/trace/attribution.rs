@@ -26,6 +26,23 @@ pub struct AttributionRecord {
     pub sites: Vec<SiteFacts>,
     /// Lines whose share is large and whose operations show a known pattern, with the remedy.
     pub findings: Vec<Finding>,
+    /// Fields that carry another field of the same run with a remedy applied, as the audit was told
+    /// (`AttributeOptions::remedy_applied`): a report sets their measured errors side by side. Absent when none.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub applied: Vec<AppliedRemedy>,
+}
+
+/// A field of the run that holds the same physics as another with a remedy applied, such as the rise above a
+/// background carried instead of the absolute value: the measured drop of the error shows what the remedy buys.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct AppliedRemedy {
+    /// The field as the program has it (`T`, in kelvin near 1300 K).
+    pub field: String,
+    /// The field that carries it with the remedy applied (`rise`, `T − 1300 K`).
+    pub remedied: String,
+    pub remedy: Remedy,
+    /// The background the perturbation is carried against, when there is one.
+    pub background: Option<f64>,
 }
 
 /// The error of one field that the shares divide, and what the shares leave unexplained.
@@ -222,6 +239,7 @@ impl AttributionRecord {
             .map(|f| f.name.as_str())
             .chain(shares.map(|s| s.field.as_str()))
             .chain(self.findings.iter().map(|f| f.field.as_str()))
+            .chain(self.applied.iter().flat_map(|a| [a.field.as_str(), a.remedied.as_str()]))
     }
 
     /// The lines in the order of their share of `field`'s error, largest magnitude first: the rows of a

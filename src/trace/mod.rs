@@ -14,7 +14,8 @@ use serde::{Deserialize, Deserializer, Serialize};
 pub use crate::audit::Tolerance;
 pub use crate::verdict::{Growth, Status, Verdict};
 pub use attribution::{
-    AttributionRecord, FieldAttribution, Finding, LineFacts, OpFacts, Pattern, PatternHit, Remedy, Share, SiteFacts,
+    AppliedRemedy, AttributionRecord, FieldAttribution, Finding, LineFacts, OpFacts, Pattern, PatternHit, Remedy,
+    Share, SiteFacts,
 };
 pub use reader::{parse, read, read_from, ReadError, MAX_LINE_BYTES};
 pub use writer::TraceWriter;

@@ -6,16 +6,30 @@
 //! increment; added to a large background value it is rounded to the coarse spacing of doubles near 1300, the
 //! same way every step, so `T`'s rounding error grows linearly and crosses the 1 nK budget, while `rise` keeps
 //! about four more decimal digits and stays far inside it.
+//!
+//! The demo also attributes `T`'s error to the kernel's lines (`docs/attribution.md`): the report names the line
+//! where the small increment meets the 1300 K background and suggests carrying the rise above it; `rise` is that
+//! remedy applied to the same kernel in the same run, so the report sets the two measured errors side by side.
 
 pub mod kiln;
 
 use crate::failure::Failure;
 use std::path::Path;
+use twinstep::attribution::AttributeOptions;
 use twinstep::audit::{Audit, Tolerance};
 use twinstep::lens::{Bound, Shadow};
+use twinstep::trace::Remedy;
 
 /// Steps the demo runs by default: long enough for `T` to cross its budget, short enough for a few seconds.
 pub const DEFAULT_STEPS: u64 = 60_000;
+
+/// Steps the attribution runs (fewer when the demo runs fewer): `T`'s error grows linearly, so the lines that make
+/// it after a twelfth of the horizon are those that make it at the end, for a twelfth of the attribution's cost
+/// (`auditor/tests/attribution_kiln.rs`).
+pub const ATTRIBUTED_STEPS: u64 = 5_000;
+
+/// Lines the attribution ablates: `wall_step` has three lines that compute.
+const ABLATED_LINES: usize = 3;
 
 /// Runs the demo audit, writing its trace to `trace`, with a progress bar on stderr when `progress` is set.
 pub fn run_with_progress(trace: &Path, steps: u64, progress: bool) -> Result<(), Failure> {
@@ -44,6 +58,14 @@ pub fn run(trace: &Path, steps: u64) -> Result<(), Failure> {
         .trace(trace)
         .lens::<Bound>()
         .lens::<Shadow>()
+        .attribute_with(
+            AttributeOptions::new().steps(ATTRIBUTED_STEPS.min(steps)).ablate_lines(ABLATED_LINES).remedy_applied(
+                "T",
+                "rise",
+                Remedy::CarryPerturbation,
+                Some(wall.soak),
+            ),
+        )
         .run()
         .map(|_| ())
         .map_err(|e| Failure::harness(format!("demo audit failed: {e}")))

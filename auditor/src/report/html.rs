@@ -1,9 +1,11 @@
 //! The HTML report: one self-contained file (inline CSS and SVG, no script, no network, no external asset) that a
 //! newcomer can open and read top to bottom: the verdict, which field drifts and from which step, the table of
-//! outcomes, the plots, the events, and the rounding-only caution.
+//! outcomes, the plots, where the error comes from (with the ranked lines marked in an excerpt of the kernel's
+//! source), the events, and the rounding-only caution.
 
 use crate::analysis::{Analysis, Block, Outcome, SectionKind, Tone};
 use crate::report::plots;
+use twinstep::report::attribution::AttributionFacts;
 
 /// Text for an HTML text node or attribute value.
 fn escape(text: &str) -> String {
@@ -53,7 +55,49 @@ table{border-collapse:collapse;margin:.6em 0}td,th{border:1px solid #ccc;padding
 th{background:#f3f3f3}td.bad{color:#b00;font-weight:bold}td.warn{color:#8a6200}td.good{color:#2a6a3a}\
 dl{display:grid;grid-template-columns:max-content auto;gap:.2em 1em}dt{font-weight:bold}dd{margin:0}\
 figure{margin:1em 0}figcaption{font-size:.9em;color:#555}.caution{font-size:.9em;color:#555;border-top:1px solid #ccc;\
-padding-top:.8em;margin-top:2em}";
+padding-top:.8em;margin-top:2em}\
+pre.source{background:#f7f7f7;border:1px solid #ddd;padding:.5em 0;overflow-x:auto;line-height:1.35}\
+pre.source span{display:block;padding:0 .8em}pre.source .no{display:inline;color:#888;padding:0 .8em 0 0}\
+pre.source mark{display:block;background:#fde4e1;border-left:4px solid #c0392b;padding:0 .8em 0 calc(.8em - 4px)}\
+pre.source .share{display:inline;color:#b00;font-weight:bold;padding:0 0 0 1.5em}";
+
+/// The attribution section's source excerpts: the kernel's lines around the ranked ones, each ranked line marked
+/// with its rank and share.
+fn source_excerpts(analysis: &Analysis<'_>, out: &mut String) {
+    let Some(facts) = AttributionFacts::of(analysis) else { return };
+    for excerpt in &facts.excerpts {
+        out.push_str("<figure class=\"excerpt\"><pre class=\"source\">");
+        for (offset, text) in excerpt.lines.iter().enumerate() {
+            let number = excerpt.first_line + offset as u32;
+            let marks: Vec<String> = excerpt
+                .marks
+                .iter()
+                .filter(|m| m.line == number)
+                .map(|m| format!("#{} of {}: {:.1} %", m.rank, m.field, 100.0 * m.share))
+                .collect();
+            let body = format!("<span class=\"no\">{number:>4}</span>{}", escape(text));
+            if marks.is_empty() {
+                out.push_str(&format!("<span>{body}</span>"));
+            } else {
+                let label = marks.join(", ");
+                out.push_str(&format!(
+                    "<mark title=\"{}\">{body}<span class=\"share\">← {}</span></mark>",
+                    escape(&label),
+                    escape(&label)
+                ));
+            }
+        }
+        out.push_str(&format!(
+            "</pre><figcaption>{}</figcaption></figure>\n",
+            inline(&format!(
+                "`{}`, lines {} to {}: the ranked lines marked.",
+                excerpt.file,
+                excerpt.first_line,
+                excerpt.first_line + excerpt.lines.len().saturating_sub(1) as u32
+            ))
+        ));
+    }
+}
 
 /// The plots: ratios of every field first (the quickest answer to "which field, from when"), then each field's
 /// error history, then heat maps where the trace has per-cell profiles.
@@ -184,6 +228,9 @@ pub fn render(analysis: &Analysis<'_>) -> String {
                 }
                 Block::Figures => figures(analysis, &mut out),
             }
+        }
+        if section.kind == SectionKind::Attribution {
+            source_excerpts(analysis, &mut out);
         }
     }
     out.push_str("</body>\n</html>\n");

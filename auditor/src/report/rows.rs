@@ -1,10 +1,63 @@
 //! The analysis as one JSON document, and its per-step rows as CSV. One row per recorded step, lens and field; the
 //! columns are the [`Row`] members, in [`ROW_COLUMNS`] order, documented in `docs/cli.md`. The CSV is produced from
 //! the same rows through their JSON form, so the two formats cannot disagree; it starts with comment lines (`#`)
-//! that say what the numbers are and carry the caution.
+//! that say what the numbers are and carry the caution, and, for a trace with an attribution, comment lines with
+//! the top source lines of each ranked field.
 
 use crate::analysis::{Analysis, Row, Section, VerdictView, CAUTION, FLOAT, ROW_COLUMNS};
 use serde::Serialize;
+use twinstep::report::attribution::AttributionFacts;
+
+/// The columns of the attribution comment lines of the CSV.
+pub const ATTRIBUTION_COLUMNS: [&str; 13] = [
+    "field",
+    "rank",
+    "file",
+    "line",
+    "share",
+    "ablated",
+    "cancelled_bits_mean",
+    "cancelled_bits_max",
+    "absorbed_bits_mean",
+    "absorbed_bits_max",
+    "runs",
+    "remedy",
+    "source",
+];
+
+/// The top source lines of each ranked field as CSV comment lines (`# attribution,…`), after one naming the
+/// columns: comments, so that a reader of the per-step rows skips them.
+fn attribution_comments(analysis: &Analysis<'_>, out: &mut String) {
+    let Some(facts) = AttributionFacts::of(analysis) else { return };
+    out.push_str(&format!(
+        "# attribution after step {}, the top lines per field: {}\n",
+        facts.step,
+        ATTRIBUTION_COLUMNS.join(",")
+    ));
+    let number =
+        |x: Option<f64>| csv_value(x.and_then(serde_json::Number::from_f64).map(serde_json::Value::Number).as_ref());
+    for field in &facts.fields {
+        for l in &field.lines {
+            let remedy = l.remedy.map_or("", |r| r.name());
+            let cells = [
+                csv_field(&field.field),
+                l.rank.to_string(),
+                csv_field(&l.file),
+                l.line.to_string(),
+                number(Some(l.share)),
+                number(l.ablated),
+                number(l.cancelled_bits_mean),
+                number(l.cancelled_bits_max),
+                number(l.absorbed_bits_mean),
+                number(l.absorbed_bits_max),
+                l.runs.to_string(),
+                remedy.to_owned(),
+                csv_field(l.source.as_deref().unwrap_or("")),
+            ];
+            out.push_str(&format!("# attribution,{}\n", cells.join(",")));
+        }
+    }
+}
 
 #[derive(Serialize)]
 struct Document<'a> {
@@ -87,6 +140,7 @@ pub fn csv(analysis: &Analysis<'_>) -> String {
          # verdict: {verdict}\n# {CAUTION}\n",
         analysis.trace.header.kernel.replace(['\n', '\r'], " ")
     );
+    attribution_comments(analysis, &mut out);
     out.push_str(&ROW_COLUMNS.join(","));
     out.push('\n');
     for row in analysis.rows() {

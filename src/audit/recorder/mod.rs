@@ -25,8 +25,8 @@ use super::{Error, RecordPolicy};
 use crate::lens::Lens;
 use crate::report::words::{self, LostBecause};
 use crate::trace::{
-    Build, EventName, EventRecord, EventTotal, FieldStep, Header, Machine, ProfileRecord, Record, SiteRecord,
-    StepRecord, Trace, TraceWriter, FORMAT, VERSION,
+    AttributionRecord, Build, EventName, EventRecord, EventTotal, FieldStep, Header, Machine, ProfileRecord, Record,
+    SiteRecord, StepRecord, Trace, TraceWriter, FORMAT, VERSION,
 };
 
 pub(crate) use plan::LensInfo;
@@ -75,6 +75,8 @@ pub struct Recorder {
     started: Instant,
     /// The lens's events from every thread, for a recorder of the user's own loop (the driver takes them itself).
     collector: Option<crate::events::Collector>,
+    /// An attribution waiting for the records of its step to be written.
+    attribution: Option<AttributionRecord>,
 }
 
 /// A step whose records wait for the next `EVENT_CONTEXT` steps: written if an event comes near it.
@@ -139,6 +141,7 @@ impl Recorder {
             profiled_steps: 0,
             started: Instant::now(),
             collector: None,
+            attribution: None,
         })
     }
 
@@ -371,6 +374,9 @@ impl Recorder {
     /// `last` (the run's final step).
     fn release_front(&mut self, last: bool) -> Result<(), Error> {
         let Some(held) = self.pending.pop_front() else { return Ok(()) };
+        if self.attribution.as_ref().is_some_and(|a| a.step < held.step) {
+            self.write_attribution()?;
+        }
         let context = EVENT_CONTEXT as u64;
         let event_before = self.last_event_step.is_some_and(|e| held.step - e <= context);
         let event_after = self.pending.iter().any(|h| !h.events.is_empty() && h.step - held.step <= context);
@@ -404,6 +410,20 @@ impl Recorder {
         Ok(())
     }
 
+    /// Takes the attribution of the run: written into the trace after the records of the step it measures (all
+    /// of them: the driver hands it over before any later step reaches the recorder).
+    pub(crate) fn attribution(&mut self, record: AttributionRecord) {
+        self.attribution = Some(record);
+    }
+
+    fn write_attribution(&mut self) -> Result<(), Error> {
+        if let Some(record) = self.attribution.take() {
+            self.writer.write(&Record::Attribution(record.clone()))?;
+            self.trace.attribution.push(record);
+        }
+        Ok(())
+    }
+
     fn write_steps(&mut self, records: Vec<StepRecord>) -> Result<(), Error> {
         for record in records {
             self.writer.write(&Record::Step(record.clone()))?;
@@ -419,6 +439,7 @@ impl Recorder {
             let last = self.pending.len() == 1;
             self.release_front(last)?;
         }
+        self.write_attribution()?;
         let summary = summary::summarize(&self);
         self.writer.write(&Record::Summary(summary.clone()))?;
         self.trace.summary = Some(summary);
