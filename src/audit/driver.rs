@@ -13,8 +13,9 @@ use std::time::{Duration, Instant};
 
 use super::lens_thread::{self, AuditLens, ChunkResult, LensChannels};
 use super::recorder::{LensInfo, Plan};
-use super::{Error, RecordPolicy, Recorder, Scenario, Tolerance, RUN_ENV, TRACE_ENV};
+use super::{Error, ProgramFloat, RecordPolicy, Recorder, Scenario, Tolerance, RUN_ENV, TRACE_ENV};
 use crate::events::Collector;
+use crate::sweep::{Sweep, SweepError, SweepOutcome, SweepPlan};
 use crate::trace::Trace;
 
 /// A lens's thread body, instantiated for the lens type when it is added.
@@ -38,13 +39,44 @@ struct LensEntry<S> {
 ///         .report()
 /// }
 /// ```
-pub struct Audit<'s, S: Scenario> {
+///
+/// The scenario's float is the program's (`F`, inferred from the scenario: `f64`, or `f32` for a
+/// `Scenario<f32>`, whose lenses are the binary32 ones, `docs/audit.md`).
+pub struct Audit<'s, S, F = f64> {
     scenario: &'s S,
     plan: Plan,
     lenses: Vec<LensEntry<S>>,
+    /// The precision sweep to run after the lenses, into the same trace ([`Audit::sweep`]).
+    sweep: Option<SweepHook<S>>,
+    float: std::marker::PhantomData<fn() -> F>,
 }
 
-impl<'s, S: Scenario> Audit<'s, S> {
+/// A precision sweep of an audit's scenario: its plan, and the sweep's two calls for the scenario's type, taken
+/// where the scenario is known to be an f64 one ([`Audit::sweep`]) so that [`Audit::run`] stays generic.
+struct SweepHook<S> {
+    plan: SweepPlan,
+    validate: fn(&S, &Plan, SweepPlan) -> Result<(), SweepError>,
+    run: fn(&S, &Plan, SweepPlan) -> Result<SweepOutcome, SweepError>,
+}
+
+impl<'s, S: Scenario> Audit<'s, S, f64> {
+    /// Also runs the precision sweep of `plan` ([`crate::sweep`]) — the same scenario, tolerance, steps (unless the
+    /// plan audits fewer) and horizon, as if the program computed in each of the plan's formats — after the lenses,
+    /// and appends its `format_run` and `sweep` records to this audit's trace, so one trace carries the lens audit
+    /// and the sweep and the report names the least precision. Each format's run writes its own trace beside it
+    /// (`NAME.FORMAT.jsonl`). The plan is checked with everything else before any file is created.
+    #[must_use]
+    pub fn sweep(mut self, plan: SweepPlan) -> Self {
+        self.sweep = Some(SweepHook {
+            plan,
+            validate: |scenario, audit, plan| Sweep::attached(scenario, audit, plan).validate(),
+            run: |scenario, audit, plan| Sweep::attached(scenario, audit, plan).run(),
+        });
+        self
+    }
+}
+
+impl<'s, F: ProgramFloat, S: Scenario<F>> Audit<'s, S, F> {
     /// An audit of `steps` steps of `scenario` against `tolerance` (checked when the audit runs). The trace goes
     /// to the path in the `TWINSTEP_TRACE` environment variable when it is set, else to the system's temporary
     /// directory, unless [`Audit::trace`] says otherwise.
@@ -52,7 +84,13 @@ impl<'s, S: Scenario> Audit<'s, S> {
         // `twinstep run` tells a harness where its trace goes through this variable (see the CLI's run command).
         let trace = std::env::var_os(TRACE_ENV)
             .map_or_else(|| std::env::temp_dir().join(format!("twinstep-{}.jsonl", std::process::id())), PathBuf::from);
-        Audit { scenario, plan: Plan::new("kernel", scenario.fields(), tolerance, steps, trace), lenses: Vec::new() }
+        Audit {
+            scenario,
+            plan: Plan::new("kernel", scenario.fields(), tolerance, steps, trace),
+            lenses: Vec::new(),
+            sweep: None,
+            float: std::marker::PhantomData,
+        }
     }
 
     /// The kernel's name, for the trace and the report.
@@ -112,11 +150,11 @@ impl<'s, S: Scenario> Audit<'s, S> {
     /// `BoundUnwatched`): the driver runs the unwatched one and replays with the watched one where a value turns
     /// non-finite, so both audit the same way under the watched lens's name.
     #[must_use]
-    pub fn lens<L: AuditLens>(mut self) -> Self {
+    pub fn lens<L: AuditLens<F>>(mut self) -> Self {
         let collected_here = Collector::active_here::<L>;
         self.lenses.push(LensEntry {
             info: LensInfo::of::<L::Watched>(),
-            run: lens_thread::run::<L, S>,
+            run: lens_thread::run::<L, S, F>,
             collected_here,
         });
         self
@@ -140,6 +178,21 @@ impl<'s, S: Scenario> Audit<'s, S> {
                 return Err(Error::LensCollectedHere { lens: entry.info.name.to_string() });
             }
         }
+        self.plan.validate()?;
+        let failed = |e| Error::Sweep(Box::new(e));
+        if let Some(sweep) = &self.sweep {
+            (sweep.validate)(self.scenario, &self.plan, sweep.plan.clone()).map_err(failed)?;
+        }
+        let mut trace = self.run_lenses()?;
+        if let Some(sweep) = &self.sweep {
+            let outcome = (sweep.run)(self.scenario, &self.plan, sweep.plan.clone()).map_err(failed)?;
+            (trace.format_runs, trace.sweep) = (outcome.runs, Some(outcome.summary));
+        }
+        Ok(trace)
+    }
+
+    /// The lenses' part of [`Audit::run`], once everything is checked.
+    fn run_lenses(&self) -> Result<Trace, Error> {
         let mut recorder = Recorder::for_lenses(&self.plan, self.lenses.iter().map(|l| l.info.clone()).collect())?;
         let (scenario, plan) = (self.scenario, &self.plan);
         std::thread::scope(|scope| {

@@ -26,7 +26,7 @@ pub use field::{Field, Levels};
 pub use lens_thread::AuditLens;
 pub use loop_audit::{capture, record_step, FieldCells, LoopAudit, Snapshot, StepNumber};
 pub use recorder::{Plan, Recorder};
-pub use scenario::{Scenario, Scheme};
+pub use scenario::{ProgramFloat, Scenario, Scheme};
 pub use tolerance::{ulp, Tolerance};
 
 /// The environment variable that tells a harness where to write its trace: `twinstep run` sets it, and
@@ -76,6 +76,8 @@ pub enum Error {
     TraceWrite { path: PathBuf, source: std::io::Error },
     /// The user's initial data or step panicked in a lens's run.
     ScenarioPanicked { lens: String, step: u64, message: String },
+    /// The precision sweep asked for with [`Audit::sweep`] cannot run as asked, or one of its runs failed.
+    Sweep(Box<crate::sweep::SweepError>),
 }
 
 impl std::fmt::Display for Error {
@@ -120,6 +122,7 @@ that recorder before auditing the same lens"
             Error::ScenarioPanicked { lens, step, message } => {
                 write!(f, "the scenario panicked in lens {lens} at step {step}: {message}")
             }
+            Error::Sweep(e) => write!(f, "the precision sweep: {e}"),
         }
     }
 }
@@ -132,6 +135,11 @@ impl Error {
     pub fn exit_code(&self) -> u8 {
         match self {
             Error::ScenarioPanicked { .. } => 3,
+            // A run of the sweep failed as the audit would have: the same code.
+            Error::Sweep(e) => match e.as_ref() {
+                crate::sweep::SweepError::Audit { source, .. } => source.exit_code(),
+                _ => 2,
+            },
             _ => 2,
         }
     }
@@ -141,6 +149,7 @@ impl std::error::Error for Error {
     fn source(&self) -> Option<&(dyn std::error::Error + 'static)> {
         match self {
             Error::TraceCreate { source, .. } | Error::TraceWrite { source, .. } => Some(source),
+            Error::Sweep(e) => Some(e.as_ref()),
             _ => None,
         }
     }

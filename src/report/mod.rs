@@ -8,6 +8,7 @@
 
 pub mod analysis;
 pub mod format;
+pub mod sweep;
 mod text;
 pub mod words;
 

@@ -1,5 +1,7 @@
 //! `twinstep demo`: a built-in audit of a scenario of our own, the kiln wall ([`kiln`]), run through the audit
-//! driver with the bound and shadow lenses, so that a fresh clone shows the whole job in seconds.
+//! driver with the bound and shadow lenses and a precision sweep (binary64, binary32, bfloat16, binary16 and the
+//! bisection between them), so that a fresh clone shows the whole job in seconds, and the verdict names the least
+//! precision and what f32 would do.
 //!
 //! The same conduction kernel advances two fields that hold the same physics two ways: `T`, the wall temperature
 //! in kelvin (about 1300 K), and `rise`, the temperature above the 1300 K soak. Every step adds a small firing
@@ -13,9 +15,16 @@ use crate::failure::Failure;
 use std::path::Path;
 use twinstep::audit::{Audit, Tolerance};
 use twinstep::lens::{Bound, Shadow};
+use twinstep::sweep::SweepPlan;
 
 /// Steps the demo runs by default: long enough for `T` to cross its budget, short enough for a few seconds.
 pub const DEFAULT_STEPS: u64 = 60_000;
+
+/// Steps each format's run of the demo's sweep audits, at most: the sweep judges every format at the demo's horizon
+/// by its fitted growth law beyond them. `T`'s error grows linearly (one rounding of the firing increment per
+/// step), a law a few thousand steps fit as well as the whole run; auditing all of them per format would make the
+/// sweep's nine runs cost several times the demo itself.
+pub const SWEEP_STEPS: u64 = 6_000;
 
 /// Runs the demo audit, writing its trace to `trace`, with a progress bar on stderr when `progress` is set.
 pub fn run_with_progress(trace: &Path, steps: u64, progress: bool) -> Result<(), Failure> {
@@ -44,6 +53,7 @@ pub fn run(trace: &Path, steps: u64) -> Result<(), Failure> {
         .trace(trace)
         .lens::<Bound>()
         .lens::<Shadow>()
+        .sweep(SweepPlan::standard().audited_steps(SWEEP_STEPS))
         .run()
         .map(|_| ())
         .map_err(|e| Failure::harness(format!("demo audit failed: {e}")))

@@ -3,7 +3,7 @@
 //! the same rows through their JSON form, so the two formats cannot disagree; it starts with comment lines (`#`)
 //! that say what the numbers are and carry the caution.
 
-use crate::analysis::{Analysis, Row, Section, VerdictView, CAUTION, FLOAT, ROW_COLUMNS};
+use crate::analysis::{Analysis, Block, Row, Section, SectionKind, VerdictView, CAUTION, FLOAT, ROW_COLUMNS};
 use serde::Serialize;
 
 #[derive(Serialize)]
@@ -76,6 +76,27 @@ fn csv_value(value: Option<&serde_json::Value>) -> String {
     }
 }
 
+/// The precision sweep as comment lines before the header, when the trace holds one: its sentences, then one
+/// line per format's run (`name=value` pairs of the sweep section's table), so the rows below stay one table.
+fn sweep_comments(analysis: &Analysis<'_>, out: &mut String) {
+    let one_line = |text: &str| text.replace(['\n', '\r'], " ").replace('`', "");
+    for section in analysis.sections.iter().filter(|s| s.kind == SectionKind::Sweep) {
+        for block in &section.blocks {
+            match block {
+                Block::Paragraph { text } => out.push_str(&format!("# precision sweep: {}\n", one_line(text))),
+                Block::Table { head, rows, .. } => {
+                    for row in rows {
+                        let pairs: Vec<String> =
+                            head.iter().zip(row).map(|(h, c)| format!("{h}={}", one_line(&c.text))).collect();
+                        out.push_str(&format!("# precision sweep run: {}\n", pairs.join(", ")));
+                    }
+                }
+                _ => {}
+            }
+        }
+    }
+}
+
 /// The CSV: comment lines starting with `#` (what the rows are, the verdict line, the caution), a header line with
 /// [`ROW_COLUMNS`], then one line per row. Readers that do not skip comments can drop the lines before the header.
 #[must_use]
@@ -87,6 +108,7 @@ pub fn csv(analysis: &Analysis<'_>) -> String {
          # verdict: {verdict}\n# {CAUTION}\n",
         analysis.trace.header.kernel.replace(['\n', '\r'], " ")
     );
+    sweep_comments(analysis, &mut out);
     out.push_str(&ROW_COLUMNS.join(","));
     out.push('\n');
     for row in analysis.rows() {
