@@ -68,15 +68,25 @@ double-double (about {DOUBLE_DOUBLE_BITS} bits) gives",
 #[must_use]
 pub fn verdict_sentence(trace: &Trace) -> Option<String> {
     let sweep = trace.sweep.as_ref()?;
-    let others: Vec<String> =
-        asked_narrower(trace).map(|r| format!("{} {}", short_name(&r.format), run_outcome(r))).collect();
+    // `f32 crosses at step 210, bf16 at step 3`: a crossing after a crossing drops the verb.
+    let mut others: Vec<String> = Vec::new();
+    let mut after_crossing = false;
+    for run in asked_narrower(trace) {
+        let outcome = run_outcome(run);
+        let crossing = outcome.starts_with("crosses ");
+        let shown = if crossing && after_crossing { outcome.trim_start_matches("crosses ") } else { &outcome };
+        others.push(format!("{} {shown}", short_name(&run.format)));
+        after_crossing = crossing;
+    }
     let others = if others.is_empty() { String::new() } else { format!("; {}", others.join(", ")) };
     Some(match sweep.least_bits {
         Some(bits) => format!("Least precision: {bits} bits{others}."),
         None => {
             let needs: Vec<String> = sweep.needed.iter().map(need_clause).collect();
             let needs = if needs.is_empty() { String::new() } else { format!(": {}", needs.join("; ")) };
+            // The verdict is one plain sentence in every format: no code spans.
             format!("Least precision: none up to {BINARY64_BITS} bits (f64) meets the tolerance{others}{needs}.")
+                .replace('`', "")
         }
     })
 }
