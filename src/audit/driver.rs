@@ -42,7 +42,7 @@ struct LensEntry<S> {
 ///
 /// The scenario's float is the program's (`F`, inferred from the scenario: `f64`, or `f32` for a
 /// `Scenario<f32>`, whose lenses are the binary32 ones, `docs/audit.md`).
-pub struct Audit<'s, S, F = f64> {
+pub struct Audit<'s, S, F> {
     scenario: &'s S,
     plan: Plan,
     lenses: Vec<LensEntry<S>>,
@@ -80,7 +80,7 @@ impl<'s, F: ProgramFloat, S: Scenario<F>> Audit<'s, S, F> {
     /// An audit of `steps` steps of `scenario` against `tolerance` (checked when the audit runs). The trace goes
     /// to the path in the `TWINSTEP_TRACE` environment variable when it is set, else to the system's temporary
     /// directory, unless [`Audit::trace`] says otherwise.
-    pub fn new(scenario: &'s S, tolerance: Tolerance, steps: u64) -> Audit<'s, S> {
+    pub fn new(scenario: &'s S, tolerance: Tolerance, steps: u64) -> Audit<'s, S, F> {
         // `twinstep run` tells a harness where its trace goes through this variable (see the CLI's run command).
         let trace = std::env::var_os(TRACE_ENV)
             .map_or_else(|| std::env::temp_dir().join(format!("twinstep-{}.jsonl", std::process::id())), PathBuf::from);
