@@ -3,6 +3,10 @@
 //! binary64) whose run meets the tolerance up to the horizon, and, where even binary64 does not, extrapolates the
 //! bits needed from the measured law of error against p.
 //!
+//! Two ways in: [`Sweep`] on its own, or [`Audit::sweep`] beside a lens audit, whose trace then receives the
+//! sweep's records (every format's run going to a trace beside it); both run the one [`Sweep::run`] with a
+//! [`SweepPlan`].
+//!
 //! Each format's run is an ordinary audit through the public builder ([`Audit`]) with one lens: [`Shadow`] for
 //! binary64 (the program's own arithmetic), [`Binary32`], [`Bfloat16`], [`Binary16`], or [`Bits`] for a p-bit
 //! format — each the program's primal in that format beside the same double-double reference. Every run writes

@@ -153,7 +153,10 @@ tolerance when no field crosses it up to the horizon."
                     text: crossing.map_or_else(|| "none".to_owned(), |s| format!("step {s}")),
                     tone: if crossing.is_some() { Tone::Bad } else { Tone::Plain },
                 });
-                let over = field.is_some_and(|f| !(f.horizon_err <= f.allowed_err));
+                // A NaN error (lost) is over too.
+                let over = field.is_some_and(|f| {
+                    matches!(f.horizon_err.partial_cmp(&f.allowed_err), Some(std::cmp::Ordering::Greater) | None)
+                });
                 row.push(Cell {
                     text: field.map_or_else(|| format::ABSENT.to_owned(), |f| format::error(f.horizon_err)),
                     tone: if over { Tone::Bad } else { Tone::Plain },

@@ -17,7 +17,8 @@ apply locally, and licensed review.";
 pub const NO_SWEEP: &str = "The least precision that would meet the tolerance is not computed: that needs a sweep \
 over emulated formats, which this version does not run.";
 
-/// The float type of the kernels twinstep audits: every lens's primal is binary64.
+/// The float the verdict's sentences name: binary64, the float of the kernels twinstep audits but for `f32`
+/// programs (`Scenario<f32>`), whose reports still say `f64` (a limitation `docs/audit.md` states).
 pub const FLOAT: &str = "f64";
 
 fn basis(b: Basis) -> &'static str {
