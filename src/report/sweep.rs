@@ -27,7 +27,7 @@ pub fn short_name(format: &str) -> &str {
 }
 
 /// What a run of one format does against the tolerance, in a few words: `crosses at step 210` (the earliest
-/// observed crossing over the fields), `meets the tolerance`, or `misses it at the horizon` (no crossing in the
+/// observed crossing over the fields), `meets the tolerance`, or `misses it by the horizon` (no crossing in the
 /// audited steps, but its growth law crosses before the horizon).
 fn run_outcome(run: &FormatRun) -> String {
     match run.fields.iter().filter_map(|f| f.first_crossing).min() {
