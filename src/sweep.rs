@@ -3,6 +3,10 @@
 //! binary64) whose run meets the tolerance up to the horizon, and, where even binary64 does not, extrapolates the
 //! bits needed from the measured law of error against p.
 //!
+//! Two ways in: [`Sweep`] on its own, or [`Audit::sweep`] beside a lens audit, whose trace then receives the
+//! sweep's records (every format's run going to a trace beside it); both run the one [`Sweep::run`] with a
+//! [`SweepPlan`].
+//!
 //! Each format's run is an ordinary audit through the public builder ([`Audit`]) with one lens: [`Shadow`] for
 //! binary64 (the program's own arithmetic), [`Binary32`], [`Bfloat16`], [`Binary16`], or [`Bits`] for a p-bit
 //! format — each the program's primal in that format beside the same double-double reference. Every run writes
@@ -28,7 +32,7 @@ use std::path::{Path, PathBuf};
 
 use serde::{Deserialize, Serialize};
 
-use crate::audit::{Audit, AuditLens, Error as AuditError, Levels, Scenario, Tolerance};
+use crate::audit::{Audit, AuditLens, Error as AuditError, Levels, Plan, Scenario, Tolerance};
 use crate::lens::{bits_format_scope, Bfloat16, Binary16, Binary32, Bits, Format, FormatError, Shadow};
 use crate::trace::{Record, Status, Trace};
 
@@ -262,6 +266,67 @@ impl SweepOutcome {
     }
 }
 
+/// What a sweep runs: the formats, the exponent range of the bisection's p-bit formats, whether it bisects, and
+/// how many steps each format's run audits. One value serves both ways in: [`Sweep`] (a sweep on its own) and
+/// [`Audit::sweep`] (a sweep beside a lens audit, in the same trace).
+#[derive(Clone, Debug, PartialEq)]
+pub struct SweepPlan {
+    formats: Vec<SweepFormat>,
+    exponents: (i32, i32),
+    bisect: bool,
+    steps: Option<u64>,
+}
+
+impl Default for SweepPlan {
+    fn default() -> SweepPlan {
+        SweepPlan::standard()
+    }
+}
+
+impl SweepPlan {
+    /// [`SweepFormat::STANDARD`], binary64's exponent range, with bisection, every run auditing the steps of the
+    /// sweep (or of the audit it is part of).
+    #[must_use]
+    pub fn standard() -> SweepPlan {
+        SweepPlan {
+            formats: SweepFormat::STANDARD.to_vec(),
+            exponents: Format::BINARY64_EXPONENTS,
+            bisect: true,
+            steps: None,
+        }
+    }
+
+    /// The formats to run instead of the standard four (an empty list is an error when the sweep runs).
+    #[must_use]
+    pub fn formats(mut self, formats: &[SweepFormat]) -> Self {
+        self.formats = formats.to_vec();
+        self
+    }
+
+    /// The exponent range of the bisection's p-bit formats (binary64's by default).
+    pub fn exponent_range(mut self, emin: i32, emax: i32) -> Result<Self, SweepError> {
+        Format::new(2, emin, emax)?;
+        self.exponents = (emin, emax);
+        Ok(self)
+    }
+
+    /// Runs the asked formats only, without the bisection.
+    #[must_use]
+    pub fn without_bisection(mut self) -> Self {
+        self.bisect = false;
+        self
+    }
+
+    /// Each format's run audits this many steps (at most those of the sweep or audit) and is judged at the same
+    /// horizon, beyond the audited steps by its fitted growth law: a cheaper sweep of a long run. Zero is an error
+    /// when the sweep runs.
+    #[must_use]
+    pub fn audited_steps(mut self, steps: u64) -> Self {
+        self.steps = Some(steps);
+        self
+    }
+}
+
 /// A precision sweep of a scenario: built like an [`Audit`], run with [`Sweep::run`].
 pub struct Sweep<'s, S: Scenario> {
     scenario: &'s S,
@@ -271,9 +336,10 @@ pub struct Sweep<'s, S: Scenario> {
     kernel: Option<String>,
     description: Option<String>,
     trace: PathBuf,
-    formats: Vec<SweepFormat>,
-    exponents: (i32, i32),
-    bisect: bool,
+    plan: SweepPlan,
+    /// The main trace is an existing one (a lens audit's) that the sweep appends to; every format runs into a
+    /// trace of its own beside it.
+    attached: bool,
 }
 
 impl<'s, S: Scenario> Sweep<'s, S> {
@@ -293,9 +359,24 @@ impl<'s, S: Scenario> Sweep<'s, S> {
             kernel: None,
             description: None,
             trace,
-            formats: SweepFormat::STANDARD.to_vec(),
-            exponents: Format::BINARY64_EXPONENTS,
-            bisect: true,
+            plan: SweepPlan::standard(),
+            attached: false,
+        }
+    }
+
+    /// The sweep of an audit's plan ([`Audit::sweep`]): its records go into the audit's finished trace at
+    /// `main`, and every format's run into its own trace beside it.
+    pub(crate) fn attached(scenario: &'s S, audit: &Plan, plan: SweepPlan) -> Sweep<'s, S> {
+        Sweep {
+            scenario,
+            tolerance: audit.tolerance,
+            steps: audit.steps,
+            horizon: Some(audit.horizon),
+            kernel: Some(audit.kernel.clone()),
+            description: (!audit.scenario.is_empty()).then(|| audit.scenario.clone()),
+            trace: audit.trace.clone(),
+            plan,
+            attached: true,
         }
     }
 
@@ -327,33 +408,70 @@ impl<'s, S: Scenario> Sweep<'s, S> {
         self
     }
 
+    /// Everything the sweep runs at once (formats, exponent range, bisection, audited steps).
+    #[must_use]
+    pub fn plan(mut self, plan: SweepPlan) -> Self {
+        self.plan = plan;
+        self
+    }
+
     /// The formats to run instead of the standard four (an empty list is an error at [`Sweep::run`]).
     #[must_use]
     pub fn formats(mut self, formats: &[SweepFormat]) -> Self {
-        self.formats = formats.to_vec();
+        self.plan = self.plan.formats(formats);
         self
     }
 
     /// The exponent range of the bisection's p-bit formats (binary64's by default).
     pub fn exponent_range(mut self, emin: i32, emax: i32) -> Result<Self, SweepError> {
-        Format::new(2, emin, emax)?;
-        self.exponents = (emin, emax);
+        self.plan = self.plan.exponent_range(emin, emax)?;
         Ok(self)
     }
 
     /// Runs the asked formats only, without the bisection.
     #[must_use]
     pub fn without_bisection(mut self) -> Self {
-        self.bisect = false;
+        self.plan = self.plan.without_bisection();
         self
+    }
+
+    /// The steps each format's run audits: the plan's, at most the sweep's own.
+    fn audited(&self) -> u64 {
+        self.plan.steps.map_or(self.steps, |n| n.min(self.steps))
+    }
+
+    /// The horizon every run is judged at.
+    fn judged_horizon(&self) -> u64 {
+        self.horizon.unwrap_or(self.steps).max(self.steps)
+    }
+
+    /// Checks what needs no run and no file: formats, audited steps, the data's range.
+    pub(crate) fn validate(&self) -> Result<(), SweepError> {
+        if self.plan.formats.is_empty() {
+            return Err(SweepError::NoFormats);
+        }
+        if self.audited() == 0 {
+            return Err(SweepError::Audit { format: "every format".into(), source: AuditError::ZeroSteps });
+        }
+        let (emin, emax) = self.plan.exponents;
+        // The data must fit every p-bit format the sweep runs: the asked ones and, with bisection, its range.
+        let mut checked: Vec<Format> = self
+            .plan
+            .formats
+            .iter()
+            .filter_map(|f| if let SweepFormat::Emulated(e) = f { Some(*e) } else { None })
+            .collect();
+        checked.retain(|f| ![Format::BINARY32, Format::BFLOAT16, Format::BINARY16].contains(f));
+        if self.plan.bisect {
+            checked.push(Format::new(2, emin, emax)?);
+        }
+        self.check_data(&checked)
     }
 
     /// Runs every format, bisects, extrapolates, and appends the records to the main trace.
     pub fn run(self) -> Result<SweepOutcome, SweepError> {
-        if self.formats.is_empty() {
-            return Err(SweepError::NoFormats);
-        }
-        let (emin, emax) = self.exponents;
+        self.validate()?;
+        let (emin, emax) = self.plan.exponents;
         let bisection_format = |p: u32| -> Result<SweepFormat, SweepError> {
             Ok(if p == BINARY64_BITS {
                 SweepFormat::Binary64
@@ -361,25 +479,16 @@ impl<'s, S: Scenario> Sweep<'s, S> {
                 SweepFormat::Emulated(Format::new(p, emin, emax)?)
             })
         };
-        // The data must fit every p-bit format the sweep runs: the asked ones and, with bisection, its range.
-        let mut checked: Vec<Format> = self
-            .formats
-            .iter()
-            .filter_map(|f| if let SweepFormat::Emulated(e) = f { Some(*e) } else { None })
-            .collect();
-        checked.retain(|f| ![Format::BINARY32, Format::BFLOAT16, Format::BINARY16].contains(f));
-        if self.bisect {
-            checked.push(Format::new(2, emin, emax)?);
-        }
-        self.check_data(&checked)?;
-
-        let main = self.formats.iter().position(|f| *f == SweepFormat::Binary64).unwrap_or(0);
+        // A sweep of its own writes its binary64 run (else its first) into the main trace; an attached one appends
+        // to a trace that exists, and every run goes beside it.
+        let main =
+            (!self.attached).then(|| self.plan.formats.iter().position(|f| *f == SweepFormat::Binary64).unwrap_or(0));
         let mut runs = Vec::new();
-        for (i, format) in self.formats.iter().enumerate() {
-            let path = if i == main { self.trace.clone() } else { self.side_trace(*format) };
+        for (i, format) in self.plan.formats.iter().enumerate() {
+            let path = if Some(i) == main { self.trace.clone() } else { self.side_trace(*format) };
             runs.push(self.run_format(*format, RunRole::Asked, path)?);
         }
-        if self.bisect {
+        if self.plan.bisect {
             // Between the least precision that meets and the greatest below it that does not (or p = 1).
             if let Some(mut hi) = runs.iter().filter(|r| r.meets).map(|r| r.bits).min() {
                 let mut lo = runs.iter().filter(|r| !r.meets && r.bits < hi).map(|r| r.bits).max().unwrap_or(1);
@@ -403,11 +512,11 @@ impl<'s, S: Scenario> Sweep<'s, S> {
             least_bits,
             bisection_emin: emin,
             bisection_emax: emax,
-            steps: self.steps,
-            horizon: self.horizon.unwrap_or(self.steps).max(self.steps),
+            steps: self.audited(),
+            horizon: self.judged_horizon(),
             needed,
         };
-        let trace = runs[main].trace.clone();
+        let trace = main.map_or_else(|| self.trace.clone(), |m| runs[m].trace.clone());
         append_records(&trace, &runs, &summary)?;
         Ok(SweepOutcome { runs, summary, trace })
     }
@@ -471,15 +580,13 @@ impl<'s, S: Scenario> Sweep<'s, S> {
     }
 
     fn audit<L: AuditLens>(&self, path: &Path) -> Result<Trace, AuditError> {
-        let mut audit = Audit::new(self.scenario, self.tolerance, self.steps).trace(path);
+        let mut audit =
+            Audit::new(self.scenario, self.tolerance, self.audited()).trace(path).horizon(self.judged_horizon());
         if let Some(kernel) = &self.kernel {
             audit = audit.kernel(kernel);
         }
         if let Some(text) = &self.description {
             audit = audit.describe(text);
-        }
-        if let Some(horizon) = self.horizon {
-            audit = audit.horizon(horizon);
         }
         audit.lens::<L>().run()
     }

@@ -6,7 +6,8 @@
 //! law is extrapolated to the planned horizon. The status is `enough` (no crossing observed or extrapolated),
 //! `enough_until` step N (the last step within tolerance), or `not_enough` (the tolerance is crossed at the
 //! initial data or the first step). The least precision that would do needs a sweep over emulated formats, which
-//! this version does not run: the field stays null and the text says so.
+//! runs after the summary is written (`Audit::sweep`): the field stays null and the text says so, and a report of
+//! a trace that carries the sweep's records takes the least precision from them (`crate::report::sweep`).
 
 use serde::{Deserialize, Serialize};
 
@@ -110,7 +111,8 @@ pub struct Verdict {
     pub status: Status,
     /// The last step within tolerance, for `enough_until`.
     pub until_step: Option<u64>,
-    /// The least precision meeting the tolerance: not computed in this version (needs emulated formats).
+    /// The least precision meeting the tolerance: `None` in the summary, which is written before any precision
+    /// sweep runs (the sweep's own record holds it, `crate::sweep::SweepSummary::least_bits`).
     pub least_precision_bits: Option<u32>,
     pub text: String,
 }

@@ -141,3 +141,86 @@ fn bad_input_is_a_clear_error() {
     let Err(e @ SweepError::DataOutOfRange { .. }) = small else { panic!("{small:?}") };
     assert!(e.to_string().contains("field \"u\"") && e.to_string().contains("wider exponent range"), "{e}");
 }
+
+#[test]
+fn an_audit_with_a_sweep_carries_both_in_one_trace() {
+    use twinstep::audit::Audit;
+    use twinstep::lens::{Bound, Shadow};
+    use twinstep::sweep::SweepPlan;
+    let rod = Rod { cells: 16, offset: 0.0 };
+    let path = scratch("attached");
+    let tolerance = Tolerance::absolute(1e-9);
+    let trace = Audit::new(&rod, tolerance, 200)
+        .kernel("heat_step")
+        .trace(&path)
+        .lens::<Bound>()
+        .lens::<Shadow>()
+        .sweep(SweepPlan::standard())
+        .run()
+        .unwrap();
+    // The lens audit is the trace's own: its lenses, its summary; the sweep's records follow it in the same file.
+    assert_eq!(trace.header.lenses, vec!["bound".to_owned(), "shadow".to_owned()]);
+    assert!(trace.is_complete());
+    let read = twinstep::trace::read(&path).unwrap();
+    assert_eq!(read, trace, "the returned trace is the file's");
+    let summary = read.sweep.as_ref().expect("a sweep record");
+    // The same sweep as on its own: the one piece of code runs both (its own traces beside the audit's), so the
+    // least precision and every run's figures agree with a sweep of the same scenario, tolerance and steps.
+    let alone = Sweep::new(&rod, tolerance, 200).kernel("heat_step").trace(scratch("alone")).run().unwrap();
+    assert_eq!(summary.least_bits, alone.summary.least_bits);
+    let figures = |runs: &[twinstep::sweep::FormatRun]| -> Vec<_> {
+        runs.iter()
+            .map(|r| (r.format.clone(), r.meets, r.fields[0].first_crossing, r.fields[0].final_max_err))
+            .collect()
+    };
+    assert_eq!(figures(&read.format_runs), figures(&alone.runs));
+    for run in &read.format_runs {
+        assert_ne!(run.trace, path, "every run of an attached sweep has a trace of its own");
+        assert!(twinstep::trace::read(&run.trace).unwrap().is_complete(), "{}", run.format);
+    }
+    // The report names the least precision and what binary32 does instead of "not computed".
+    let text = twinstep::report::render_text(&read);
+    let least = summary.least_bits.unwrap();
+    assert!(text.contains(&format!("Least precision: {least} bits; f32 crosses at step")), "{text}");
+    assert!(!text.contains(twinstep::report::words::NO_SWEEP), "{text}");
+    assert!(text.contains("Precision sweep"), "{text}");
+
+    // Fewer audited steps per format: judged at the audit's horizon (here its 200 steps) by each run's growth law.
+    let cheap = Audit::new(&rod, tolerance, 200)
+        .trace(scratch("cheap"))
+        .lens::<Shadow>()
+        .sweep(SweepPlan::standard().audited_steps(50).without_bisection())
+        .run()
+        .unwrap();
+    let sweep = cheap.sweep.unwrap();
+    assert_eq!((sweep.steps, sweep.horizon), (50, 200));
+    assert_eq!(cheap.format_runs.len(), 4, "no bisection");
+}
+
+#[test]
+fn an_audit_with_a_bad_sweep_fails_before_any_file() {
+    use twinstep::audit::{Audit, Error};
+    use twinstep::lens::Shadow;
+    use twinstep::sweep::SweepPlan;
+    let rod = Rod { cells: 8, offset: 0.0 };
+    let tolerance = Tolerance::absolute(1e-6);
+    let path = scratch("bad-attached");
+    let _ = std::fs::remove_file(&path);
+    let fails = |plan: SweepPlan, scenario: &Rod| -> String {
+        let result = Audit::new(scenario, tolerance, 10).trace(&path).lens::<Shadow>().sweep(plan).run();
+        let Err(error @ Error::Sweep(_)) = result else { panic!("{result:?}") };
+        assert_eq!(error.exit_code(), 2, "a mistake in the harness");
+        assert!(!path.exists(), "checked before the audit's trace is created");
+        error.to_string()
+    };
+    assert!(fails(SweepPlan::standard().formats(&[]), &rod).contains("no formats"));
+    assert!(fails(SweepPlan::standard().audited_steps(0), &rod).contains("zero steps"));
+    // binary16's exponent range (largest 65504, IEEE 754-2019 Table 3.5) cannot hold 10^5.
+    let hot = Rod { cells: 8, offset: 1e5 };
+    let narrow = SweepPlan::standard().exponent_range(-14, 15).unwrap();
+    assert!(fails(narrow, &hot).contains("wider exponent range"));
+    assert!(matches!(
+        SweepPlan::standard().exponent_range(-1100, 15),
+        Err(SweepError::Format(FormatError::ExponentRange { emin: -1100, emax: 15 }))
+    ));
+}

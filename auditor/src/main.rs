@@ -66,7 +66,7 @@ Exit codes: 0 within tolerance, 1 a field crosses it (the first crossing is prin
     /// Run the built-in kiln-wall scenario through the audit driver and print its report.
     #[command(after_help = "The kiln wall: conduction through a 48-cell wall at about 1300 K during a slow firing \
 ramp, two fields (T in kelvin, and rise = T - 1300 K, the same physics as an offset), lenses bound and shadow, \
-absolute rounding budget 1 nK.\n\
+absolute rounding budget 1 nK, and a precision sweep (f64, f32, bf16, f16, and the least precision between them).\n\
 Exit codes: 0 the report was written, 2 unwritable output, 3 the audit failed.")]
     Demo {
         /// Also write the HTML report to this file.

@@ -134,6 +134,10 @@ fn demo_command_prints_the_report_and_writes_html() {
     let report = stdout(&output);
     assert!(report.contains("twinstep audit of wall_step"), "{report}");
     assert!(report.contains("Verdict:"), "{report}");
+    // The demo runs the precision sweep: its verdict names the least precision and what f32 would do.
+    let verdict = report.lines().find(|l| l.contains("Least precision: ")).expect("the sweep's sentence");
+    assert!(verdict.contains(" bits; f32 crosses at step "), "{verdict}");
+    assert!(report.contains("\nPrecision sweep\n"), "{report}");
     let page = std::fs::read_to_string(&html).expect("the HTML report");
     assert!(page.matches("<svg").count() >= 3, "plots in the page");
     // The audit writes profiles for 1-D fields by default: a space × time map per field (T, rise) and lens.

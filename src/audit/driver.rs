@@ -18,9 +18,10 @@ use std::time::{Duration, Instant};
 
 use super::lens_thread::{self, AuditLens, ChunkResult, LensChannels};
 use super::recorder::{LensInfo, Plan};
-use super::{Error, RecordPolicy, Recorder, Scenario, Tolerance, RUN_ENV, TRACE_ENV};
+use super::{Error, ProgramFloat, RecordPolicy, Recorder, Scenario, Tolerance, RUN_ENV, TRACE_ENV};
 use crate::attribution::AttributeOptions;
 use crate::events::Collector;
+use crate::sweep::{Sweep, SweepError, SweepOutcome, SweepPlan};
 use crate::trace::{AttributionRecord, Trace};
 
 /// A lens's thread body, instantiated for the lens type when it is added.
@@ -47,23 +48,85 @@ struct LensEntry<S> {
 ///         .report()
 /// }
 /// ```
-pub struct Audit<'s, S: Scenario> {
+///
+/// The scenario's float is the program's (`F`, inferred from the scenario: `f64`, or `f32` for a
+/// `Scenario<f32>`, whose lenses are the binary32 ones, `docs/audit.md`).
+pub struct Audit<'s, S, F> {
     scenario: &'s S,
     plan: Plan,
     lenses: Vec<LensEntry<S>>,
-    attribution: Option<AttributeOptions>,
+    /// The attribution to run beside the lenses, into the same trace ([`Audit::attribute_with`]).
+    attribution: Option<AttributionHook<S>>,
+    /// The precision sweep to run after the lenses, into the same trace ([`Audit::sweep`]).
+    sweep: Option<SweepHook<S>>,
+    float: std::marker::PhantomData<fn() -> F>,
 }
 
-impl<'s, S: Scenario> Audit<'s, S> {
+/// An attribution of an audit's scenario: its options, and the attribution's run for the scenario's type, taken
+/// where the scenario is known to be an f64 one ([`Audit::attribute_with`]) so that [`Audit::run`] stays generic.
+struct AttributionHook<S> {
+    options: AttributeOptions,
+    run: fn(&S, &AttributeOptions, u64) -> Result<AttributionRecord, Error>,
+}
+
+/// A precision sweep of an audit's scenario: its plan, and the sweep's two calls for the scenario's type, taken
+/// where the scenario is known to be an f64 one ([`Audit::sweep`]) so that [`Audit::run`] stays generic.
+struct SweepHook<S> {
+    plan: SweepPlan,
+    validate: fn(&S, &Plan, SweepPlan) -> Result<(), SweepError>,
+    run: fn(&S, &Plan, SweepPlan) -> Result<SweepOutcome, SweepError>,
+}
+
+impl<'s, S: Scenario> Audit<'s, S, f64> {
+    /// Also attributes the error of the audit's last step to the kernel's source lines, with the defaults of
+    /// [`AttributeOptions::new`]: the trace then carries an `attribution` record and every report a table of the
+    /// lines that make the error, with the remedy where the pattern is known (`docs/attribution.md`).
+    #[must_use]
+    pub fn attribute(self) -> Self {
+        self.attribute_with(AttributeOptions::new())
+    }
+
+    /// Attributes the error as `options` say (fewer steps than the audit, the lines to ablate, the fields that
+    /// carry another with a remedy applied).
+    #[must_use]
+    pub fn attribute_with(mut self, options: AttributeOptions) -> Self {
+        self.attribution =
+            Some(AttributionHook { options, run: |scenario, options, step| options.runner(scenario, step).run() });
+        self
+    }
+
+    /// Also runs the precision sweep of `plan` ([`crate::sweep`]) — the same scenario, tolerance, steps (unless the
+    /// plan audits fewer) and horizon, as if the program computed in each of the plan's formats — after the lenses,
+    /// and appends its `format_run` and `sweep` records to this audit's trace, so one trace carries the lens audit
+    /// and the sweep and the report names the least precision. Each format's run writes its own trace beside it
+    /// (`NAME.FORMAT.jsonl`). The plan is checked with everything else before any file is created.
+    #[must_use]
+    pub fn sweep(mut self, plan: SweepPlan) -> Self {
+        self.sweep = Some(SweepHook {
+            plan,
+            validate: |scenario, audit, plan| Sweep::attached(scenario, audit, plan).validate(),
+            run: |scenario, audit, plan| Sweep::attached(scenario, audit, plan).run(),
+        });
+        self
+    }
+}
+
+impl<'s, F: ProgramFloat, S: Scenario<F>> Audit<'s, S, F> {
     /// An audit of `steps` steps of `scenario` against `tolerance` (checked when the audit runs). The trace goes
     /// to the path in the `TWINSTEP_TRACE` environment variable when it is set, else to the system's temporary
     /// directory, unless [`Audit::trace`] says otherwise.
-    pub fn new(scenario: &'s S, tolerance: Tolerance, steps: u64) -> Audit<'s, S> {
+    pub fn new(scenario: &'s S, tolerance: Tolerance, steps: u64) -> Audit<'s, S, F> {
         // `twinstep run` tells a harness where its trace goes through this variable (see the CLI's run command).
         let trace = std::env::var_os(TRACE_ENV)
             .map_or_else(|| std::env::temp_dir().join(format!("twinstep-{}.jsonl", std::process::id())), PathBuf::from);
-        let plan = Plan::new("kernel", scenario.fields(), tolerance, steps, trace);
-        Audit { scenario, plan, lenses: Vec::new(), attribution: None }
+        Audit {
+            scenario,
+            plan: Plan::new("kernel", scenario.fields(), tolerance, steps, trace),
+            lenses: Vec::new(),
+            attribution: None,
+            sweep: None,
+            float: std::marker::PhantomData,
+        }
     }
 
     /// The kernel's name, for the trace and the report.
@@ -119,31 +182,15 @@ impl<'s, S: Scenario> Audit<'s, S> {
         self
     }
 
-    /// Also attributes the error of the audit's last step to the kernel's source lines, with the defaults of
-    /// [`AttributeOptions::new`]: the trace then carries an `attribution` record and every report a table of the
-    /// lines that make the error, with the remedy where the pattern is known (`docs/attribution.md`).
-    #[must_use]
-    pub fn attribute(self) -> Self {
-        self.attribute_with(AttributeOptions::new())
-    }
-
-    /// Attributes the error as `options` say (fewer steps than the audit, the lines to ablate, the fields that
-    /// carry another with a remedy applied).
-    #[must_use]
-    pub fn attribute_with(mut self, options: AttributeOptions) -> Self {
-        self.attribution = Some(options);
-        self
-    }
-
     /// Adds a lens; each lens runs on its own thread. Either variant of a lens may be given (`Bound` or
     /// `BoundUnwatched`): the driver runs the unwatched one and replays with the watched one where a value turns
     /// non-finite, so both audit the same way under the watched lens's name.
     #[must_use]
-    pub fn lens<L: AuditLens>(mut self) -> Self {
+    pub fn lens<L: AuditLens<F>>(mut self) -> Self {
         let collected_here = Collector::active_here::<L>;
         self.lenses.push(LensEntry {
             info: LensInfo::of::<L::Watched>(),
-            run: lens_thread::run::<L, S>,
+            run: lens_thread::run::<L, S, F>,
             collected_here,
         });
         self
@@ -167,20 +214,32 @@ impl<'s, S: Scenario> Audit<'s, S> {
         // The plan first, so that a plan's mistake is named as such rather than as the attribution's it causes.
         self.plan.validate()?;
         let attribution = match &self.attribution {
-            Some(options) => {
-                let step = options.checked_step(&self.plan.fields, self.plan.steps)?;
-                Some((options, options.runner(self.scenario, step), step))
-            }
+            Some(hook) => Some((hook, hook.options.checked_step(&self.plan.fields, self.plan.steps)?)),
             None => None,
         };
+        let failed = |e| Error::Sweep(Box::new(e));
+        if let Some(sweep) = &self.sweep {
+            (sweep.validate)(self.scenario, &self.plan, sweep.plan.clone()).map_err(failed)?;
+        }
+        let mut trace = self.run_lenses(attribution)?;
+        if let Some(sweep) = &self.sweep {
+            let outcome = (sweep.run)(self.scenario, &self.plan, sweep.plan.clone()).map_err(failed)?;
+            (trace.format_runs, trace.sweep) = (outcome.runs, Some(outcome.summary));
+        }
+        Ok(trace)
+    }
+
+    /// The lenses' part of [`Audit::run`] (with the attribution beside them), once everything is checked.
+    fn run_lenses(&self, attribution: Option<(&AttributionHook<S>, u64)>) -> Result<Trace, Error> {
         let mut recorder = Recorder::for_lenses(&self.plan, self.lenses.iter().map(|l| l.info.clone()).collect())?;
         let (scenario, plan) = (self.scenario, &self.plan);
         std::thread::scope(|scope| {
-            let attributing = attribution.map(|(options, runner, step)| {
+            let attributing = attribution.map(|(hook, step)| {
                 let (answer, answered) = channel();
-                let applied = options.applied().to_vec();
+                let applied = hook.options.applied().to_vec();
                 scope.spawn(move || {
-                    let record = runner.run().map(|record| AttributionRecord { applied, ..record });
+                    let record = (hook.run)(scenario, &hook.options, step)
+                        .map(|record| AttributionRecord { applied, ..record });
                     // The receiver is gone only when the audit stopped on an error of its own.
                     let _ = answer.send(record);
                 });

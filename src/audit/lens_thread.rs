@@ -17,7 +17,7 @@ use std::time::{Duration, Instant};
 
 use super::measure::{first_mismatch, measure, representation, FieldMeasure, LensStep};
 use super::recorder::Plan;
-use super::{Error, Levels, Scenario};
+use super::{Error, Levels, ProgramFloat, Scenario};
 use crate::events::{EventKind, Site};
 use crate::lens::{with_literal_mode, Lens, LiteralMode};
 use crate::{BaseOps, MixedOps, RefOps};
@@ -35,55 +35,59 @@ pub(super) struct LensChannels {
 }
 
 /// A lens an audit can run: a [`Lens`] whose two variants a twin accepts — the bounds every twin's `where` clause
-/// carries, for the unwatched variant the driver runs and for the watched one it replays with. Implemented for
-/// every such lens, so generic code that starts audits (`fn f<L: AuditLens>`) names this one bound.
+/// carries, for the unwatched variant the driver runs and for the watched one it replays with — in a program that
+/// computes in `F` (`f64` by default; `f32` for the twin of an `f32` kernel, [`ProgramFloat`]). Implemented for
+/// every such lens, so generic code that starts audits (`fn f<L: AuditLens>`) names this one bound; a lens that
+/// cannot take the program's float (the f64-primal lenses in an `f32` program) is a compile error at `.lens`.
 ///
 /// Its methods are the scenario's own, for the two variants: the one place where those bounds are needed (Rust does
-/// not imply them), so that the lens thread is written against `L: AuditLens` alone.
-pub trait AuditLens: Lens {
+/// not imply them), so that the lens thread is written against `L: AuditLens<F>` alone.
+pub trait AuditLens<F: ProgramFloat = f64>: Lens {
     /// The scenario's initial data, with the watched variant.
     #[doc(hidden)]
-    fn init_watched<S: Scenario>(scenario: &S, levels: &mut Levels<Self::Watched>) -> Result<(), Error>;
+    fn init_watched<S: Scenario<F>>(scenario: &S, levels: &mut Levels<Self::Watched>) -> Result<(), Error>;
     /// The scenario's initial data, with the unwatched variant.
     #[doc(hidden)]
-    fn init_unwatched<S: Scenario>(scenario: &S, levels: &mut Levels<Self::Unwatched>) -> Result<(), Error>;
+    fn init_unwatched<S: Scenario<F>>(scenario: &S, levels: &mut Levels<Self::Unwatched>) -> Result<(), Error>;
     /// One step of the scenario, with the unwatched variant.
     #[doc(hidden)]
-    fn step_unwatched<S: Scenario>(scenario: &S, levels: &mut Levels<Self::Unwatched>);
+    fn step_unwatched<S: Scenario<F>>(scenario: &S, levels: &mut Levels<Self::Unwatched>);
     /// One step of the scenario, with the watched variant.
     #[doc(hidden)]
-    fn step_watched<S: Scenario>(scenario: &S, levels: &mut Levels<Self::Watched>);
+    fn step_watched<S: Scenario<F>>(scenario: &S, levels: &mut Levels<Self::Watched>);
 }
 
-impl<L> AuditLens for L
+impl<L, F> AuditLens<F> for L
 where
+    F: ProgramFloat,
     L: Lens,
-    L::Unwatched: BaseOps<f64>,
-    f64: MixedOps<L::Unwatched> + MixedOps<L::Watched>,
+    L::Unwatched: BaseOps<F>,
+    F: MixedOps<L::Unwatched> + MixedOps<L::Watched>,
     for<'a> &'a L::Unwatched: RefOps<L::Unwatched>,
-    L::Watched: BaseOps<f64>,
+    L::Watched: BaseOps<F>,
     for<'a> &'a L::Watched: RefOps<L::Watched>,
 {
-    fn init_watched<S: Scenario>(scenario: &S, levels: &mut Levels<Self::Watched>) -> Result<(), Error> {
+    fn init_watched<S: Scenario<F>>(scenario: &S, levels: &mut Levels<Self::Watched>) -> Result<(), Error> {
         scenario.init(levels)
     }
 
-    fn init_unwatched<S: Scenario>(scenario: &S, levels: &mut Levels<Self::Unwatched>) -> Result<(), Error> {
+    fn init_unwatched<S: Scenario<F>>(scenario: &S, levels: &mut Levels<Self::Unwatched>) -> Result<(), Error> {
         scenario.init(levels)
     }
 
-    fn step_unwatched<S: Scenario>(scenario: &S, levels: &mut Levels<Self::Unwatched>) {
+    fn step_unwatched<S: Scenario<F>>(scenario: &S, levels: &mut Levels<Self::Unwatched>) {
         scenario.step(levels);
     }
 
-    fn step_watched<S: Scenario>(scenario: &S, levels: &mut Levels<Self::Watched>) {
+    fn step_watched<S: Scenario<F>>(scenario: &S, levels: &mut Levels<Self::Watched>) {
         scenario.step(levels);
     }
 }
 
-/// The body of a lens's thread, instantiated for the lens and the scenario when the lens is added to an audit.
-pub(super) fn run<L: AuditLens, S: Scenario>(scenario: &S, plan: &Plan, channels: LensChannels) {
-    LensThread::<L, S>::new(scenario, plan).serve(channels);
+/// The body of a lens's thread, instantiated for the lens, the scenario and its float when the lens is added to an
+/// audit.
+pub(super) fn run<L: AuditLens<F>, S: Scenario<F>, F: ProgramFloat>(scenario: &S, plan: &Plan, channels: LensChannels) {
+    LensThread::<L, S, F>::new(scenario, plan).serve(channels);
 }
 
 /// The most steps one lens thread replays with the watched lens; past it, NaN/∞ events still name the step and the
@@ -138,13 +142,13 @@ struct Checkpoint<T> {
 }
 
 /// The state of one lens's thread between chunks.
-struct LensThread<'s, L: Lens, S> {
+struct LensThread<'s, L: Lens, S, F> {
     scenario: &'s S,
     plan: &'s Plan,
     /// The lens's levels, unwatched.
     twin: Levels<L::Unwatched>,
-    /// The plain f64 original's levels.
-    original: Levels<f64>,
+    /// The plain original's levels, in the program's float.
+    original: Levels<F>,
     /// The same lens with literals and constants as compiled, when the audit splits off the representation error:
     /// what is left in it is arithmetic error only.
     compiled: Option<Levels<L::Unwatched>>,
@@ -154,7 +158,7 @@ struct LensThread<'s, L: Lens, S> {
     next: Option<u64>,
 }
 
-impl<'s, L: AuditLens, S: Scenario> LensThread<'s, L, S> {
+impl<'s, L: AuditLens<F>, S: Scenario<F>, F: ProgramFloat> LensThread<'s, L, S, F> {
     fn new(scenario: &'s S, plan: &'s Plan) -> Self {
         let (levels, stages) = (scenario.scheme().levels(), scenario.stages());
         LensThread {
@@ -282,12 +286,13 @@ impl<'s, L: AuditLens, S: Scenario> LensThread<'s, L, S> {
                 ..measure(f, &plan.tolerance, plan.profiled(i))
             })
             .collect();
-        // A lens whose primal emulates another format computes something else by design: nothing to compare.
+        // A lens whose primal emulates another format than the program's computes something else by design:
+        // nothing to compare.
         let mismatches = self
             .twin
             .current
             .iter()
-            .take(if L::NATIVE_PRIMAL { usize::MAX } else { 0 })
+            .take(if F::reproduced_by::<L>() { usize::MAX } else { 0 })
             .zip(&self.original.current)
             .enumerate()
             .filter_map(|(i, (t, o))| first_mismatch(i, t, o))

@@ -244,10 +244,12 @@ fn measure_with<L: Lens>(cells: &[L], profiled: bool, ratio: impl Fn(f64, f64) -
     }
 }
 
-/// The first cell where a lens's primal is not bit-identical to the plain f64 run (NaNs of any payload agree).
-pub(crate) fn first_mismatch<L: Real>(field: usize, lens: &[L], original: &[f64]) -> Option<Mismatch> {
+/// The first cell where a lens's primal is not bit-identical to the plain run (NaNs of any payload agree). The
+/// plain run's float widens to f64 exactly (an `f32` original: every binary32 value is a double), so one comparison
+/// of the doubles' bits serves both.
+pub(crate) fn first_mismatch<L: Real, F: Real>(field: usize, lens: &[L], original: &[F]) -> Option<Mismatch> {
     lens.iter().zip(original).enumerate().find_map(|(flat, (&l, &o))| {
-        let p = l.primal();
+        let (p, o) = (l.primal(), o.primal());
         let same = p.to_bits() == o.to_bits() || (p.is_nan() && o.is_nan());
         (!same).then_some(Mismatch { field, flat, lens_primal: p, original: o })
     })

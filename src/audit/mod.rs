@@ -26,7 +26,7 @@ pub use field::{Field, Levels};
 pub use lens_thread::AuditLens;
 pub use loop_audit::{capture, record_step, FieldCells, LoopAudit, Snapshot, StepNumber};
 pub use recorder::{Plan, Recorder};
-pub use scenario::{Scenario, Scheme};
+pub use scenario::{ProgramFloat, Scenario, Scheme};
 pub use tolerance::{ulp, Tolerance};
 
 /// The environment variable that tells a harness where to write its trace: `twinstep run` sets it, and
@@ -78,6 +78,8 @@ pub enum Error {
     ScenarioPanicked { lens: String, step: u64, message: String },
     /// The attribution an audit was asked for cannot be made as asked (`Audit::attribute_with`).
     BadAttribution { reason: String },
+    /// The precision sweep asked for with [`Audit::sweep`] cannot run as asked, or one of its runs failed.
+    Sweep(Box<crate::sweep::SweepError>),
 }
 
 impl std::fmt::Display for Error {
@@ -123,6 +125,7 @@ that recorder before auditing the same lens"
                 write!(f, "the scenario panicked in lens {lens} at step {step}: {message}")
             }
             Error::BadAttribution { reason } => write!(f, "the attribution cannot run as asked: {reason}"),
+            Error::Sweep(e) => write!(f, "the precision sweep: {e}"),
         }
     }
 }
@@ -135,6 +138,11 @@ impl Error {
     pub fn exit_code(&self) -> u8 {
         match self {
             Error::ScenarioPanicked { .. } => 3,
+            // A run of the sweep failed as the audit would have: the same code.
+            Error::Sweep(e) => match e.as_ref() {
+                crate::sweep::SweepError::Audit { source, .. } => source.exit_code(),
+                _ => 2,
+            },
             _ => 2,
         }
     }
@@ -144,6 +152,7 @@ impl std::error::Error for Error {
     fn source(&self) -> Option<&(dyn std::error::Error + 'static)> {
         match self {
             Error::TraceCreate { source, .. } | Error::TraceWrite { source, .. } => Some(source),
+            Error::Sweep(e) => Some(e.as_ref()),
             _ => None,
         }
     }

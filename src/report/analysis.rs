@@ -187,6 +187,8 @@ pub enum SectionKind {
     Verdict,
     Drift,
     Outcomes,
+    /// The precision sweep's runs and least precision ([`super::sweep`]), when the trace holds one.
+    Sweep,
     Steps,
     Bounds,
     Digits,
@@ -208,7 +210,7 @@ pub struct Section {
 }
 
 impl Section {
-    fn new(kind: SectionKind, title: Option<String>, data: impl Serialize, blocks: Vec<Block>) -> Section {
+    pub(crate) fn new(kind: SectionKind, title: Option<String>, data: impl Serialize, blocks: Vec<Block>) -> Section {
         // Serializing plain structs of strings, numbers and options cannot fail; `Null` keeps this panic-free.
         let data = serde_json::to_value(data).unwrap_or(serde_json::Value::Null);
         Section { kind, title, data, blocks }
@@ -306,14 +308,21 @@ impl<'a> Analysis<'a> {
         let notes = notes(&trace.events, trace.summary.as_ref().map_or(&[][..], |s| &s.event_totals));
         let verdict = trace.summary.as_ref().map(|s| {
             let v = &s.verdict;
-            VerdictView {
+            let mut view = VerdictView {
                 status: v.status,
                 until_step: v.until_step,
                 least_precision_bits: v.least_precision_bits,
                 label: words::status_label(v.status, v.until_step),
                 line: words::verdict_line(Some((v.status, v.until_step, v.least_precision_bits))),
                 explanation: v.text.replace(words::CAUTION, "").trim_end().to_owned(),
+            };
+            // A sweep in the trace answers what the audit's own verdict could not: the least precision.
+            if let Some(sentence) = super::sweep::verdict_sentence(trace) {
+                view.least_precision_bits = trace.sweep.as_ref().and_then(|s| s.least_bits);
+                view.line = format!("{} {sentence}", words::verdict_line(Some((v.status, v.until_step, None))));
+                view.explanation = view.explanation.replace(words::NO_SWEEP, &sentence);
             }
+            view
         });
         let notice = (!trace.is_complete()).then(|| {
             words::incomplete_notice(
@@ -395,6 +404,7 @@ impl<'a> Analysis<'a> {
         sections.push(self.verdict_section());
         sections.push(self.drift_section());
         sections.push(self.outcome_section());
+        sections.extend(super::sweep::section(self.trace));
         sections.extend(self.step_sections());
         if let Some(bounds) = self.bounds_section() {
             sections.push(bounds);

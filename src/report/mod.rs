@@ -10,6 +10,7 @@
 pub mod analysis;
 pub mod attribution;
 pub mod format;
+pub mod sweep;
 mod text;
 pub mod words;
 

@@ -12,7 +12,13 @@ pub const CAUTION: &str = "twinstep judges rounding error only, not discretizati
 that feed safety-relevant engineering decisions go through the verification and validation practice and codes that \
 apply locally, and licensed review.";
 
-/// The float type of the kernels twinstep audits: every lens's primal is binary64.
+/// The verdict's sentence when the audit ran no precision sweep; a report of a trace that holds one replaces it with
+/// the sweep's findings ([`super::sweep::verdict_sentence`]).
+pub const NO_SWEEP: &str = "The least precision that would meet the tolerance is not computed: that needs a sweep \
+over emulated formats, which this version does not run.";
+
+/// The float the verdict's sentences name: binary64, the float of the kernels twinstep audits but for `f32`
+/// programs (`Scenario<f32>`), whose reports still say `f64` (a limitation `docs/audit.md` states).
 pub const FLOAT: &str = "f64";
 
 fn basis(b: Basis) -> &'static str {
@@ -83,8 +89,7 @@ after {} steps, {} of the {} the tolerance ({tolerance}) allows there{horizon_pa
             )
         }
     };
-    let precision = "The least precision that would meet the tolerance is not computed: that needs a sweep over \
-emulated formats, which this version does not run.";
+    let precision = NO_SWEEP;
     let mut warnings = String::new();
     let mut after = Vec::new();
     for note in notes {

@@ -99,17 +99,51 @@ fn source_excerpts(analysis: &Analysis<'_>, out: &mut String) {
     }
 }
 
-/// The plots: ratios of every field first (the quickest answer to "which field, from when"), then each field's
-/// error history, then heat maps where the trace has per-cell profiles.
-fn figures(analysis: &Analysis<'_>, out: &mut String) {
-    out.push_str("<h2>Plots</h2>\n");
-    let figure = |svg: Result<Option<String>, String>, caption: String, out: &mut String| match svg {
+/// One plot with its caption, or the words that say why there is none.
+fn figure(svg: Result<Option<String>, String>, caption: String, out: &mut String) {
+    match svg {
         Ok(Some(svg)) => out
             .push_str(&format!("<figure class=\"plot\">{svg}<figcaption>{}</figcaption></figure>\n", inline(&caption))),
         Ok(None) => out
             .push_str(&format!("<p>{}: nothing to plot (no positive finite value recorded).</p>\n", inline(&caption))),
         Err(e) => out.push_str(&format!("<p class=\"notice\">{}: {}</p>\n", inline(&caption), escape(&e))),
-    };
+    }
+}
+
+/// The precision sweep's plots, under its section: per field, the error against the step of every format's run,
+/// and the error at the horizon against the precision with the fitted law where binary64 is not enough.
+fn sweep_figures(analysis: &Analysis<'_>, out: &mut String) {
+    let trace = analysis.trace;
+    let Some(sweep) = &trace.sweep else { return };
+    for field in &trace.header.fields {
+        figure(
+            plots::format_errors(&field.name, &trace.format_runs, trace.header.tolerance),
+            format!(
+                "Field `{}`: largest rounding error over the cells per step, one line per format the sweep ran (the \
+                 steps each run recorded).",
+                field.name
+            ),
+            out,
+        );
+        let need = sweep.needed.iter().find(|n| n.field == field.name);
+        figure(
+            plots::precision_errors(&field.name, &trace.format_runs, need),
+            format!(
+                "Field `{}`: error at the horizon (step {}) against the precision p of each run; the red line is \
+                 the error the tolerance allows at the worst cell{}.",
+                field.name,
+                sweep.horizon,
+                if need.is_some_and(|n| n.law.is_some()) { "; dashed: the fitted law of error against p" } else { "" }
+            ),
+            out,
+        );
+    }
+}
+
+/// The plots: ratios of every field first (the quickest answer to "which field, from when"), then each field's
+/// error history, then heat maps where the trace has per-cell profiles.
+fn figures(analysis: &Analysis<'_>, out: &mut String) {
+    out.push_str("<h2>Plots</h2>\n");
     figure(
         plots::tolerance_ratios(&analysis.outcomes),
         "Rounding error divided by what the tolerance allows, per field and lens. Above the red line at 1 the \
@@ -229,8 +263,10 @@ pub fn render(analysis: &Analysis<'_>) -> String {
                 Block::Figures => figures(analysis, &mut out),
             }
         }
-        if section.kind == SectionKind::Attribution {
-            source_excerpts(analysis, &mut out);
+        match section.kind {
+            SectionKind::Attribution => source_excerpts(analysis, &mut out),
+            SectionKind::Sweep => sweep_figures(analysis, &mut out),
+            _ => {}
         }
     }
     out.push_str("</body>\n</html>\n");

@@ -10,6 +10,7 @@ use crate::analysis::Outcome;
 use crate::trace::{Profile, Tolerance};
 use plotters::coord::Shift;
 use plotters::prelude::*;
+use twinstep::sweep::{FormatRun, NeededBits};
 
 /// Plot size in pixels: wide enough for a laptop screen, two plots fit a screen's height. Common practice, no source.
 const WIDTH: u32 = 900;
@@ -74,9 +75,10 @@ struct Line {
     points: Vec<(f64, f64)>,
 }
 
-/// Draws lines on a log-y chart with a caption and axis names, plus an optional horizontal reference line.
+/// Draws lines on a log-y chart (x: steps, or bits of precision) with a caption and axis names, plus an optional horizontal reference line.
 fn line_chart(
     caption: &str,
+    x_name: &str,
     y_name: &str,
     lines: &[Line],
     reference: Option<(f64, &str)>,
@@ -107,7 +109,7 @@ fn line_chart(
             .configure_mesh()
             .label_style(("sans-serif", 14))
             .axis_desc_style(("sans-serif", 15))
-            .x_desc("step")
+            .x_desc(x_name)
             .y_desc(y_name)
             .y_label_formatter(&|v| format!("{v:.0e}"))
             .x_label_formatter(&|v| format!("{v:.0}"))
@@ -176,11 +178,7 @@ pub fn ceiling(outcomes: &[Outcome], tolerance: Tolerance) -> f64 {
 /// The error history of one field: per lens the estimate (solid) and the guaranteed bound (dashed), with the
 /// absolute part of the tolerance as a red line where the tolerance has one.
 pub fn field_errors(field: &str, outcomes: &[Outcome], tolerance: Tolerance) -> Result<Option<String>, String> {
-    let reference = match tolerance {
-        Tolerance::Absolute { atol } => positive(Some(atol)).map(|a| (a, "tolerance (atol)")),
-        Tolerance::Mixed { atol, .. } => positive(Some(atol)).map(|a| (a, "tolerance, absolute part (atol)")),
-        Tolerance::Relative { .. } | Tolerance::Ulps { .. } => None,
-    };
+    let reference = atol_line(tolerance);
     // A bound that has run away (the dependency effect) would squash the estimates into one line at the
     // bottom: the axis stops three decades above the largest estimate and tolerance, and the bound is drawn
     // clipped there, its label saying so.
@@ -209,7 +207,7 @@ pub fn field_errors(field: &str, outcomes: &[Outcome], tolerance: Tolerance) -> 
             lines.push(Line { label, colour: colour(index), dashed: true, points: bound });
         }
     }
-    line_chart(&format!("rounding error in `{field}`"), "|primal − exact| (max over cells)", &lines, reference)
+    line_chart(&format!("rounding error in `{field}`"), "step", "|primal − exact| (max over cells)", &lines, reference)
 }
 
 /// Every field and lens as `err / allowed`, against the tolerance line at 1: which field crosses, and when.
@@ -236,9 +234,85 @@ pub fn tolerance_ratios(outcomes: &[Outcome]) -> Result<Option<String>, String> 
         .collect();
     line_chart(
         "error / allowed, every field and lens",
+        "step",
         "err / allowed (max over cells)",
         &lines,
         Some((1.0, "tolerance")),
+    )
+}
+
+/// The absolute part of a tolerance as a reference line, where it has one.
+fn atol_line(tolerance: Tolerance) -> Option<(f64, &'static str)> {
+    match tolerance {
+        Tolerance::Absolute { atol } => positive(Some(atol)).map(|a| (a, "tolerance (atol)")),
+        Tolerance::Mixed { atol, .. } => positive(Some(atol)).map(|a| (a, "tolerance, absolute part (atol)")),
+        Tolerance::Relative { .. } | Tolerance::Ulps { .. } => None,
+    }
+}
+
+/// A precision sweep's curves of one field: its largest error against the step, one line per format's run (the
+/// steps each run's trace recorded), with the absolute part of the tolerance where it has one.
+pub fn format_errors(field: &str, runs: &[FormatRun], tolerance: Tolerance) -> Result<Option<String>, String> {
+    let lines: Vec<Line> = runs
+        .iter()
+        .enumerate()
+        .filter_map(|(index, run)| {
+            let points: Vec<(f64, f64)> = run
+                .fields
+                .iter()
+                .find(|f| f.name == field)?
+                .history
+                .iter()
+                .filter_map(|&(step, err)| positive(Some(err)).map(|e| (step as f64, e)))
+                .collect();
+            let label = format!("{} ({} bits)", run.format, run.bits);
+            (!points.is_empty()).then(|| Line { label, colour: colour(index), dashed: false, points })
+        })
+        .collect();
+    line_chart(
+        &format!("rounding error in `{field}`, per format"),
+        "step",
+        "|primal − exact| (max over cells)",
+        &lines,
+        atol_line(tolerance),
+    )
+}
+
+/// A precision sweep's error at the horizon of one field against the precision p (every run, by bits), the error
+/// the tolerance allows there as the reference line, and the fitted law `log2 err ≈ a + b·p` dashed where binary64
+/// is not enough and there is one (drawn out to the bits it says are needed).
+pub fn precision_errors(field: &str, runs: &[FormatRun], need: Option<&NeededBits>) -> Result<Option<String>, String> {
+    let mut points: Vec<(f64, f64)> = runs
+        .iter()
+        .filter_map(|run| {
+            let f = run.fields.iter().find(|f| f.name == field)?;
+            positive(Some(f.horizon_err)).map(|e| (f64::from(run.bits), e))
+        })
+        .collect();
+    points.sort_by(|a, b| a.0.total_cmp(&b.0));
+    points.dedup_by(|a, b| a.0 == b.0);
+    // What the tolerance allows at the widest run's worst cell: the level a format has to stay under.
+    let allowed = runs
+        .iter()
+        .max_by_key(|r| r.bits)
+        .and_then(|r| r.fields.iter().find(|f| f.name == field))
+        .and_then(|f| positive(Some(f.allowed_err)));
+    let mut lines = vec![Line { label: "error at the horizon".to_owned(), colour: colour(0), dashed: false, points }];
+    if let Some((law, needed)) = need.and_then(|n| n.law.map(|l| (l, n.bits))) {
+        let (lo, hi) = lines[0].points.iter().fold((f64::INFINITY, 0.0_f64), |(lo, hi), p| (lo.min(p.0), hi.max(p.0)));
+        let hi = needed.filter(|b| b.is_finite()).map_or(hi, |b| hi.max(b.ceil()));
+        if lo < hi {
+            let label = format!("fitted law log2 err = {:.2} {:+.3}·p", law.a, law.b);
+            let points = vec![(lo, law.at(lo)), (hi, law.at(hi))];
+            lines.push(Line { label, colour: colour(1), dashed: true, points });
+        }
+    }
+    line_chart(
+        &format!("error in `{field}` at the horizon against precision"),
+        "precision p (significand bits)",
+        "|primal − exact| at the horizon",
+        &lines,
+        allowed.map(|a| (a, "allowed error")),
     )
 }
 

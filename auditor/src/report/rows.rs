@@ -4,7 +4,7 @@
 //! that say what the numbers are and carry the caution, and, for a trace with an attribution, comment lines with
 //! the top source lines of each ranked field.
 
-use crate::analysis::{Analysis, Row, Section, VerdictView, CAUTION, FLOAT, ROW_COLUMNS};
+use crate::analysis::{Analysis, Block, Row, Section, SectionKind, VerdictView, CAUTION, FLOAT, ROW_COLUMNS};
 use serde::Serialize;
 use twinstep::report::attribution::AttributionFacts;
 
@@ -129,6 +129,27 @@ fn csv_value(value: Option<&serde_json::Value>) -> String {
     }
 }
 
+/// The precision sweep as comment lines before the header, when the trace holds one: its sentences, then one
+/// line per format's run (`name=value` pairs of the sweep section's table), so the rows below stay one table.
+fn sweep_comments(analysis: &Analysis<'_>, out: &mut String) {
+    let one_line = |text: &str| text.replace(['\n', '\r'], " ").replace('`', "");
+    for section in analysis.sections.iter().filter(|s| s.kind == SectionKind::Sweep) {
+        for block in &section.blocks {
+            match block {
+                Block::Paragraph { text } => out.push_str(&format!("# precision sweep: {}\n", one_line(text))),
+                Block::Table { head, rows, .. } => {
+                    for row in rows {
+                        let pairs: Vec<String> =
+                            head.iter().zip(row).map(|(h, c)| format!("{h}={}", one_line(&c.text))).collect();
+                        out.push_str(&format!("# precision sweep run: {}\n", pairs.join(", ")));
+                    }
+                }
+                _ => {}
+            }
+        }
+    }
+}
+
 /// The CSV: comment lines starting with `#` (what the rows are, the verdict line, the caution), a header line with
 /// [`ROW_COLUMNS`], then one line per row. Readers that do not skip comments can drop the lines before the header.
 #[must_use]
@@ -141,6 +162,7 @@ pub fn csv(analysis: &Analysis<'_>) -> String {
         analysis.trace.header.kernel.replace(['\n', '\r'], " ")
     );
     attribution_comments(analysis, &mut out);
+    sweep_comments(analysis, &mut out);
     out.push_str(&ROW_COLUMNS.join(","));
     out.push('\n');
     for row in analysis.rows() {

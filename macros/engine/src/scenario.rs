@@ -18,6 +18,9 @@
 //! }                                              }
 //! ```
 //!
+//! For `impl Scenario<f32> for …` (an `f32` program) the predicates are over `f32` (`T: BaseOps<f32>`,
+//! `f32: MixedOps<T>`), the bounds of an `f32` kernel's twin.
+//!
 //! Every method of the block with one type parameter gets the predicates for it; the others (`fields`,
 //! `step_original`, …) are left as they are. Misuse is a compile error on the user's tokens, and the item is
 //! emitted unchanged beside it so that nothing cascades.
@@ -49,9 +52,13 @@ pub fn expand_scenario(attr: TokenStream, item: TokenStream) -> TokenStream {
             return with_errors(item, errors);
         }
     };
+    let base = match program_float(&block) {
+        Ok(base) => base,
+        Err(error) => return with_errors(item, [errors, vec![error]].concat()),
+    };
     for member in &mut block.items {
         let ImplItem::Fn(method) = member else { continue };
-        if let Err(error) = add_bounds(method) {
+        if let Err(error) = add_bounds(method, base) {
             errors.push(error);
         }
     }
@@ -62,8 +69,25 @@ pub fn expand_scenario(attr: TokenStream, item: TokenStream) -> TokenStream {
     }
 }
 
-/// Adds the twin predicates for the method's type parameter, if it has one.
-fn add_bounds(method: &mut syn::ImplItemFn) -> syn::Result<()> {
+/// The program's float, from the trait's generic argument: `Scenario` and `Scenario<f64>` are `f64`,
+/// `Scenario<f32>` is `f32` (the twin bounds are then over `f32`).
+fn program_float(block: &syn::ItemImpl) -> syn::Result<BaseFloat> {
+    let Some((_, path, _)) = &block.trait_ else { return Ok(BaseFloat::F64) };
+    let Some(last) = path.segments.last() else { return Ok(BaseFloat::F64) };
+    let syn::PathArguments::AngleBracketed(args) = &last.arguments else { return Ok(BaseFloat::F64) };
+    match args.args.iter().collect::<Vec<_>>().as_slice() {
+        [syn::GenericArgument::Type(syn::Type::Path(t))] if t.path.is_ident("f64") => Ok(BaseFloat::F64),
+        [syn::GenericArgument::Type(syn::Type::Path(t))] if t.path.is_ident("f32") => Ok(BaseFloat::F32),
+        _ => Err(syn::Error::new_spanned(
+            &last.arguments,
+            "a scenario's program float is `f64` (the default: `impl Scenario for …`) or `f32` (`impl Scenario<f32> \
+             for …`)",
+        )),
+    }
+}
+
+/// Adds the twin predicates for the method's type parameter over the program's float, if it has one.
+fn add_bounds(method: &mut syn::ImplItemFn, base: BaseFloat) -> syn::Result<()> {
     let params: Vec<_> = method
         .sig
         .generics
@@ -85,7 +109,7 @@ fn add_bounds(method: &mut syn::ImplItemFn) -> syn::Result<()> {
         )),
         [] => Ok(()),
         [param] => {
-            let mut ctx = Ctx::new(BaseFloat::F64, []);
+            let mut ctx = Ctx::new(base, []);
             ctx.param = param.clone();
             let predicates = ctx.where_predicates();
             let parsed = syn::parse::Parser::parse2(
@@ -150,6 +174,18 @@ mod tests {
         let rest = out.split("fn step_original").nth(1).unwrap_or_default();
         assert!(!rest.contains("where") && !out.split("fn step <").next().unwrap_or_default().contains("where"));
         assert!(!out.contains("compile_error"), "{out}");
+    }
+
+    #[test]
+    fn an_f32_scenario_gets_the_f32_bounds() {
+        let out = expand(
+            TokenStream::new(),
+            quote! { impl Scenario<f32> for Rod { fn step<T>(&self, l: &mut Levels<T>) {} } },
+        );
+        assert!(out.contains("T : :: twinstep :: Real + :: twinstep :: BaseOps < f32 >"), "{out}");
+        assert!(out.contains("f32 : :: twinstep :: MixedOps < T > + :: twinstep :: MixedOps < f32 >"), "{out}");
+        let other = expand(TokenStream::new(), quote! { impl Scenario<f16> for Rod {} });
+        assert!(other.contains("compile_error") && other.contains("`f64`") && other.contains("`f32`"), "{other}");
     }
 
     #[test]
