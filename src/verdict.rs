@@ -122,11 +122,26 @@ pub struct Evidence {
     pub field: String,
     /// Whether the lens's numbers are guaranteed bounds rather than estimates.
     pub guaranteed: bool,
+    /// Whether the lens is certified and its certificate held for every field over the whole run: its error is
+    /// then known within a guaranteed interval at every step, and it judges alone ([`Standing::Guarantee`]).
+    pub certified: bool,
     pub first_crossing: Option<u64>,
     pub final_max_err: f64,
     /// `final_max_err / final tol_ratio`: the error the tolerance allowed at the worst cell at the last step.
     pub allowed_at_end: f64,
     pub growth: Option<Growth>,
+}
+
+impl Evidence {
+    /// What the lens's numbers are, for [`judging_by`].
+    #[must_use]
+    pub fn standing(&self) -> Standing {
+        match (self.certified, self.guaranteed) {
+            (true, _) => Standing::Guarantee,
+            (false, true) => Standing::Bound,
+            (false, false) => Standing::Estimate,
+        }
+    }
 }
 
 /// The rounding-only caution every verdict and report carries (worded in the report module).
@@ -140,15 +155,39 @@ pub enum Basis {
     Estimate,
     /// The guaranteed bounds (the audit ran no estimating lens).
     Bound,
+    /// The certified lens's error, known within a guaranteed interval at every step (its certificate held).
+    Guarantee,
+}
+
+/// What a lens's numbers are, for [`judging_by`].
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Standing {
+    /// An estimate of the error (a certified lens whose certificate stopped counts as one: its error is the
+    /// shadow's estimate).
+    Estimate,
+    /// A per-operation guaranteed bound, which may grow far beyond the error (the dependency effect).
+    Bound,
+    /// A certified lens whose certificate held throughout: the error within a tight guaranteed interval.
+    Guarantee,
 }
 
 /// The one rule for which lenses judge, shared by the verdict, every report format and the gate: the estimates
 /// when there are any — a guaranteed bound can grow by the dependency effect of enclosure arithmetic while the
 /// rounding error does not, so it would cry wolf — else the bounds, which errs on the safe side.
 pub fn judging<T>(items: &[T], guaranteed: impl Fn(&T) -> bool) -> (Basis, Vec<&T>) {
-    let has_estimates = items.iter().any(|item| !guaranteed(item));
+    judging_by(items, |item| if guaranteed(item) { Standing::Bound } else { Standing::Estimate })
+}
+
+/// [`judging`] with certified lenses: a certified lens whose certificate held throughout judges alone — its
+/// interval is as tight as the estimate and guaranteed, so nothing is gained by asking an estimate — else the rule
+/// of [`judging`], a certified lens whose certificate stopped counting as an estimate.
+pub fn judging_by<T>(items: &[T], standing: impl Fn(&T) -> Standing) -> (Basis, Vec<&T>) {
+    if items.iter().any(|item| standing(item) == Standing::Guarantee) {
+        return (Basis::Guarantee, items.iter().filter(|item| standing(item) == Standing::Guarantee).collect());
+    }
+    let has_estimates = items.iter().any(|item| standing(item) == Standing::Estimate);
     let basis = if has_estimates { Basis::Estimate } else { Basis::Bound };
-    (basis, items.iter().filter(|item| !has_estimates || !guaranteed(item)).collect())
+    (basis, items.iter().filter(|item| !has_estimates || standing(item) == Standing::Estimate).collect())
 }
 
 /// What decided the verdict: the facts its sentence is worded from (`crate::report::words::verdict_text`).
@@ -212,7 +251,7 @@ fn severity(e: &Evidence) -> f64 {
 /// Decides the verdict from the evidence of every lens and field, by the rule of [`judging`].
 #[must_use]
 pub fn decide(evidence: &[Evidence], steps_done: u64, horizon: u64) -> Decision {
-    let (basis, judges) = judging(evidence, |e| e.guaranteed);
+    let (basis, judges) = judging_by(evidence, Evidence::standing);
     let earliest = judges
         .iter()
         .filter_map(|e| crossing(e, steps_done, horizon).map(|c| (c, *e)))
@@ -294,6 +333,7 @@ mod tests {
             lens: "shadow".into(),
             field: "u".into(),
             guaranteed: false,
+            certified: false,
             first_crossing,
             final_max_err: 1e-14,
             allowed_at_end: 1e-10,

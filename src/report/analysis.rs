@@ -19,7 +19,7 @@ use serde::Serialize;
 use super::format;
 use super::words;
 use crate::trace::{EventName, EventRecord, EventTotal, FieldStep, Growth, Status, Trace};
-use crate::verdict::{judging, Basis};
+use crate::verdict::{judging_by, Basis, Standing};
 
 /// Rows of the per-step table per lens (all rows go to CSV and JSON).
 const TABLE_ROWS: usize = 14;
@@ -99,9 +99,25 @@ pub enum DigitFinding {
 #[derive(Clone, Debug, PartialEq, Serialize)]
 #[serde(tag = "note", rename_all = "snake_case")]
 pub enum Note {
-    BoundLost { lens: String, field: String, step: u64, bound: Option<f64>, estimate: Option<f64> },
-    UndecidedPaths { sites: usize, first_step: u64, first_site: Option<String> },
-    PrimalMismatch { lens: String, field: String, step: u64 },
+    BoundLost {
+        lens: String,
+        field: String,
+        step: u64,
+        bound: Option<f64>,
+        estimate: Option<f64>,
+    },
+    UndecidedPaths {
+        sites: usize,
+        first_step: u64,
+        first_site: Option<String>,
+    },
+    PrimalMismatch {
+        lens: String,
+        field: String,
+        step: u64,
+    },
+    /// A certified lens's guarantee: held, with its intervals, or where it stops (`super::certificate`).
+    Certificate(super::certificate::CertificateNote),
 }
 
 /// The verdict as a report shows it.
@@ -187,6 +203,8 @@ pub enum SectionKind {
     Verdict,
     Drift,
     Outcomes,
+    /// A certified lens's guarantee (`super::certificate`).
+    Certificate,
     Steps,
     Bounds,
     Digits,
@@ -206,7 +224,7 @@ pub struct Section {
 }
 
 impl Section {
-    fn new(kind: SectionKind, title: Option<String>, data: impl Serialize, blocks: Vec<Block>) -> Section {
+    pub(crate) fn new(kind: SectionKind, title: Option<String>, data: impl Serialize, blocks: Vec<Block>) -> Section {
         // Serializing plain structs of strings, numbers and options cannot fail; `Null` keeps this panic-free.
         let data = serde_json::to_value(data).unwrap_or(serde_json::Value::Null);
         Section { kind, title, data, blocks }
@@ -293,7 +311,7 @@ impl<'a> Analysis<'a> {
             }
         }
         let (basis, judging_names) = {
-            let (basis, judges) = judging(&trace.header.lenses, |l| trace.is_guaranteed(l));
+            let (basis, judges) = judging_by(&trace.header.lenses, |l| super::certificate::standing(trace, l));
             (basis, judges.into_iter().cloned().collect::<Vec<String>>())
         };
         for o in &mut outcomes {
@@ -301,17 +319,20 @@ impl<'a> Analysis<'a> {
         }
         let comparisons = comparisons(&outcomes);
         let digits = digit_findings(trace, &outcomes);
-        let notes = notes(&trace.events, trace.summary.as_ref().map_or(&[][..], |s| &s.event_totals));
+        let mut notes = notes(&trace.events, trace.summary.as_ref().map_or(&[][..], |s| &s.event_totals));
+        notes.extend(super::certificate::notes(trace));
         let verdict = trace.summary.as_ref().map(|s| {
             let v = &s.verdict;
-            VerdictView {
+            let mut view = VerdictView {
                 status: v.status,
                 until_step: v.until_step,
                 least_precision_bits: v.least_precision_bits,
                 label: words::status_label(v.status, v.until_step),
                 line: words::verdict_line(Some((v.status, v.until_step, v.least_precision_bits))),
                 explanation: v.text.replace(words::CAUTION, "").trim_end().to_owned(),
-            }
+            };
+            super::certificate::mark_verdict(&mut view, basis);
+            view
         });
         let notice = (!trace.is_complete()).then(|| {
             words::incomplete_notice(
@@ -333,7 +354,7 @@ impl<'a> Analysis<'a> {
             headline: String::new(),
             sections: Vec::new(),
         };
-        analysis.headline = words::headline(analysis.worst(), &analysis.early_bounds());
+        analysis.headline = words::headline(analysis.worst(), &analysis.early_bounds(), analysis.basis);
         analysis.sections = analysis.lay_out();
         analysis
     }
@@ -393,6 +414,7 @@ impl<'a> Analysis<'a> {
         sections.push(self.verdict_section());
         sections.push(self.drift_section());
         sections.push(self.outcome_section());
+        sections.extend(super::certificate::sections(self.trace));
         sections.extend(self.step_sections());
         if let Some(bounds) = self.bounds_section() {
             sections.push(bounds);
@@ -944,7 +966,9 @@ fn digit_findings(trace: &Trace, outcomes: &[Outcome]) -> Vec<DigitFinding> {
     let finals = finals(trace);
     let guaranteed = |lens: &str| outcomes.iter().any(|o| o.lens == lens && o.guaranteed);
     let mut findings = Vec::new();
-    for (lens, step, f) in finals.iter().filter(|(lens, _, _)| guaranteed(lens)) {
+    // Beside a certificate that holds, a per-operation bound that allows no digit says nothing about the result.
+    let certified = trace.header.lenses.iter().any(|l| super::certificate::standing(trace, l) == Standing::Guarantee);
+    for (lens, step, f) in finals.iter().filter(|(lens, _, _)| guaranteed(lens) && !certified) {
         // A guaranteed lens's bound written as `null` overflowed: it guarantees nothing.
         let bound = f.bound.unwrap_or(f64::INFINITY);
         if normwise(bound, f) < NO_DIGIT {

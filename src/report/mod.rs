@@ -7,6 +7,7 @@
 //! which a user's crate that only depends on `twinstep` should not build.
 
 pub mod analysis;
+pub mod certificate;
 pub mod format;
 mod text;
 pub mod words;

@@ -1,5 +1,7 @@
 //! `twinstep demo`: a built-in audit of a scenario of our own, the kiln wall ([`kiln`]), run through the audit
-//! driver with the bound and shadow lenses, so that a fresh clone shows the whole job in seconds.
+//! driver with the bound, shadow and certified lenses, so that a fresh clone shows the whole job in seconds: the
+//! per-operation bound lost to the dependency effect within a few steps, the shadow's estimate, and the certified
+//! lens's guarantee, which holds for the whole run and on which the verdict rests.
 //!
 //! The same conduction kernel advances two fields that hold the same physics two ways: `T`, the wall temperature
 //! in kelvin (about 1300 K), and `rise`, the temperature above the 1300 K soak. Every step adds a small firing
@@ -44,6 +46,7 @@ pub fn run(trace: &Path, steps: u64) -> Result<(), Failure> {
         .trace(trace)
         .lens::<Bound>()
         .lens::<Shadow>()
+        .certified()
         .run()
         .map(|_| ())
         .map_err(|e| Failure::harness(format!("demo audit failed: {e}")))
