@@ -550,7 +550,8 @@ arithmetic",
                 None => "First crossing: none, no judging lens went beyond the tolerance.".to_owned(),
             },
         });
-        if let Some(bound) = crossings.iter().filter(|e| !judges(&e.lens)).min_by_key(|e| e.step) {
+        let bound = |lens: &str| !judges(lens) && self.trace.is_guaranteed(lens);
+        if let Some(bound) = crossings.iter().filter(|e| bound(&e.lens)).min_by_key(|e| e.step) {
             blocks.push(Block::Paragraph {
                 text: format!(
                     "A guaranteed bound crosses the tolerance first at step {} (lens {}, field {}).",

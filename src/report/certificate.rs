@@ -237,12 +237,21 @@ pub fn mark_verdict(view: &mut VerdictView, basis: Basis) {
 #[must_use]
 pub fn undecided_detail(sites: &[UndecidedSite]) -> String {
     let sites: Vec<String> =
-        sites.iter().map(|s| format!("a {} at {} ({} time(s))", s.kind.wording(), s.site, s.count)).collect();
+        sites.iter().map(|s| format!("the {} at {} ({} time(s))", decision(s.kind), s.site, s.count)).collect();
     format!(
         "the ball shadow ± D could not decide {}: exact arithmetic could take another path there, so the certificate \
 ends for every field",
         sites.join(", ")
     )
+}
+
+/// What kind of decision an undecided event is about.
+fn decision(kind: EventName) -> &'static str {
+    match kind {
+        EventName::UndecidedComparison => "comparison",
+        EventName::UndecidedIndex => "integer conversion",
+        other => other.wording(),
+    }
 }
 
 /// The trace detail of a field whose guaranteed interval grew useless.

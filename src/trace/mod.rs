@@ -82,8 +82,14 @@ impl Trace {
     /// Whether `lens` has a guaranteed bound: as the header says, or, in a trace whose header does not say,
     /// when any of its step records has a bound (a bound that overflowed is written as `null`, so one record is
     /// not enough).
+    ///
+    /// A certified lens whose certificate stopped (a `certificate_end` record names it) is not: its bound held only
+    /// up to that step, so no report may read it as a guarantee of the run (its step records say where it held).
     #[must_use]
     pub fn is_guaranteed(&self, lens: &str) -> bool {
+        if self.certificate_ends.iter().any(|e| e.lens == lens) {
+            return false;
+        }
         match &self.header.guaranteed_lenses {
             Some(guaranteed) => guaranteed.iter().any(|g| g == lens),
             None => self.steps.iter().filter(|s| s.lens == lens).flat_map(|s| &s.fields).any(|f| f.bound.is_some()),
