@@ -358,6 +358,26 @@ mod tests {
     }
 
     #[test]
+    fn a_certificate_that_holds_judges_alone() {
+        // The rule of `judging_by` (docs/cli.md, "Which lenses judge"): a certified lens whose certificate held
+        // judges alone, even beside estimates; one whose certificate stopped counts as an estimate.
+        let certified =
+            Evidence { certified: true, guaranteed: false, lens: "certified".into(), ..evidence(None, None) };
+        let bound = Evidence { guaranteed: true, lens: "bound".into(), ..evidence(None, None) };
+        let all = [bound.clone(), evidence(None, None), certified.clone()];
+        let (basis, judges) = judging_by(&all, Evidence::standing);
+        assert_eq!((basis, judges.len(), judges[0].lens.as_str()), (Basis::Guarantee, 1, "certified"));
+        let stopped = Evidence { certified: false, ..certified };
+        let pair = [bound, stopped];
+        let (basis, judges) = judging_by(&pair, Evidence::standing);
+        assert_eq!((basis, judges.len(), judges[0].lens.as_str()), (Basis::Estimate, 1, "certified"));
+        // The certified lens's crossing decides the status as any judging lens's does.
+        let crossing = Evidence { certified: true, lens: "certified".into(), ..evidence(Some(42), None) };
+        let v = decide(&[evidence(None, None), crossing], 100, 100);
+        assert_eq!((v.status, v.until_step, v.basis), (Status::EnoughUntil, Some(41), Basis::Guarantee));
+    }
+
+    #[test]
     fn estimates_judge_when_there_are_any_and_a_lost_error_ranks_worst() {
         // The rule of `judging` (docs/cli.md, "Which lenses judge"): a guaranteed lens judges only without estimates.
         let bound = Evidence { guaranteed: true, lens: "bound".into(), ..evidence(None, None) };
