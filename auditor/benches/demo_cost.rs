@@ -1,5 +1,6 @@
 //! Cost of the demo's audits against the plain f64 kernel, measured in the same run (a report, not a timed test):
-//! the kiln wall's original kernel alone (both fields, as the demo steps them), a whole audit with the certified
+//! the kiln wall's original kernel alone (both fields, as the demo steps them), the certified run without the audit
+//! driver (`certificate::certify`: the lens's kernel with the seeding and condensation), a whole audit with the certified
 //! lens alone (its kernel with the seeding and condensation around every step, the f64 original beside it, the
 //! per-step measurements and the trace), and the demo as `twinstep demo` runs it (bound, shadow and certified on
 //! three threads). Per step, from the difference of runs of 2n and n steps (best of 3 each), so the fixed cost of
@@ -8,6 +9,7 @@
 use std::hint::black_box;
 use std::time::{Duration, Instant};
 use twinstep::audit::{Audit, Tolerance};
+use twinstep::certificate::{certify, CertificateOptions};
 use twinstep::lens::{Bound, Certified, Shadow};
 use twinstep_cli::demo::kiln::{wall_step, Wall, BUDGET_K};
 
@@ -37,6 +39,11 @@ fn main() {
         black_box(&fields);
         start.elapsed()
     };
+    let run = |steps: u64| {
+        let start = Instant::now();
+        black_box(certify::<_, 8>(&wall, steps, CertificateOptions::default(), |_, _| {}).expect("the run"));
+        start.elapsed()
+    };
     let certified = |steps: u64| {
         let start = Instant::now();
         let audit = Audit::new(&wall, Tolerance::absolute(BUDGET_K), steps).trace(&trace);
@@ -50,12 +57,14 @@ fn main() {
         start.elapsed()
     };
     let f64_step = per_step(&original, 200_000);
+    let run_step = per_step(&run, 20_000);
     let certified_step = per_step(&certified, 20_000);
     let demo_step = per_step(&demo, 20_000);
     let _ = std::fs::remove_file(&trace);
     let ratio = |d: Duration| d.as_secs_f64() / f64_step.as_secs_f64();
     println!("kiln wall, {} cells, 2 fields, per step:", wall.cells);
     println!("  original f64 kernel         {:>10.3} µs", f64_step.as_secs_f64() * 1e6);
+    println!("  certified run, no driver     {:>10.3} µs  {:>7.0}×", run_step.as_secs_f64() * 1e6, ratio(run_step));
     println!(
         "  audit, certified lens alone {:>10.3} µs  {:>7.0}×",
         certified_step.as_secs_f64() * 1e6,

@@ -247,10 +247,8 @@ impl<'s, L: AuditLens, S: Scenario> LensThread<'s, L, S> {
         let Some(started) = DriverCertificate::start(&mut self.twin, &plan.certificate, plan.steps) else {
             return Ok(None);
         };
-        // The one way a certificate cannot be set up is levels too large for its 32-bit ids (or a colouring given
-        // for other levels): the first field names the shape.
-        let mut certificate = started
-            .map_err(|_| Error::BadShape { field: plan.fields[0].name.clone(), shape: plan.fields[0].shape.clone() })?;
+        let mut certificate =
+            started.map_err(|reason| Error::Certificate { lens: L::Watched::NAME.to_string(), reason })?;
         let facts = certificate.begin(&mut self.twin);
         if plan.certificate.colouring.is_none() {
             let scenario = self.scenario;
