@@ -10,11 +10,13 @@
 mod common;
 use common::{fix_machine, fixture, scratch};
 use twinstep::audit::{Audit, Error, FieldSpec, Levels, Scenario, Tolerance};
+use twinstep::certificate::{CertificateOptions, Route};
 use twinstep::lens::Shadow;
 use twinstep::trace::{EndCause, EventName, Trace};
 use twinstep_cli::demo::kiln::Wall;
 use twinstep_cli::report::{render, Format};
 use twinstep_fixtures::advection_minmod::minmod_step_twin;
+use twinstep_fixtures::wave_leapfrog::wave_leapfrog_step_twin;
 
 /// Initial data computed in the kernel's arithmetic: a plateau at `0.1 + 0.2` (0.30000000000000004 in f64, 0.3 in
 /// exact arithmetic on the decimals as written, which the lenses' references hold) and a ramp.
@@ -50,14 +52,51 @@ impl Scenario for Plateau {
     }
 }
 
+/// A string of 32 points fixed at both ends, leapfrog at Courant number 0.9 (`fixtures/src/wave_leapfrog.rs`), from
+/// `sin(π i/31)` given as doubles on both starting levels.
+struct String32;
+
+#[twinstep::scenario]
+impl Scenario for String32 {
+    fn fields(&self) -> Vec<FieldSpec> {
+        vec![FieldSpec::new("y", &[32])]
+    }
+
+    fn scheme(&self) -> twinstep::audit::Scheme {
+        twinstep::audit::Scheme::ThreeLevel
+    }
+
+    fn init<T>(&self, levels: &mut Levels<T>) -> Result<(), Error> {
+        let y: Vec<f64> =
+            (0..32).map(|i| if i % 31 == 0 { 0.0 } else { (std::f64::consts::PI * i as f64 / 31.0).sin() }).collect();
+        levels.current[0].set_f64(&y)?;
+        levels.previous[0].set_f64(&y)
+    }
+
+    fn step<T>(&self, levels: &mut Levels<T>) {
+        wave_leapfrog_step_twin(&levels.previous[0], &levels.current[0], &mut levels.next[0], T::from_f64(0.9));
+    }
+}
+
 /// Audits with the shadow and the certified lens; the trace as written, and as read back with fixed machine facts.
 fn audit<S: Scenario>(scenario: &S, name: &str, tolerance: Tolerance, steps: u64) -> (Trace, Trace) {
+    audit_with(scenario, name, tolerance, steps, CertificateOptions::default())
+}
+
+/// [`audit`] with these certificate options.
+fn audit_with<S: Scenario>(
+    scenario: &S,
+    name: &str,
+    tolerance: Tolerance,
+    steps: u64,
+    options: CertificateOptions,
+) -> (Trace, Trace) {
     let path = scratch(&format!("certified_{name}.jsonl"));
     let written = Audit::new(scenario, tolerance, steps)
         .kernel(name)
         .trace(&path)
         .lens::<Shadow>()
-        .certified()
+        .certified_with(options)
         .run()
         .expect("the audit runs");
     let read = twinstep_cli::input::read_trace(&path).expect("the trace reads");
@@ -158,4 +197,31 @@ fn traces_without_certificates_read_and_a_bad_certificate_record_is_refused() {
     assert_ne!(bad, text);
     let error = twinstep::trace::parse(&bad).expect_err("an unknown lens");
     assert!(error.to_string().contains("certificate end at step 1: unknown lens \"oracle\""), "{error}");
+}
+
+#[test]
+fn a_radius_that_outgrows_the_error_is_reported_with_its_growth_and_the_backward_route_keeps_it() {
+    // Forced onto the forward route, the leapfrog's radius grows like ρ(|J|) per step. Closed form for the interior
+    // rows: |2 − 2c²| + 2c² = 2 on the current level and 1 on the previous one, so the absolute companion matrix has
+    // ρ = 1 + √2 ≈ 2.414 (ρ = 2 + 1/ρ); the fixed ends make the 32-point string's a little smaller.
+    let forward = CertificateOptions { route: Route::Forward, ..CertificateOptions::default() };
+    let (_, trace) = audit_with(&String32, "string_forward", Tolerance::absolute(1e-9), 300, forward);
+    let end = trace.certificate_ends.iter().find(|e| e.cause == EndCause::Useless).expect("the interval grows useless");
+    assert_eq!(end.field.as_deref(), Some("y"));
+    assert!(end.step > 1 && end.growth > 2.0 && end.growth < 1.0 + 2f64.sqrt() + 1e-9, "{end:?}");
+    assert!(end.max_radius > end.estimate.map(|e| e / 2.0), "{end:?}");
+    let text = render(&trace, Format::Text, false);
+    assert!(text.contains(&format!("From step {} the guarantee stops for field y", end.step)), "{text}");
+    assert!(text.contains("calls for the backward route"), "{text}");
+    assert!(!text.contains("(GUARANTEED)"), "{text}");
+    // On the backward route the bound follows the signed Jacobians: the certificate holds all 300 steps and the
+    // verdict rests on it.
+    let backward = CertificateOptions { route: Route::Backward, ..CertificateOptions::default() };
+    let (_, trace) = audit_with(&String32, "string_backward", Tolerance::absolute(1e-9), 300, backward);
+    assert!(trace.certificate_ends.is_empty(), "{:?}", trace.certificate_ends);
+    let summary = trace.summary.as_ref().expect("complete");
+    let certificate = &summary.certificates[0];
+    assert_eq!(certificate.route, twinstep::trace::CertificateRoute::Backward);
+    assert!(certificate.backward.is_some_and(|b| b.sweeps > 0 && b.bytes > 0), "{certificate:?}");
+    assert!(render(&trace, Format::Text, false).contains("(GUARANTEED)"));
 }
