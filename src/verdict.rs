@@ -7,6 +7,10 @@
 //! `enough_until` step N (the last step within tolerance), or `not_enough` (the tolerance is crossed at the
 //! initial data or the first step). The least precision that would do needs a sweep over emulated formats, which
 //! this version does not run: the field stays null and the text says so.
+//!
+//! Which lenses judge is one rule ([`judging_by`]): a certified lens whose certificate held throughout judges
+//! alone and the verdict rests on its guarantee ([`Basis::Guarantee`]); otherwise the estimates, else the
+//! per-operation bounds.
 
 use serde::{Deserialize, Serialize};
 
