@@ -8,6 +8,10 @@
 //! initial data or the first step). The least precision that would do needs a sweep over emulated formats, which
 //! runs after the summary is written (`Audit::sweep`): the field stays null and the text says so, and a report of
 //! a trace that carries the sweep's records takes the least precision from them (`crate::report::sweep`).
+//!
+//! Which lenses judge is one rule ([`judging_by`]): a certified lens whose certificate held throughout judges
+//! alone and the verdict rests on its guarantee ([`Basis::Guarantee`]); otherwise the estimates, else the
+//! per-operation bounds.
 
 use serde::{Deserialize, Serialize};
 
@@ -124,11 +128,26 @@ pub struct Evidence {
     pub field: String,
     /// Whether the lens's numbers are guaranteed bounds rather than estimates.
     pub guaranteed: bool,
+    /// Whether the lens is certified and its certificate held for every field over the whole run: its error is
+    /// then known within a guaranteed interval at every step, and it judges alone ([`Standing::Guarantee`]).
+    pub certified: bool,
     pub first_crossing: Option<u64>,
     pub final_max_err: f64,
     /// `final_max_err / final tol_ratio`: the error the tolerance allowed at the worst cell at the last step.
     pub allowed_at_end: f64,
     pub growth: Option<Growth>,
+}
+
+impl Evidence {
+    /// What the lens's numbers are, for [`judging_by`].
+    #[must_use]
+    pub fn standing(&self) -> Standing {
+        match (self.certified, self.guaranteed) {
+            (true, _) => Standing::Guarantee,
+            (false, true) => Standing::Bound,
+            (false, false) => Standing::Estimate,
+        }
+    }
 }
 
 /// The rounding-only caution every verdict and report carries (worded in the report module).
@@ -142,15 +161,39 @@ pub enum Basis {
     Estimate,
     /// The guaranteed bounds (the audit ran no estimating lens).
     Bound,
+    /// The certified lens's error, known within a guaranteed interval at every step (its certificate held).
+    Guarantee,
+}
+
+/// What a lens's numbers are, for [`judging_by`].
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Standing {
+    /// An estimate of the error (a certified lens whose certificate stopped counts as one: its error is the
+    /// shadow's estimate).
+    Estimate,
+    /// A per-operation guaranteed bound, which may grow far beyond the error (the dependency effect).
+    Bound,
+    /// A certified lens whose certificate held throughout: the error within a tight guaranteed interval.
+    Guarantee,
 }
 
 /// The one rule for which lenses judge, shared by the verdict, every report format and the gate: the estimates
 /// when there are any — a guaranteed bound can grow by the dependency effect of enclosure arithmetic while the
 /// rounding error does not, so it would cry wolf — else the bounds, which errs on the safe side.
 pub fn judging<T>(items: &[T], guaranteed: impl Fn(&T) -> bool) -> (Basis, Vec<&T>) {
-    let has_estimates = items.iter().any(|item| !guaranteed(item));
+    judging_by(items, |item| if guaranteed(item) { Standing::Bound } else { Standing::Estimate })
+}
+
+/// [`judging`] with certified lenses: a certified lens whose certificate held throughout judges alone — its
+/// interval is as tight as the estimate and guaranteed, so nothing is gained by asking an estimate — else the rule
+/// of [`judging`], a certified lens whose certificate stopped counting as an estimate.
+pub fn judging_by<T>(items: &[T], standing: impl Fn(&T) -> Standing) -> (Basis, Vec<&T>) {
+    if items.iter().any(|item| standing(item) == Standing::Guarantee) {
+        return (Basis::Guarantee, items.iter().filter(|item| standing(item) == Standing::Guarantee).collect());
+    }
+    let has_estimates = items.iter().any(|item| standing(item) == Standing::Estimate);
     let basis = if has_estimates { Basis::Estimate } else { Basis::Bound };
-    (basis, items.iter().filter(|item| !has_estimates || !guaranteed(item)).collect())
+    (basis, items.iter().filter(|item| !has_estimates || standing(item) == Standing::Estimate).collect())
 }
 
 /// What decided the verdict: the facts its sentence is worded from (`crate::report::words::verdict_text`).
@@ -214,7 +257,7 @@ fn severity(e: &Evidence) -> f64 {
 /// Decides the verdict from the evidence of every lens and field, by the rule of [`judging`].
 #[must_use]
 pub fn decide(evidence: &[Evidence], steps_done: u64, horizon: u64) -> Decision {
-    let (basis, judges) = judging(evidence, |e| e.guaranteed);
+    let (basis, judges) = judging_by(evidence, Evidence::standing);
     let earliest = judges
         .iter()
         .filter_map(|e| crossing(e, steps_done, horizon).map(|c| (c, *e)))
@@ -296,6 +339,7 @@ mod tests {
             lens: "shadow".into(),
             field: "u".into(),
             guaranteed: false,
+            certified: false,
             first_crossing,
             final_max_err: 1e-14,
             allowed_at_end: 1e-10,
@@ -317,6 +361,26 @@ mod tests {
         assert_eq!(v.status, Status::EnoughUntil);
         let until = v.until_step.unwrap();
         assert!((999_990..=1_000_000).contains(&until), "until {until}");
+    }
+
+    #[test]
+    fn a_certificate_that_holds_judges_alone() {
+        // The rule of `judging_by` (docs/cli.md, "Which lenses judge"): a certified lens whose certificate held
+        // judges alone, even beside estimates; one whose certificate stopped counts as an estimate.
+        let certified =
+            Evidence { certified: true, guaranteed: false, lens: "certified".into(), ..evidence(None, None) };
+        let bound = Evidence { guaranteed: true, lens: "bound".into(), ..evidence(None, None) };
+        let all = [bound.clone(), evidence(None, None), certified.clone()];
+        let (basis, judges) = judging_by(&all, Evidence::standing);
+        assert_eq!((basis, judges.len(), judges[0].lens.as_str()), (Basis::Guarantee, 1, "certified"));
+        let stopped = Evidence { certified: false, ..certified };
+        let pair = [bound, stopped];
+        let (basis, judges) = judging_by(&pair, Evidence::standing);
+        assert_eq!((basis, judges.len(), judges[0].lens.as_str()), (Basis::Estimate, 1, "certified"));
+        // The certified lens's crossing decides the status as any judging lens's does.
+        let crossing = Evidence { certified: true, lens: "certified".into(), ..evidence(Some(42), None) };
+        let v = decide(&[evidence(None, None), crossing], 100, 100);
+        assert_eq!((v.status, v.until_step, v.basis), (Status::EnoughUntil, Some(41), Basis::Guarantee));
     }
 
     #[test]

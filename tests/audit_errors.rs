@@ -144,3 +144,19 @@ fn recorder_checks_its_input() {
     // Dropped without finish: no summary.
     assert!(!twinstep::trace::read(dir.join("r.jsonl")).unwrap().is_complete());
 }
+
+#[test]
+fn a_colouring_for_other_levels_is_a_certificate_error() {
+    // Fold has one field on two levels (two blocks): a colouring with one block offset does not fit them.
+    let path = scratch("audit_errors").join("colouring.jsonl");
+    let colouring = twinstep::certificate::Colouring { modulus: 8, offsets: vec![0] };
+    let options = twinstep::certificate::CertificateOptions { colouring: Some(colouring), ..Default::default() };
+    let error = Audit::new(&Fold, Tolerance::absolute(1e-3), 5).trace(&path).certified_with(options).run().unwrap_err();
+    assert!(
+        matches!(&error, Error::Certificate { lens, reason: twinstep::certificate::SetupError::ColouringMismatch }
+            if lens == "certified"),
+        "{error:?}"
+    );
+    assert!(error.to_string().contains("the certificate of lens certified cannot start"), "{error}");
+    assert!(!twinstep::trace::read(&path).expect("the header was written").is_complete());
+}

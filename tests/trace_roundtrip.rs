@@ -48,14 +48,14 @@ fn written_trace_reads_back_identical() {
         Record::Header(h) => assert_eq!((h.format.as_str(), h.version), (FORMAT, VERSION)),
         other => panic!("first line is {other:?}"),
     }
-    // Version 2 writes the event kinds' own names (docs/trace.md, "Versions"), never version 1's.
-    assert_eq!(VERSION, 2);
+    // Versions 2 and 3 write the event kinds' own names (docs/trace.md, "Versions"), never version 1's.
+    assert_eq!(VERSION, 3);
     assert!(text.contains("\"kind\":\"undecided_comparison\""), "{text}");
     assert!(!text.contains("branch_instability"));
 
     // The same trace as version 1 wrote it (version 1 in the header, the old event name) still reads, with the
     // same events.
-    let old = text.replacen("\"version\":2", "\"version\":1", 1).replace("undecided_comparison", "branch_instability");
+    let old = text.replacen("\"version\":3", "\"version\":1", 1).replace("undecided_comparison", "branch_instability");
     assert_ne!(old, text);
     let read_old = trace::parse(&old).expect("a version-1 trace reads");
     assert_eq!(read_old.events, read.events);

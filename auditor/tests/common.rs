@@ -34,3 +34,15 @@ pub fn stderr(output: &Output) -> String {
 pub fn stdout(output: &Output) -> String {
     String::from_utf8_lossy(&output.stdout).into_owned()
 }
+
+/// Sets the facts of the machine, the build and the wall time to fixed values, so that a snapshot of a report
+/// does not depend on where the test runs; every other number stays the audit's.
+pub fn fix_machine(trace: &mut twinstep::trace::Trace) {
+    use twinstep::trace::{Build, Machine};
+    trace.header.machine = Machine { os: "linux".into(), arch: "x86_64".into(), cpus: 2 };
+    trace.header.build = Build { twinstep: "0.1.0".into(), profile: "test".into(), target_features: Vec::new() };
+    trace.header.started_unix_s = 0;
+    if let Some(summary) = trace.summary.as_mut() {
+        summary.wall_s = 0.0;
+    }
+}

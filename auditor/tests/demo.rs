@@ -90,7 +90,8 @@ fn shadow_estimates_match_the_exact_rational_solution() {
             assert!(report.contains(&said), "{report}");
         }
     }
-    assert!(report.contains("Field `T` drifts most: under the shadow lens"), "{report}");
+    // The certified lens judges (its certificate holds, see below), so the worst field is named under it.
+    assert!(report.contains("Field `T` drifts most: under the certified lens"), "{report}");
     // The point of the demo: T's error is far larger than rise's (same physics, large background value).
     let (t_err, _) = oracle_error(&temperature, &wall, STEPS);
     let (rise_err, _) = oracle_error(&rise, &wall, STEPS);
@@ -140,8 +141,9 @@ fn demo_command_prints_the_report_and_writes_html() {
     assert!(report.contains("\nPrecision sweep\n"), "{report}");
     let page = std::fs::read_to_string(&html).expect("the HTML report");
     assert!(page.matches("<svg").count() >= 3, "plots in the page");
-    // The audit writes profiles for 1-D fields by default: a space × time map per field (T, rise) and lens.
-    assert_eq!(page.matches("), space × time").count(), 4, "heat maps in the page");
+    // The audit writes profiles for 1-D fields by default: a space × time map per field (T, rise) and lens (bound,
+    // shadow, certified).
+    assert_eq!(page.matches("), space × time").count(), 6, "heat maps in the page");
     let unwritable = scratch("");
     let output = twinstep(&[
         "demo",
@@ -154,4 +156,82 @@ fn demo_command_prints_the_report_and_writes_html() {
     ]);
     assert_eq!(output.status.code(), Some(2), "an unwritable --html is an input error");
     assert!(stderr(&output).contains("cannot write"));
+}
+
+/// The exact-arithmetic run of the kiln scheme from `start` (the same doubles, `r` and `h` as exact rationals),
+/// calling `at` with every step's state; every value stays a dyadic rational, so this is the scheme's exact
+/// solution, not an approximation.
+fn exact_run(start: &[f64], wall: &Wall, steps: u64, mut at: impl FnMut(u64, &[RBig])) {
+    let (r, h, two) = (rational(wall.r), rational(wall.heat), RBig::from(2));
+    let mut u: Vec<RBig> = start.iter().map(|&x| rational(x)).collect();
+    at(0, &u);
+    let last = u.len() - 1;
+    for n in 1..=steps {
+        let mut next = u.clone();
+        next[0] = &u[0] + &h;
+        next[last] = &u[last] + &h;
+        for i in 1..last {
+            next[i] = &u[i] + &r * (&u[i - 1] - &two * &u[i] + &u[i + 1]) + &h;
+        }
+        u = next;
+        at(n, &u);
+    }
+}
+
+/// `[lower, upper]` contains the exact worst error `e` known to within `slack`, where `e` was rounded to a double
+/// once (relative 2^-53, IEEE 754-2019 §4.3.1): the check allows that rounding, 2^-52 relative, and nothing else.
+fn contains(lower: f64, upper: Option<f64>, e: f64, slack: f64) -> bool {
+    let rounding = e * f64::EPSILON;
+    upper.is_some_and(|upper| lower - slack <= e + rounding && e - rounding <= upper + slack)
+}
+
+#[test]
+fn certified_intervals_contain_the_exact_error() {
+    let wall = Wall::default();
+    let path = scratch("demo-certified.jsonl");
+    twinstep_cli::demo::run(&path, STEPS).expect("the demo audit runs");
+    let trace = twinstep_cli::input::read_trace(&path).expect("the demo trace reads");
+    let summary = trace.summary.as_ref().expect("complete run");
+    // The demo's verdict rests on the guarantee: the certificate held at every step (no end record).
+    assert!(trace.certificate_ends.is_empty(), "{:?}", trace.certificate_ends);
+    assert!(
+        summary.verdict.text.contains("Guaranteed: the certificate of lens certified holds"),
+        "{}",
+        summary.verdict.text
+    );
+    let report = twinstep_cli::report::render(&trace, twinstep_cli::report::Format::Text, false);
+    assert!(report.contains("(GUARANTEED)"), "{report}");
+    let interval = |step: u64, field: &str| {
+        let record = trace.steps.iter().find(|s| s.lens == "certified" && s.step == step)?;
+        let c = record.certificate.as_ref()?;
+        c.fields.iter().find(|f| f.name == field).map(|f| (f.lower, f.upper))
+    };
+    let (temperature, rise) = wall.initial();
+    // Every recorded step up to 400 (about 90 of them: the first steps, then log-spaced), against the exact run
+    // in rationals.
+    const EARLY: u64 = 400;
+    let mut checked = 0;
+    for (field, start) in [("T", &temperature), ("rise", &rise)] {
+        let (mut u, mut next) = (start.clone(), start.clone());
+        exact_run(start, &wall, EARLY, |n, exact| {
+            if n > 0 {
+                twinstep_cli::demo::kiln::wall_step(&u, &mut next, wall.r, wall.heat);
+                std::mem::swap(&mut u, &mut next);
+            }
+            let Some((lower, upper)) = interval(n, field) else { return };
+            let error = u.iter().zip(exact).map(|(&p, x)| (rational(p) - x).to_f64().value().abs()).fold(0.0, f64::max);
+            assert!(contains(lower, upper, error, 0.0), "{field} step {n}: [{lower:e}, {upper:?}] against {error:e}");
+            checked += 1;
+        });
+    }
+    assert!(checked >= 20, "only {checked} recorded steps checked");
+    // The last step, against the closed form of `oracle_error` (exact up to the damped remainder).
+    for (field, start) in [("T", &temperature), ("rise", &rise)] {
+        let (error, remainder) = oracle_error(start, &wall, STEPS);
+        let (lower, upper) = interval(STEPS, field).expect("the last step is recorded");
+        assert!(contains(lower, upper, error, remainder), "{field}: [{lower:e}, {upper:?}] against {error:e}");
+        // Tight: the interval's width is below 10⁻⁶ of the error (the criterion on monotone schemes).
+        let width = upper.unwrap_or(f64::INFINITY) - lower;
+        assert!(width <= 1e-6 * error, "{field}: width {width:e} against the error {error:e}");
+    }
 }

@@ -15,7 +15,7 @@ mod common;
 use common::scratch;
 use twinstep::audit::{Audit, FieldSpec, Levels, Scenario, Tolerance};
 use twinstep::lens::{Bound, Shadow};
-use twinstep::trace::{Build, Machine, Trace};
+use twinstep::trace::Trace;
 use twinstep_cli::report::{render, Format};
 
 /// An explicit heat scheme on 16 cells with `r = 1/2`, ends held: the Bound lens's radius grows by about
@@ -98,12 +98,7 @@ fn audit<S: Scenario>(scenario: &S, name: &str, tolerance: Tolerance, steps: u64
         .run()
         .expect("the audit runs");
     let mut trace = twinstep_cli::input::read_trace(&path).expect("the trace reads");
-    trace.header.machine = Machine { os: "linux".into(), arch: "x86_64".into(), cpus: 2 };
-    trace.header.build = Build { twinstep: "0.1.0".into(), profile: "test".into(), target_features: Vec::new() };
-    trace.header.started_unix_s = 0;
-    if let Some(summary) = trace.summary.as_mut() {
-        summary.wall_s = 0.0;
-    }
+    common::fix_machine(&mut trace);
     trace
 }
 

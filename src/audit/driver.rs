@@ -95,6 +95,23 @@ impl<'s, S: Scenario> Audit<'s, S, f64> {
         self
     }
 
+    /// Adds the certified lens ([`crate::lens::Certified`], 8 list slots): on its own thread, the driver seeds
+    /// every input before each step and condenses every value after it (`docs/lenses.md`, "Certified"), so its
+    /// bound is a guarantee that lasts the time loop; the route between steps is chosen from the measured growth.
+    /// The same as `.lens::<Certified>()`; [`Audit::certified_with`] sets the route, anchors or colouring.
+    #[must_use]
+    pub fn certified(self) -> Self {
+        self.lens::<crate::lens::Certified>()
+    }
+
+    /// Adds the certified lens with these certificate options (a certified lens added with [`Audit::lens`], of any
+    /// capacity, takes them too).
+    #[must_use]
+    pub fn certified_with(mut self, options: crate::certificate::CertificateOptions) -> Self {
+        self.plan.certificate = options;
+        self.lens::<crate::lens::Certified>()
+    }
+
     /// Also runs the precision sweep of `plan` ([`crate::sweep`]) — the same scenario, tolerance, steps (unless the
     /// plan audits fewer) and horizon, as if the program computed in each of the plan's formats — after the lenses,
     /// and appends its `format_run` and `sweep` records to this audit's trace, so one trace carries the lens audit
@@ -189,7 +206,7 @@ impl<'s, F: ProgramFloat, S: Scenario<F>> Audit<'s, S, F> {
     pub fn lens<L: AuditLens<F>>(mut self) -> Self {
         let collected_here = Collector::active_here::<L>;
         self.lenses.push(LensEntry {
-            info: LensInfo::of::<L::Watched>(),
+            info: LensInfo::of::<L::Watched>().certified(crate::certificate::driver::is_certified::<L::Unwatched>()),
             run: lens_thread::run::<L, S, F>,
             collected_here,
         });
@@ -238,8 +255,8 @@ impl<'s, F: ProgramFloat, S: Scenario<F>> Audit<'s, S, F> {
                 let (answer, answered) = channel();
                 let applied = hook.options.applied().to_vec();
                 scope.spawn(move || {
-                    let record = (hook.run)(scenario, &hook.options, step)
-                        .map(|record| AttributionRecord { applied, ..record });
+                    let record =
+                        (hook.run)(scenario, &hook.options, step).map(|record| AttributionRecord { applied, ..record });
                     // The receiver is gone only when the audit stopped on an error of its own.
                     let _ = answer.send(record);
                 });

@@ -1,8 +1,14 @@
 //! A lens's thread: keeps the lens's time levels and the plain f64 original's, runs the steps the main thread asks
 //! for, and sends back what it measured after each of them.
 //!
-//! One step, in one place ([`LensThread::advance`]): (seed — nothing yet; per-step hooks go here) → step the
-//! lens's twin → collect the events it recorded → step the original (and the compiled-literal run) → measure.
+//! One step, in one place ([`LensThread::advance`]): step the lens's twin → collect the events it recorded → step
+//! the original (and the compiled-literal run) → rotate → for the certified lens, condense and seed the values for
+//! the next step (`certificate::driver`) → measure.
+//!
+//! The certified lens is found by its type (`certificate::driver::is_certified`): its thread holds the
+//! certificate, starts it on the initial data (and tries colourings on the first step), and hands the recorder the
+//! certificate's facts with every step's measurements; a step where the certificate no longer holds is measured
+//! without a bound, so nothing downstream reads a guarantee past its end.
 //!
 //! The lens runs as its unwatched variant, whose loops vectorize. Each chunk of steps starts from a checkpoint of
 //! the levels; when a step turns a value non-finite ([`ReplayTrigger`]), the steps from the checkpoint to it are
@@ -18,6 +24,7 @@ use std::time::{Duration, Instant};
 use super::measure::{first_mismatch, measure, representation, FieldMeasure, LensStep};
 use super::recorder::Plan;
 use super::{Error, Levels, ProgramFloat, Scenario};
+use crate::certificate::driver::{CertificateFacts, DriverCertificate};
 use crate::events::{EventKind, Site};
 use crate::lens::{with_literal_mode, Lens, LiteralMode};
 use crate::{BaseOps, MixedOps, RefOps};
@@ -156,6 +163,8 @@ struct LensThread<'s, L: Lens, S, F> {
     checkpoint: Option<Checkpoint<L::Unwatched>>,
     /// The next step to run (`n` of `n → n + 1`); `None` before the initial data.
     next: Option<u64>,
+    /// The certified lens's certificate (`None` for every other lens).
+    certificate: Option<DriverCertificate>,
 }
 
 impl<'s, L: AuditLens<F>, S: Scenario<F>, F: ProgramFloat> LensThread<'s, L, S, F> {
@@ -170,6 +179,7 @@ impl<'s, L: AuditLens<F>, S: Scenario<F>, F: ProgramFloat> LensThread<'s, L, S, 
             trigger: ReplayTrigger::new(plan.fields.len()),
             checkpoint: None,
             next: None,
+            certificate: None,
         }
     }
 
@@ -228,9 +238,32 @@ impl<'s, L: AuditLens<F>, S: Scenario<F>, F: ProgramFloat> LensThread<'s, L, S, 
             with_literal_mode(LiteralMode::AsCompiled, || L::init_unwatched(self.scenario, compiled))?;
         }
         let _ = collect(collector);
-        let measured = self.observe(0, events);
+        let facts = self.start_certificate(collector)?;
+        let measured = self.observe(0, events, facts);
         let _ = self.trigger.fires(&measured, false); // the watched run already saw the initial data
         Ok(measured)
+    }
+
+    /// For the certified lens: the certificate on the initial data (their radii, then the seeds of step 0), and,
+    /// unless the options fix the colouring, the colouring whose lists clash least on a trial of the first step.
+    fn start_certificate(&mut self, collector: &Collector) -> Result<Option<CertificateFacts>, Error> {
+        let plan = self.plan;
+        let Some(started) = DriverCertificate::start(&mut self.twin, &plan.certificate, plan.steps) else {
+            return Ok(None);
+        };
+        let mut certificate =
+            started.map_err(|reason| Error::Certificate { lens: L::Watched::NAME.to_string(), reason })?;
+        let facts = certificate.begin(&mut self.twin);
+        if plan.certificate.colouring.is_none() {
+            let scenario = self.scenario;
+            certificate.choose_colouring(&mut self.twin, |copy| {
+                L::step_unwatched(scenario, copy);
+                let _ = collect(collector);
+                Ok::<(), Error>(())
+            })?;
+        }
+        self.certificate = Some(certificate);
+        Ok(facts)
     }
 
     /// One step `n → n + 1` of the lens, the original and the compiled-literal run, measured.
@@ -248,10 +281,12 @@ impl<'s, L: AuditLens<F>, S: Scenario<F>, F: ProgramFloat> LensThread<'s, L, S, 
         let _ = collect(collector);
         self.twin.rotate();
         self.original.rotate();
-        let mut measured = self.observe(n + 1, events);
+        let facts = self.certificate.as_mut().and_then(|c| c.after_step(&mut self.twin, &events));
+        let mut measured = self.observe(n + 1, events, facts);
         if self.trigger.fires(&measured, noted) {
             if let Some(checkpoint) = &self.checkpoint {
-                measured.events = self.replay(checkpoint, n, collector);
+                let replayed = self.replay(checkpoint, n, collector);
+                measured.events = with_non_finite_sites(std::mem::take(&mut measured.events), replayed);
             }
             // Later replays (a NaN keeps meeting comparisons) start from here and cost one step.
             self.checkpoint = Some(Checkpoint { levels: self.twin.clone(), step: n + 1, taken: Instant::now() });
@@ -273,17 +308,25 @@ impl<'s, L: AuditLens<F>, S: Scenario<F>, F: ProgramFloat> LensThread<'s, L, S, 
         events
     }
 
-    /// Measures every field of the current level and compares its primal with the original.
-    fn observe(&self, step: u64, events: Events) -> LensStep {
+    /// Measures every field of the current level and compares its primal with the original; a certified lens's
+    /// step comes with its certificate's facts, and without a bound where the certificate no longer holds.
+    fn observe(&self, step: u64, events: Events, certificate: Option<CertificateFacts>) -> LensStep {
         let plan = self.plan;
+        let ended = certificate.as_ref().is_some_and(|c| !c.step.holds);
         let fields = self
             .twin
             .current
             .iter()
             .enumerate()
-            .map(|(i, f)| FieldMeasure {
-                representation_err: self.compiled.as_ref().map(|c| representation(f, &c.current[i])),
-                ..measure(f, &plan.tolerance, plan.profiled(i))
+            .map(|(i, f)| {
+                let mut measured = FieldMeasure {
+                    representation_err: self.compiled.as_ref().map(|c| representation(f, &c.current[i])),
+                    ..measure(f, &plan.tolerance, plan.profiled(i))
+                };
+                if ended {
+                    (measured.bound, measured.bound_tol_ratio) = (None, None);
+                }
+                measured
             })
             .collect();
         // A lens whose primal emulates another format than the program's computes something else by design:
@@ -297,6 +340,17 @@ impl<'s, L: AuditLens<F>, S: Scenario<F>, F: ProgramFloat> LensThread<'s, L, S, 
             .enumerate()
             .filter_map(|(i, (t, o))| first_mismatch(i, t, o))
             .collect();
-        LensStep { step, fields, events, mismatches }
+        LensStep { step, fields, events, mismatches, certificate }
     }
+}
+
+/// The events of a step that was replayed: the NaN/∞ events of the watched replay (with the lines where the values
+/// arose) and every other event of the unwatched run. The two variants record the same other events from the same
+/// arithmetic; keeping the unwatched run's also keeps what the certificate decided on, since a replay of several
+/// steps from an older checkpoint runs the certified lens without the condensations between them.
+fn with_non_finite_sites(unwatched: Events, replayed: Events) -> Events {
+    let non_finite = |kind: &EventKind| matches!(kind, EventKind::Nan | EventKind::Infinity);
+    let mut events: Events = replayed.into_iter().filter(|(kind, _, _)| non_finite(kind)).collect();
+    events.extend(unwatched.into_iter().filter(|(kind, _, _)| !non_finite(kind)));
+    events
 }

@@ -515,7 +515,7 @@ impl Gather {
                 };
                 let Measured { fields, events } =
                     run.measured.unwrap_or(Measured { fields: Vec::new(), events: Vec::new() });
-                LensStep { step: run.step, fields, events, mismatches }
+                LensStep { step: run.step, fields, events, mismatches, certificate: None }
             })
             .collect();
         recorder.ingest(steps)

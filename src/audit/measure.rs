@@ -62,6 +62,8 @@ pub(crate) struct LensStep {
     pub fields: Vec<FieldMeasure>,
     pub events: Vec<(EventKind, Site, u64)>,
     pub mismatches: Vec<Mismatch>,
+    /// The certified lens's certificate after the step (`None` for every other lens).
+    pub certificate: Option<crate::certificate::driver::CertificateFacts>,
 }
 
 /// A non-finite (NaN) magnitude counts as infinitely large.

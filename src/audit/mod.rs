@@ -70,6 +70,9 @@ pub enum Error {
     LensCollectedHere { lens: String },
     /// A recorder was given values of a lens it was not created for.
     UnknownLens { lens: String },
+    /// The certified lens's certificate could not be set up for these levels (too many cells for its ids, or a
+    /// colouring in the options made for other levels).
+    Certificate { lens: String, reason: crate::certificate::SetupError },
     /// The trace file could not be created.
     TraceCreate { path: PathBuf, source: std::io::Error },
     /// Writing to the trace file failed.
@@ -119,6 +122,7 @@ or override init"
 that recorder before auditing the same lens"
             ),
             Error::UnknownLens { lens } => write!(f, "the recorder was not created for lens {lens:?}"),
+            Error::Certificate { lens, reason } => write!(f, "the certificate of lens {lens} cannot start: {reason}"),
             Error::TraceCreate { path, source } => write!(f, "cannot create trace {}: {source}", path.display()),
             Error::TraceWrite { path, source } => write!(f, "cannot write trace {}: {source}", path.display()),
             Error::ScenarioPanicked { lens, step, message } => {

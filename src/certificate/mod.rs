@@ -42,9 +42,12 @@
 //! }
 //! ```
 //!
-//! [`crate::certificate::certify`] runs a [`crate::audit::Scenario`] exactly that way, without the audit driver.
+//! The audit driver does exactly that on the certified lens's thread ([`driver`]: `Audit::certified`, or any
+//! certified lens added with `Audit::lens`); [`crate::certificate::certify`] runs a [`crate::audit::Scenario`] the
+//! same way without the driver.
 
 mod backward;
+pub mod driver;
 mod layout;
 mod run;
 
@@ -164,6 +167,8 @@ pub struct BackwardCost {
 /// The state of a certificate over a run.
 pub struct Certificate {
     options: CertificateOptions,
+    /// The lens's list slots `K` (the colourings are chosen for it).
+    capacity: usize,
     horizon: Option<u64>,
     layout: Layout,
     colouring: Colouring,
@@ -232,6 +237,7 @@ impl Certificate {
             route: if declined { Route::Forward } else { options.route },
             declined,
             options,
+            capacity: K,
             horizon,
             layout,
             colouring,
@@ -254,6 +260,11 @@ impl Certificate {
     /// The colourings worth trying for these levels (see [`Colouring::candidates`]).
     pub fn colourings(&self, slots: usize) -> Vec<Colouring> {
         Colouring::candidates(&self.layout, slots)
+    }
+
+    /// The lens's list slots, for [`Certificate::colourings`].
+    pub fn colouring_slots(&self) -> usize {
+        self.capacity
     }
 
     /// The colouring in use.

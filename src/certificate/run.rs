@@ -7,7 +7,6 @@ use super::{
     BackwardCost, Certificate, CertificateEnd, CertificateOptions, Colouring, Route, SetupError, StepCertificate,
 };
 use crate::audit::{validate_fields, Error, Levels, Scenario, Scheme};
-use crate::lens::certified::take_clashes;
 use crate::lens::{CertifiedOf, Lens};
 use crate::{BaseOps, MixedOps, Real, RefOps};
 
@@ -129,8 +128,7 @@ where
     })
 }
 
-/// Tries the first step on a copy of the seeded levels with the current colouring and, if its lists clash, with
-/// each candidate; keeps the one with the fewest clashes (the first on a tie) and re-seeds `levels` with it.
+/// The shared colouring trial ([`super::driver::choose_colouring`]), each trial step caught and its events dropped.
 fn choose_colouring<S: Scenario, const K: usize>(
     scenario: &S,
     certificate: &mut Certificate,
@@ -142,27 +140,9 @@ where
     f64: MixedOps<CertifiedOf<K, false>>,
     for<'a> &'a CertifiedOf<K, false>: RefOps<CertifiedOf<K, false>>,
 {
-    let trial = |certificate: &mut Certificate, colouring: &Colouring| -> Result<u64, Box<dyn std::any::Any + Send>> {
-        let mut copy = levels.clone();
-        let _ = certificate.recolour(&mut copy, colouring.clone());
-        let _ = take_clashes();
-        catch_unwind(AssertUnwindSafe(|| scenario.step(&mut copy)))?;
+    super::driver::choose_colouring(certificate, levels, |copy| {
+        catch_unwind(AssertUnwindSafe(|| scenario.step(copy)))?;
         let _ = collector.take();
-        Ok(take_clashes())
-    };
-    let first = certificate.colouring().clone();
-    let mut best = (trial(certificate, &first)?, first);
-    if best.0 > 0 {
-        for candidate in certificate.colourings(K).into_iter().skip(1) {
-            let clashes = trial(certificate, &candidate)?;
-            if clashes < best.0 {
-                best = (clashes, candidate);
-            }
-            if best.0 == 0 {
-                break;
-            }
-        }
-    }
-    let _ = certificate.recolour(levels, best.1);
-    Ok(())
+        Ok(())
+    })
 }

@@ -19,7 +19,7 @@ use serde::Serialize;
 use super::format;
 use super::words;
 use crate::trace::{EventName, EventRecord, EventTotal, FieldStep, Growth, Status, Trace};
-use crate::verdict::{judging, Basis};
+use crate::verdict::{judging_by, Basis, Standing};
 
 /// Rows of the per-step table per lens (all rows go to CSV and JSON).
 const TABLE_ROWS: usize = 14;
@@ -99,9 +99,25 @@ pub enum DigitFinding {
 #[derive(Clone, Debug, PartialEq, Serialize)]
 #[serde(tag = "note", rename_all = "snake_case")]
 pub enum Note {
-    BoundLost { lens: String, field: String, step: u64, bound: Option<f64>, estimate: Option<f64> },
-    UndecidedPaths { sites: usize, first_step: u64, first_site: Option<String> },
-    PrimalMismatch { lens: String, field: String, step: u64 },
+    BoundLost {
+        lens: String,
+        field: String,
+        step: u64,
+        bound: Option<f64>,
+        estimate: Option<f64>,
+    },
+    UndecidedPaths {
+        sites: usize,
+        first_step: u64,
+        first_site: Option<String>,
+    },
+    PrimalMismatch {
+        lens: String,
+        field: String,
+        step: u64,
+    },
+    /// A certified lens's guarantee: held, with its intervals, or where it stops (`super::certificate`).
+    Certificate(super::certificate::CertificateNote),
 }
 
 /// The verdict as a report shows it.
@@ -189,6 +205,8 @@ pub enum SectionKind {
     Outcomes,
     /// The precision sweep's runs and least precision ([`super::sweep`]), when the trace holds one.
     Sweep,
+    /// A certified lens's guarantee (`super::certificate`).
+    Certificate,
     Steps,
     Bounds,
     Digits,
@@ -297,7 +315,7 @@ impl<'a> Analysis<'a> {
             }
         }
         let (basis, judging_names) = {
-            let (basis, judges) = judging(&trace.header.lenses, |l| trace.is_guaranteed(l));
+            let (basis, judges) = judging_by(&trace.header.lenses, |l| super::certificate::standing(trace, l));
             (basis, judges.into_iter().cloned().collect::<Vec<String>>())
         };
         for o in &mut outcomes {
@@ -305,7 +323,8 @@ impl<'a> Analysis<'a> {
         }
         let comparisons = comparisons(&outcomes);
         let digits = digit_findings(trace, &outcomes);
-        let notes = notes(&trace.events, trace.summary.as_ref().map_or(&[][..], |s| &s.event_totals));
+        let mut notes = notes(&trace.events, trace.summary.as_ref().map_or(&[][..], |s| &s.event_totals));
+        notes.extend(super::certificate::notes(trace));
         let verdict = trace.summary.as_ref().map(|s| {
             let v = &s.verdict;
             let mut view = VerdictView {
@@ -322,6 +341,7 @@ impl<'a> Analysis<'a> {
                 view.line = format!("{} {sentence}", words::verdict_line(Some((v.status, v.until_step, None))));
                 view.explanation = view.explanation.replace(words::NO_SWEEP, &sentence);
             }
+            super::certificate::mark_verdict(&mut view, basis);
             view
         });
         let notice = (!trace.is_complete()).then(|| {
@@ -344,7 +364,7 @@ impl<'a> Analysis<'a> {
             headline: String::new(),
             sections: Vec::new(),
         };
-        analysis.headline = words::headline(analysis.worst(), &analysis.early_bounds());
+        analysis.headline = words::headline(analysis.worst(), &analysis.early_bounds(), analysis.basis);
         analysis.sections = analysis.lay_out();
         analysis
     }
@@ -405,6 +425,7 @@ impl<'a> Analysis<'a> {
         sections.push(self.drift_section());
         sections.push(self.outcome_section());
         sections.extend(super::sweep::section(self.trace));
+        sections.extend(super::certificate::sections(self.trace));
         sections.extend(self.step_sections());
         if let Some(bounds) = self.bounds_section() {
             sections.push(bounds);
@@ -541,7 +562,8 @@ arithmetic",
                 None => "First crossing: none, no judging lens went beyond the tolerance.".to_owned(),
             },
         });
-        if let Some(bound) = crossings.iter().filter(|e| !judges(&e.lens)).min_by_key(|e| e.step) {
+        let bound = |lens: &str| !judges(lens) && self.trace.is_guaranteed(lens);
+        if let Some(bound) = crossings.iter().filter(|e| bound(&e.lens)).min_by_key(|e| e.step) {
             blocks.push(Block::Paragraph {
                 text: format!(
                     "A guaranteed bound crosses the tolerance first at step {} (lens {}, field {}).",
@@ -957,7 +979,9 @@ fn digit_findings(trace: &Trace, outcomes: &[Outcome]) -> Vec<DigitFinding> {
     let finals = finals(trace);
     let guaranteed = |lens: &str| outcomes.iter().any(|o| o.lens == lens && o.guaranteed);
     let mut findings = Vec::new();
-    for (lens, step, f) in finals.iter().filter(|(lens, _, _)| guaranteed(lens)) {
+    // Beside a certificate that holds, a per-operation bound that allows no digit says nothing about the result.
+    let certified = trace.header.lenses.iter().any(|l| super::certificate::standing(trace, l) == Standing::Guarantee);
+    for (lens, step, f) in finals.iter().filter(|(lens, _, _)| guaranteed(lens) && !certified) {
         // A guaranteed lens's bound written as `null` overflowed: it guarantees nothing.
         let bound = f.bound.unwrap_or(f64::INFINITY);
         if normwise(bound, f) < NO_DIGIT {

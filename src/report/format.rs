@@ -96,9 +96,72 @@ pub fn bits(x: f64) -> String {
     }
 }
 
+/// Significant digits of a guaranteed interval's ends: enough to show how tight a certified interval is (its ends
+/// agree to 10 digits and more on the monotone schemes), few enough to read.
+const INTERVAL_DIGITS: usize = 7;
+
+/// One end of a guaranteed interval in exponent form with [`INTERVAL_DIGITS`] digits, rounded *outward* (`up` for
+/// the upper end): the printed interval must still contain the true error.
+fn interval_end(x: f64, up: bool) -> String {
+    if x == 0.0 {
+        return "0".to_owned();
+    }
+    let decimals = INTERVAL_DIGITS - 1;
+    let text = format!("{x:.decimals$e}");
+    let printed: f64 = text.parse().unwrap_or(x);
+    // Strictly: a decimal that reads back as `x` itself may lie on either side of it.
+    let outward = if up { printed > x } else { printed < x };
+    if outward {
+        return text;
+    }
+    // The nearest decimal fell inside: move it one unit in its last digit outward.
+    let (mantissa, exponent) = text.split_once('e').unwrap_or((&text, "0"));
+    let mut digits: i64 = mantissa.replace('.', "").parse().unwrap_or(0);
+    let mut exponent: i32 = exponent.parse().unwrap_or(0);
+    let scale = 10i64.pow(decimals as u32);
+    digits += if up { 1 } else { -1 };
+    if digits >= 10 * scale {
+        (digits, exponent) = (scale, exponent + 1);
+    } else if digits < scale {
+        (digits, exponent) = (10 * scale - 1, exponent - 1);
+    }
+    format!("{}.{:0decimals$}e{exponent}", digits / scale, digits % scale)
+}
+
+/// A guaranteed interval of an error, `[2.301234e-10, 2.301235e-10]`, rounded outward; an upper end that is not
+/// finite (a lost bound) reads `no bound`.
+#[must_use]
+pub fn interval(lower: f64, upper: Option<f64>) -> String {
+    match upper {
+        Some(upper) if upper.is_finite() && lower.is_finite() => {
+            format!("[{}, {}]", interval_end(lower.max(0.0), false), interval_end(upper, true))
+        }
+        _ => "no bound".to_owned(),
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn interval_ends_round_outward() {
+        // Rust's `{:e}` prints the nearest decimal and `parse` reads the nearest double (std's documentation, from
+        // memory): the printed ends, read back, must enclose the interval.
+        for (lower, upper) in [(1.0 / 3.0, 2.0 / 3.0), (9.999_999_96e-10, 1.000_000_04e-9), (2.5e-30, 7.1e-14)] {
+            let text = interval(lower, Some(upper));
+            let (l, u) = text.trim_matches(['[', ']']).split_once(", ").expect("two ends");
+            let (l, u): (f64, f64) = (l.parse().unwrap(), u.parse().unwrap());
+            assert!(l <= lower && u >= upper, "{text} for [{lower:e}, {upper:e}]");
+        }
+        // 1/3 = 0.333333333…: down to 3.333333e-1, up to 3.333334e-1 (the decimal expansion).
+        assert_eq!(interval(1.0 / 3.0, Some(1.0 / 3.0)), "[3.333333e-1, 3.333334e-1]");
+        // Carry across a power of ten: 9.99999996e-10 rounds up to 1.000000e-9, which the upper end may keep, while
+        // the lower end rounds down to 9.999999e-10.
+        assert_eq!(interval(9.999_999_96e-10, Some(9.999_999_96e-10)), "[9.999999e-10, 1.000000e-9]");
+        assert_eq!(interval(0.0, None), "no bound");
+        assert_eq!(interval(0.0, Some(f64::INFINITY)), "no bound");
+    }
 
     #[test]
     fn huge_and_non_finite_values_never_print_as_digits_or_nan() {

@@ -9,6 +9,7 @@
 
 pub mod analysis;
 pub mod attribution;
+pub mod certificate;
 pub mod format;
 pub mod sweep;
 mod text;

@@ -25,6 +25,7 @@ fn basis(b: Basis) -> &'static str {
     match b {
         Basis::Estimate => "error estimate",
         Basis::Bound => "guaranteed bound",
+        Basis::Guarantee => "certified error",
     }
 }
 
@@ -95,6 +96,10 @@ after {} steps, {} of the {} the tolerance ({tolerance}) allows there{horizon_pa
     for note in notes {
         match note {
             Note::PrimalMismatch { .. } => warnings.push_str(&format!("{} ", note_text(note))),
+            // Beside a certificate that holds, a lost per-operation bound does not make the verdict an estimate.
+            Note::BoundLost { lens, field, step, .. } if d.basis == Basis::Guarantee => {
+                after.push(super::certificate::bound_lost_beside_guarantee(lens, field, *step));
+            }
             _ => after.push(note_text(note)),
         }
     }
@@ -123,6 +128,7 @@ estimate of {}), so this verdict rests on the estimate, not on a guarantee.",
             "Warning: the primal of lens {lens} differs from the plain {FLOAT} original (field {field}, from step \
 {step}), so these figures describe the twin's computation, not the original program's."
         ),
+        Note::Certificate(certificate) => super::certificate::note_text(certificate),
     }
 }
 
@@ -222,7 +228,7 @@ dependency effect), not rounding error the estimate sees",
 /// The sentence that answers "which field drifts, from which step, by how much", with the guaranteed bounds
 /// that crossed before the estimates (`early_bounds`: lens, field, step).
 #[must_use]
-pub fn headline(worst: Option<&Outcome>, early_bounds: &[(String, String, u64)]) -> String {
+pub fn headline(worst: Option<&Outcome>, early_bounds: &[(String, String, u64)], basis: Basis) -> String {
     let Some(worst) = worst else {
         return "No step records an error ratio, so no field can be judged against the tolerance.".to_owned();
     };
@@ -255,8 +261,9 @@ by the last recorded step its estimate is lost, not a finite number ({ratio}).",
             early_bounds.iter().map(|(lens, field, step)| format!("{lens} of `{field}` at step {step}")).collect();
         line.push_str(&format!(
             " Guaranteed bounds cross it before the estimates do ({}): they grow by the dependency effect of enclosure \
-arithmetic, so the estimate judges.",
-            list.join(", ")
+arithmetic, so {}.",
+            list.join(", "),
+            if basis == Basis::Guarantee { "the certified lens's guarantee judges" } else { "the estimate judges" }
         ));
     }
     line

@@ -6,6 +6,7 @@
 //! them, so the round trip is exact by construction and tested.
 
 mod attribution;
+mod certificate;
 mod reader;
 mod writer;
 
@@ -17,15 +18,20 @@ pub use attribution::{
     AppliedRemedy, AttributionRecord, FieldAttribution, Finding, LineFacts, OpFacts, Pattern, PatternHit, Remedy,
     Share, SiteFacts,
 };
+pub use certificate::{
+    BackwardCostRecord, CertificateEndRecord, CertificateRoute, CertificateSummary, EndCause, FieldCertificateRecord,
+    StepCertificateRecord, UndecidedSite,
+};
 pub use reader::{parse, read, read_from, ReadError, MAX_LINE_BYTES};
 pub use writer::TraceWriter;
 
 /// The `format` member of every header.
 pub const FORMAT: &str = "twinstep-trace";
 /// The trace format version this crate writes.
-pub const VERSION: u32 = 2;
-/// The versions this crate reads: version 1 differs only in the names of three event kinds ([`EVENT_NAMES`]).
-pub const READABLE_VERSIONS: [u32; 2] = [1, 2];
+pub const VERSION: u32 = 3;
+/// The versions this crate reads: version 1 differs only in the names of three event kinds ([`EVENT_NAMES`]),
+/// version 2 only in lacking the certified lens's records (`docs/trace.md`, "Versions").
+pub const READABLE_VERSIONS: [u32; 3] = [1, 2, 3];
 
 /// A whole trace, as read back (or as assembled by the audit while it wrote it).
 #[derive(Clone, Debug, PartialEq)]
@@ -37,6 +43,8 @@ pub struct Trace {
     pub profiles: Vec<ProfileRecord>,
     /// Where the error comes from, per source line and site (empty unless attribution was asked for).
     pub attribution: Vec<AttributionRecord>,
+    /// Where a certified lens's guarantee stops (empty when it holds throughout, or without a certified lens).
+    pub certificate_ends: Vec<CertificateEndRecord>,
     /// `None` for an incomplete run (killed, or stopped by an error).
     pub summary: Option<Summary>,
     /// A precision sweep's runs, one per format, after the summary (empty unless the trace is a sweep's main
@@ -58,6 +66,7 @@ impl Trace {
             events: Vec::new(),
             profiles: Vec::new(),
             attribution: Vec::new(),
+            certificate_ends: Vec::new(),
             summary: None,
             format_runs: Vec::new(),
             sweep: None,
@@ -74,8 +83,14 @@ impl Trace {
     /// Whether `lens` has a guaranteed bound: as the header says, or, in a trace whose header does not say,
     /// when any of its step records has a bound (a bound that overflowed is written as `null`, so one record is
     /// not enough).
+    ///
+    /// A certified lens whose certificate stopped (a `certificate_end` record names it) is not: its bound held only
+    /// up to that step, so no report may read it as a guarantee of the run (its step records say where it held).
     #[must_use]
     pub fn is_guaranteed(&self, lens: &str) -> bool {
+        if self.certificate_ends.iter().any(|e| e.lens == lens) {
+            return false;
+        }
         match &self.header.guaranteed_lenses {
             Some(guaranteed) => guaranteed.iter().any(|g| g == lens),
             None => self.steps.iter().filter(|s| s.lens == lens).flat_map(|s| &s.fields).any(|f| f.bound.is_some()),
@@ -98,6 +113,8 @@ pub enum Record {
     Event(EventRecord),
     Profile(ProfileRecord),
     Attribution(AttributionRecord),
+    /// Where a certified lens's guarantee stops, for a field or for the run.
+    CertificateEnd(CertificateEndRecord),
     Summary(Summary),
     /// One format's run of a precision sweep (after the summary).
     FormatRun(crate::sweep::FormatRun),
@@ -210,6 +227,9 @@ pub struct StepRecord {
     pub step: u64,
     pub lens: String,
     pub fields: Vec<FieldStep>,
+    /// A certified lens's guarantee at this step (version 3; absent for every other lens).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub certificate: Option<StepCertificateRecord>,
 }
 
 /// The error of one field after one step, as one lens sees it.
@@ -434,6 +454,9 @@ pub struct Summary {
     /// thinned out under the `auto` policy).
     #[serde(default)]
     pub event_totals: Vec<EventTotal>,
+    /// Each certified lens's totals (version 3; absent without a certified lens).
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub certificates: Vec<CertificateSummary>,
 }
 
 /// The outcome for one lens and field.

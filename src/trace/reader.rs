@@ -43,7 +43,7 @@ impl std::fmt::Display for ReadError {
                 write!(
                     f,
                     "trace format version {version} is not known to this twinstep (it reads versions {})",
-                    READABLE_VERSIONS.map(|v| v.to_string()).join(" and ")
+                    READABLE_VERSIONS.map(|v| v.to_string()).join(", ")
                 )
             }
             ReadError::OutOfOrder { line, message } => write!(f, "line {line}: {message}"),
@@ -172,6 +172,7 @@ fn assemble(records: Vec<(usize, Record)>, truncated_tail: bool) -> Result<Trace
             Record::Event(e) => Some(e.step),
             Record::Profile(p) => Some(p.step),
             Record::Attribution(a) => Some(a.step),
+            Record::CertificateEnd(c) => Some(c.step),
             _ => None,
         };
         if let Some(step) = step {
@@ -186,6 +187,7 @@ fn assemble(records: Vec<(usize, Record)>, truncated_tail: bool) -> Result<Trace
             Record::Event(e) => trace.events.push(e),
             Record::Profile(p) => trace.profiles.push(p),
             Record::Attribution(a) => trace.attribution.push(a),
+            Record::CertificateEnd(c) => trace.certificate_ends.push(c),
             Record::Summary(s) => trace.summary = Some(s),
             Record::FormatRun(r) => trace.format_runs.push(r),
             Record::Sweep(s) => trace.sweep = Some(s),
@@ -238,6 +240,16 @@ fn check_names(trace: &Trace) -> Result<(), ReadError> {
             check("field", name, &declared, &what)?;
         }
     }
+    for end in &trace.certificate_ends {
+        let what = || format!("certificate end at step {}", end.step);
+        check("lens", &end.lens, &lenses, &what)?;
+        if let Some(name) = &end.field {
+            check("field", name, &declared, &what)?;
+        }
+    }
+    for certificate in trace.summary.iter().flat_map(|s| &s.certificates) {
+        check("lens", &certificate.lens, &lenses, &|| "summary certificates".to_string())?;
+    }
     for result in trace.summary.iter().flat_map(|s| &s.results) {
         let what = || "summary".to_string();
         check("lens", &result.lens, &lenses, &what)?;
@@ -256,6 +268,7 @@ fn kind(record: &Record) -> &'static str {
         Record::Event(_) => "an event",
         Record::Profile(_) => "a profile",
         Record::Attribution(_) => "an attribution",
+        Record::CertificateEnd(_) => "a certificate end",
         Record::Summary(_) => "a summary",
         Record::FormatRun(_) => "a format run",
         Record::Sweep(_) => "a sweep outcome",

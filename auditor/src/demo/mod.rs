@@ -1,7 +1,8 @@
 //! `twinstep demo`: a built-in audit of a scenario of our own, the kiln wall ([`kiln`]), run through the audit
-//! driver with the bound and shadow lenses and a precision sweep (binary64, binary32, bfloat16, binary16 and the
-//! bisection between them), so that a fresh clone shows the whole job in seconds, and the verdict names the least
-//! precision and what f32 would do.
+//! driver with the bound, shadow and certified lenses and a precision sweep (binary64, binary32, bfloat16, binary16
+//! and the bisection between them), so that a fresh clone shows the whole job in seconds: the per-operation bound
+//! lost to the dependency effect within a few steps, the shadow's estimate, the certified lens's guarantee, which
+//! holds for the whole run and on which the verdict rests, and the least precision and what f32 would do.
 //!
 //! The same conduction kernel advances two fields that hold the same physics two ways: `T`, the wall temperature
 //! in kelvin (about 1300 K), and `rise`, the temperature above the 1300 K soak. Every step adds a small firing
@@ -20,8 +21,8 @@ use std::path::Path;
 use twinstep::attribution::AttributeOptions;
 use twinstep::audit::{Audit, Tolerance};
 use twinstep::lens::{Bound, Shadow};
-use twinstep::trace::Remedy;
 use twinstep::sweep::SweepPlan;
+use twinstep::trace::Remedy;
 
 /// Steps the demo runs by default: long enough for `T` to cross its budget, short enough for a few seconds. The
 /// sweep audits all of them in every format: judged on fewer steps by its growth law, binary64 would seem to meet
@@ -71,6 +72,7 @@ pub fn run(trace: &Path, steps: u64) -> Result<(), Failure> {
                 Some(wall.soak),
             ),
         )
+        .certified()
         .sweep(SweepPlan::standard())
         .run()
         .map(|_| ())

@@ -1,8 +1,9 @@
 //! The analysis as one JSON document, and its per-step rows as CSV. One row per recorded step, lens and field; the
 //! columns are the [`Row`] members, in [`ROW_COLUMNS`] order, documented in `docs/cli.md`. The CSV is produced from
 //! the same rows through their JSON form, so the two formats cannot disagree; it starts with comment lines (`#`)
-//! that say what the numbers are and carry the caution, and, for a trace with an attribution, comment lines with
-//! the top source lines of each ranked field.
+//! that say what the numbers are and carry the caution, then, as further comment lines: for a certified lens, what
+//! its certificate guarantees (the section's sentences and table rows); for a trace with an attribution, the top
+//! source lines of each ranked field; for a precision sweep, every format's run.
 
 use crate::analysis::{Analysis, Block, Row, Section, SectionKind, VerdictView, CAUTION, FLOAT, ROW_COLUMNS};
 use serde::Serialize;
@@ -163,6 +164,9 @@ pub fn csv(analysis: &Analysis<'_>) -> String {
     );
     attribution_comments(analysis, &mut out);
     sweep_comments(analysis, &mut out);
+    for section in analysis.sections.iter().filter(|s| s.kind == SectionKind::Certificate) {
+        certificate_comments(section, &mut out);
+    }
     out.push_str(&ROW_COLUMNS.join(","));
     out.push('\n');
     for row in analysis.rows() {
@@ -172,4 +176,25 @@ pub fn csv(analysis: &Analysis<'_>) -> String {
         out.push('\n');
     }
     out
+}
+
+/// A certified lens's section as comment lines: its title, facts, sentences, and table rows (`key: value` pairs).
+fn certificate_comments(section: &Section, out: &mut String) {
+    let line = |text: &str| format!("# {}\n", text.replace(['\n', '\r'], " "));
+    if let Some(title) = &section.title {
+        out.push_str(&line(title));
+    }
+    for block in &section.blocks {
+        match block {
+            Block::Facts { facts } => facts.iter().for_each(|(k, v)| out.push_str(&line(&format!("{k}: {v}")))),
+            Block::Paragraph { text } => out.push_str(&line(text)),
+            Block::Table { head, rows, .. } => {
+                for row in rows {
+                    let cells: Vec<String> = head.iter().zip(row).map(|(h, c)| format!("{h}: {}", c.text)).collect();
+                    out.push_str(&line(&cells.join("; ")));
+                }
+            }
+            Block::Notice { .. } | Block::Verdict { .. } | Block::Figures => {}
+        }
+    }
 }

@@ -22,11 +22,15 @@ use std::time::{Instant, SystemTime, UNIX_EPOCH};
 use super::field::multi_index;
 use super::measure::{self, CellProfile, FieldMeasure, LensStep};
 use super::{Error, RecordPolicy};
+use crate::certificate::driver::{CertificateFacts, RunTotals};
+use crate::certificate::{EndReason, Route};
 use crate::lens::Lens;
+use crate::report::certificate as certificate_words;
 use crate::report::words::{self, LostBecause};
 use crate::trace::{
-    AttributionRecord, Build, EventName, EventRecord, EventTotal, FieldStep, Header, Machine, ProfileRecord, Record,
-    SiteRecord, StepRecord, Trace, TraceWriter, FORMAT, VERSION,
+    AttributionRecord, Build, CertificateEndRecord, EndCause, EventName, EventRecord, EventTotal,
+    FieldCertificateRecord, FieldStep, Header, Machine, ProfileRecord, Record, SiteRecord, StepCertificateRecord,
+    StepRecord, Trace, TraceWriter, UndecidedSite, FORMAT, VERSION,
 };
 
 pub(crate) use plan::LensInfo;
@@ -50,6 +54,18 @@ struct Track {
     /// `(step, max_err)` at log-spaced steps, for the growth fit.
     history: Vec<(u64, f64)>,
     last: Option<(u64, FieldMeasure)>,
+    /// A certified lens's field: whether its guarantee grew useless, whether it lost cells (each said once).
+    certificate_useless: bool,
+    certificate_lost: bool,
+}
+
+/// What the recorder remembers about a certified lens's certificate.
+#[derive(Clone, Debug)]
+pub(super) struct CertificateTrack {
+    pub route: Route,
+    pub mean_growth: f64,
+    pub ended_at: Option<u64>,
+    pub totals: Option<RunTotals>,
 }
 
 /// Where an event happened, for counting repeats.
@@ -63,6 +79,8 @@ pub struct Recorder {
     writer: TraceWriter,
     trace: Trace,
     tracks: Vec<Vec<Track>>,
+    /// Per lens: its certificate, for a certified lens that reported one.
+    certificates: Vec<Option<CertificateTrack>>,
     totals: BTreeMap<EventKey, EventTotal>,
     /// The last steps, held back until it is known whether an event follows within the context.
     pending: VecDeque<Held>,
@@ -87,7 +105,16 @@ struct Held {
     /// `(lens, field, profile)`, made into records only if written: most steps' profiles are not.
     profiles: Vec<(usize, usize, CellProfile)>,
     events: Vec<EventRecord>,
+    /// Where a certified lens's guarantee stops at this step (kept like events: never thinned, with context).
+    ends: Vec<CertificateEndRecord>,
     on_log_grid: bool,
+}
+
+impl Held {
+    /// Whether the step carries something a reader must see, with the steps around it.
+    fn notable(&self) -> bool {
+        !self.events.is_empty() || !self.ends.is_empty()
+    }
 }
 
 impl Recorder {
@@ -126,12 +153,13 @@ impl Recorder {
         };
         let mut writer = TraceWriter::create(&plan.trace)?;
         writer.write(&Record::Header(header.clone()))?;
-        let tracks = lenses.iter().map(|_| vec![Track::default(); plan.fields.len()]).collect();
+        let tracks: Vec<Vec<Track>> = lenses.iter().map(|_| vec![Track::default(); plan.fields.len()]).collect();
         Ok(Recorder {
             plan: plan.clone(),
             lenses,
             writer,
             trace: Trace::started(header),
+            certificates: vec![None; tracks.len()],
             tracks,
             totals: BTreeMap::new(),
             pending: VecDeque::new(),
@@ -166,7 +194,7 @@ impl Recorder {
             .map(|(i, f)| measure::measure(f, &self.plan.tolerance, self.plan.profiled(i)))
             .collect();
         let events = self.collector.as_ref().map(crate::events::Collector::take).unwrap_or_default();
-        self.ingest(LensStep { step, fields: measured, events, mismatches: Vec::new() }.into_all())
+        self.ingest(LensStep { step, fields: measured, events, mismatches: Vec::new(), certificate: None }.into_all())
     }
 
     /// Takes the measurements of every lens (in the recorder's lens order) for one step.
@@ -189,6 +217,12 @@ impl Recorder {
             }
         }
         self.check_bounds(&steps, &mut events);
+        let ends: Vec<CertificateEndRecord> = steps
+            .iter()
+            .enumerate()
+            .filter_map(|(lens, s)| Some((lens, s.step, s.certificate.as_ref()?)))
+            .flat_map(|(lens, step, facts)| self.track_certificate(lens, step, facts))
+            .collect();
         let records: Vec<StepRecord> = steps.iter().enumerate().map(|(lens, s)| self.step_record(lens, s)).collect();
         let profiles = steps
             .into_iter()
@@ -198,7 +232,7 @@ impl Recorder {
             })
             .collect();
         let events: Vec<EventRecord> = events.into_iter().flatten().collect();
-        self.pending.push_back(Held { step, records, profiles, events, on_log_grid });
+        self.pending.push_back(Held { step, records, profiles, events, ends, on_log_grid });
         while self.pending.len() > EVENT_CONTEXT {
             self.release_front(false)?;
         }
@@ -244,11 +278,72 @@ impl Recorder {
         }
     }
 
+    /// Keeps a certified lens's certificate and returns where its guarantee stops at this step: for the run at an
+    /// undecided decision, for a field when its interval grows useless or cells lose their bound (each once).
+    fn track_certificate(&mut self, lens: usize, step: u64, facts: &CertificateFacts) -> Vec<CertificateEndRecord> {
+        let name = self.lenses[lens].name;
+        let previous = self.certificates[lens].take();
+        let growth = facts.mean_growth.or(previous.as_ref().map(|c| c.mean_growth)).unwrap_or(1.0);
+        let track = CertificateTrack {
+            route: facts.route,
+            mean_growth: growth,
+            ended_at: previous.as_ref().and_then(|c| c.ended_at).or(facts.ended.as_ref().map(|e| e.step)),
+            totals: facts.totals.clone().or(previous.and_then(|c| c.totals)),
+        };
+        self.certificates[lens] = Some(track);
+        let end = |cause, field: Option<String>, detail: String| CertificateEndRecord {
+            step,
+            lens: name.to_string(),
+            cause,
+            field,
+            sites: Vec::new(),
+            growth,
+            route: facts.route.into(),
+            max_radius: None,
+            estimate: None,
+            lost_cells: None,
+            detail,
+        };
+        let mut ends = Vec::new();
+        if let Some(ended) = &facts.ended {
+            let EndReason::Undecided { sites } = &ended.reason;
+            let sites: Vec<UndecidedSite> = sites
+                .iter()
+                .map(|&(kind, site, count)| UndecidedSite { kind: kind.into(), site: site.into(), count })
+                .collect();
+            let detail = certificate_words::undecided_detail(&sites);
+            ends.push(CertificateEndRecord { sites, ..end(EndCause::Undecided, None, detail) });
+        }
+        for (index, field) in facts.step.fields.iter().enumerate() {
+            let spec = &self.plan.fields[index].name;
+            let track = &mut self.tracks[lens][index];
+            if field.useless && !std::mem::replace(&mut track.certificate_useless, true) {
+                let detail = certificate_words::useless_detail(field.max_radius, field.estimate, growth);
+                ends.push(CertificateEndRecord {
+                    max_radius: Some(field.max_radius),
+                    estimate: Some(field.estimate),
+                    ..end(EndCause::Useless, Some(spec.clone()), detail)
+                });
+            }
+            if field.lost_cells > 0 && !std::mem::replace(&mut track.certificate_lost, true) {
+                let detail = certificate_words::lost_detail(field.lost_cells);
+                ends.push(CertificateEndRecord {
+                    lost_cells: Some(field.lost_cells),
+                    ..end(EndCause::Lost, Some(spec.clone()), detail)
+                });
+            }
+        }
+        ends
+    }
+
     /// Reports, once per lens and field, the step where a guaranteed bound stops being useful while the best
     /// estimate says the error is still within tolerance (the dependency effect of interval-style bounds).
     fn check_bounds(&mut self, steps: &[LensStep], events: &mut Vec<Option<EventRecord>>) {
         let guaranteed: Vec<bool> = self.lenses.iter().map(|l| l.guaranteed).collect();
-        for (lens, s) in steps.iter().enumerate().filter(|(l, _)| guaranteed[*l]) {
+        // A certified lens's bound is not a per-operation enclosure: where it stops, its certificate says so
+        // (`certificate_end`), and while the certificate holds the bound is the guarantee, never "lost".
+        let certified: Vec<bool> = self.lenses.iter().map(|l| l.certified).collect();
+        for (lens, s) in steps.iter().enumerate().filter(|(l, _)| guaranteed[*l] && !certified[*l]) {
             for (index, m) in s.fields.iter().enumerate() {
                 let (Some(bound), Some(bound_ratio)) = (m.bound, m.bound_tol_ratio) else { continue };
                 if self.tracks[lens][index].bound_lost {
@@ -354,7 +449,28 @@ impl Recorder {
                 max_abs: m.max_abs,
             })
             .collect();
-        StepRecord { step: s.step, lens: self.lenses[lens].name.to_string(), fields }
+        let certificate = s.certificate.as_ref().map(|c| StepCertificateRecord {
+            holds: c.step.holds,
+            route: c.route.into(),
+            growth: c.step.growth,
+            anchored: c.step.anchored,
+            fields: c
+                .step
+                .fields
+                .iter()
+                .zip(&self.plan.fields)
+                .map(|(f, spec)| FieldCertificateRecord {
+                    name: spec.name.clone(),
+                    lower: f.worst.0,
+                    upper: f.worst.1.is_finite().then_some(f.worst.1),
+                    worst_cell: multi_index(f.worst_cell, &spec.shape),
+                    max_radius: f.max_radius.is_finite().then_some(f.max_radius),
+                    lost_cells: f.lost_cells,
+                    useless: f.useless,
+                })
+                .collect(),
+        });
+        StepRecord { step: s.step, lens: self.lenses[lens].name.to_string(), fields, certificate }
     }
 
     /// The record of a held profile.
@@ -379,13 +495,13 @@ impl Recorder {
         }
         let context = EVENT_CONTEXT as u64;
         let event_before = self.last_event_step.is_some_and(|e| held.step - e <= context);
-        let event_after = self.pending.iter().any(|h| !h.events.is_empty() && h.step - held.step <= context);
-        if !held.events.is_empty() {
+        let event_after = self.pending.iter().any(|h| h.notable() && h.step - held.step <= context);
+        if held.notable() {
             self.last_event_step = Some(held.step);
         }
         let keep = self.plan.policy == RecordPolicy::Every
             || held.on_log_grid
-            || !held.events.is_empty()
+            || held.notable()
             || event_before
             || event_after
             || last;
@@ -406,6 +522,10 @@ impl Recorder {
         for event in held.events {
             self.writer.write(&Record::Event(event.clone()))?;
             self.trace.events.push(event);
+        }
+        for end in held.ends {
+            self.writer.write(&Record::CertificateEnd(end.clone()))?;
+            self.trace.certificate_ends.push(end);
         }
         Ok(())
     }

@@ -28,6 +28,8 @@ pub struct Plan {
     pub split_representation: bool,
     /// Write `profile` records (decimated per-cell errors) for the 1-D fields.
     pub profiles: bool,
+    /// The choices of a certified lens's certificate (its route, anchors, colouring), when the audit has one.
+    pub certificate: crate::certificate::CertificateOptions,
 }
 
 impl Plan {
@@ -45,6 +47,7 @@ impl Plan {
             trace,
             split_representation: false,
             profiles: true,
+            certificate: crate::certificate::CertificateOptions::default(),
         }
     }
 
@@ -72,10 +75,17 @@ impl Plan {
 pub(crate) struct LensInfo {
     pub name: &'static str,
     pub guaranteed: bool,
+    /// The driver runs a certificate for it (its bound lasts the time loop while the certificate holds).
+    pub certified: bool,
 }
 
 impl LensInfo {
     pub(crate) fn of<L: Lens>() -> LensInfo {
-        LensInfo { name: L::NAME, guaranteed: L::GUARANTEED }
+        LensInfo { name: L::NAME, guaranteed: L::GUARANTEED, certified: false }
+    }
+
+    /// The same lens, marked as certified or not.
+    pub(crate) fn certified(self, certified: bool) -> LensInfo {
+        LensInfo { certified, ..self }
     }
 }

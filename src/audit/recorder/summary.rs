@@ -3,9 +3,9 @@
 //! [`crate::report::words`]; this module only gathers facts.
 
 use super::Recorder;
-use crate::report::{analysis, words};
-use crate::trace::{ResultRecord, Summary};
-use crate::verdict::{self, Evidence, Verdict};
+use crate::report::{analysis, certificate, words};
+use crate::trace::{BackwardCostRecord, CertificateSummary, ResultRecord, Summary};
+use crate::verdict::{self, Evidence, Standing, Verdict};
 
 /// The summary of a finished recording.
 pub(super) fn summarize(recorder: &Recorder) -> Summary {
@@ -38,10 +38,14 @@ pub(super) fn summarize(recorder: &Recorder) -> Summary {
             let quotient = last.max_err / last.tol_ratio;
             let allowed_at_end =
                 if last.tol_ratio > 0.0 && quotient.is_finite() { quotient } else { tolerance.allowed(last.max_abs) };
+            // The one rule of the reports, from the trace as written (a certified lens whose certificate stopped
+            // judges as an estimate).
+            let standing = certificate::standing(&recorder.trace, info.name);
             evidence.push(Evidence {
                 lens: info.name.to_string(),
                 field,
-                guaranteed: info.guaranteed,
+                guaranteed: standing == Standing::Bound,
+                certified: standing == Standing::Guarantee,
                 first_crossing: track.first_crossing,
                 final_max_err: last.max_err,
                 allowed_at_end,
@@ -51,7 +55,8 @@ pub(super) fn summarize(recorder: &Recorder) -> Summary {
     }
     let decision = verdict::decide(&evidence, steps_done, horizon);
     let event_totals: Vec<_> = recorder.totals.values().cloned().collect();
-    let notes = analysis::notes(&recorder.trace.events, &event_totals);
+    let mut notes = analysis::notes(&recorder.trace.events, &event_totals);
+    notes.extend(certificate::notes(&recorder.trace));
     let verdict = Verdict {
         status: decision.status,
         until_step: decision.until_step,
@@ -65,5 +70,32 @@ pub(super) fn summarize(recorder: &Recorder) -> Summary {
         results,
         verdict,
         event_totals,
+        certificates: certificates(recorder),
     }
+}
+
+/// Each certified lens's totals.
+fn certificates(recorder: &Recorder) -> Vec<CertificateSummary> {
+    recorder
+        .lenses
+        .iter()
+        .zip(&recorder.certificates)
+        .filter_map(|(info, c)| Some((info, c.as_ref()?)))
+        .map(|(info, c)| CertificateSummary {
+            lens: info.name.to_string(),
+            route: c.route.into(),
+            growth: c.mean_growth,
+            ended_at: c.ended_at,
+            backward_declined: c.totals.as_ref().is_some_and(|t| t.backward_declined),
+            backward: c.totals.as_ref().filter(|t| t.backward.sweeps > 0 || t.backward.bytes > 0).map(|t| {
+                BackwardCostRecord {
+                    sweeps: t.backward.sweeps,
+                    seconds: t.backward.time.as_secs_f64(),
+                    multiply_adds: t.backward.multiply_adds,
+                    bytes: t.backward.bytes as u64,
+                }
+            }),
+            clashes: c.totals.as_ref().map_or(0, |t| t.clashes),
+        })
+        .collect()
 }
