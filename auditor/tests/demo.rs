@@ -117,7 +117,7 @@ fn shadow_estimates_match_the_exact_rational_solution() {
     let error = twinstep::report::format::error;
     let measured = format!(
         "Remedy applied: field rise carries T as the rise above the background 1.30e3 (the remedy above, applied). \
-Measured by lens shadow at step {STEPS}: T {}, rise {}: the error drops {}.",
+Measured by lens certified at step {STEPS}: T {}, rise {}: the error drops {}.",
         error(t_err),
         error(rise_err),
         twinstep::report::format::times(t_err / rise_err)

@@ -211,6 +211,12 @@ impl<const K: usize, const W: bool> CertifiedOf<K, W> {
         let (s, t) = crate::lens::eft::two_diff(self.primal, hi);
         let w = t - lo;
         let e = s + w;
+        if w == 0.0 && e == 0.0 && radius == 0.0 {
+            // With subnormals, RN(t − lo) = 0 only if t = lo (x ⊖ y = 0 ⇔ x = y under gradual underflow: Goldberg,
+            // "What every computer scientist should know about floating-point arithmetic", 1991, from memory), and
+            // then e = RN(s) = s: p = ṽ, the exact value is the shadow, so the error is exactly zero.
+            return (0.0, 0.0);
+        }
         let slack = (U * (w.abs() + e.abs())).mul_add(INFLATION, FLOOR) + radius;
         let upper = next_up(e.abs() + next_up(slack));
         let lower = next_down(e.abs() - next_up(slack)).max(0.0);
