@@ -81,6 +81,13 @@ fn an_f32_kernel_audits_with_the_binary32_lens_bit_for_bit() {
         .unwrap();
     assert!(trace.is_complete());
     assert_eq!(trace.header.lenses, vec!["binary32".to_owned()]);
+    // The header names the program's float, and every sentence of the verdict and the report names it, not f64.
+    assert_eq!(trace.header.float, "f32");
+    let verdict = &trace.summary.as_ref().unwrap().verdict.text;
+    assert!(verdict.starts_with("f32 is enough") || verdict.starts_with("f32 is not enough"), "{verdict}");
+    let text = twinstep::report::render_text(&trace);
+    assert!(text.contains("f32 is enough") || text.contains("f32 is not enough"), "{text}");
+    assert!(!text.contains("f64 is"), "{text}");
     // The audit compared the binary32 primal with the f32 kernel at every cell and step: no difference.
     assert_eq!(mismatches(&trace), Vec::<u64>::new());
 
@@ -123,6 +130,8 @@ fn the_audit_catches_an_f32_program_the_twin_does_not_reproduce() {
         .run()
         .unwrap();
     assert_eq!(mismatches(&trace).first(), Some(&1));
+    let mismatch = trace.events.iter().find(|e| e.kind == EventName::PrimalMismatch).unwrap();
+    assert!(mismatch.detail.contains("plain f32 original"), "{}", mismatch.detail);
     // A lens whose primal is another format computes something else by design: it is not compared.
     let plain = Rod32::new(16);
     let trace = Audit::new(&plain, Tolerance::absolute(1.0), 5)

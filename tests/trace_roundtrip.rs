@@ -60,6 +60,17 @@ fn written_trace_reads_back_identical() {
     let read_old = trace::parse(&old).expect("a version-1 trace reads");
     assert_eq!(read_old.events, read.events);
     assert_eq!(read_old.header.version, 1);
+
+    // The audit of an f64 scenario names its float in the header; a header written before the field was added
+    // (no `float` member) reads as an f64 program's, and its report says f64.
+    assert_eq!(read.header.float, "f64");
+    assert!(lines[0].contains("\"float\":\"f64\""), "{}", lines[0]);
+    let unnamed = text.replacen(",\"float\":\"f64\"", "", 1);
+    assert_ne!(unnamed, text);
+    let read_unnamed = trace::parse(&unnamed).expect("a header without float reads");
+    assert_eq!(read_unnamed.header.float, "f64");
+    assert_eq!(read_unnamed, read);
+    assert!(twinstep::report::render_text(&read_unnamed).contains("f64 is "));
     assert!(matches!(serde_json::from_str::<Record>(lines[lines.len() - 1]).unwrap(), Record::Summary(_)));
     // Every line is one JSON object with a "record" member.
     for line in &lines {

@@ -2,4 +2,4 @@
 //! the terminal text, Markdown, HTML, JSON and CSV alike. This module re-exports it under the CLI's name.
 
 pub use twinstep::report::analysis::*;
-pub use twinstep::report::words::{CAUTION, FLOAT};
+pub use twinstep::report::words::CAUTION;

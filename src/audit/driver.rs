@@ -138,7 +138,7 @@ impl<'s, F: ProgramFloat, S: Scenario<F>> Audit<'s, S, F> {
             .map_or_else(|| std::env::temp_dir().join(format!("twinstep-{}.jsonl", std::process::id())), PathBuf::from);
         Audit {
             scenario,
-            plan: Plan::new("kernel", scenario.fields(), tolerance, steps, trace),
+            plan: Plan { float: F::NAME, ..Plan::new("kernel", scenario.fields(), tolerance, steps, trace) },
             lenses: Vec::new(),
             attribution: None,
             sweep: None,

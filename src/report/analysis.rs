@@ -332,13 +332,16 @@ impl<'a> Analysis<'a> {
                 until_step: v.until_step,
                 least_precision_bits: v.least_precision_bits,
                 label: words::status_label(v.status, v.until_step),
-                line: words::verdict_line(Some((v.status, v.until_step, v.least_precision_bits))),
+                line: words::verdict_line(Some((v.status, v.until_step, v.least_precision_bits)), &trace.header.float),
                 explanation: v.text.replace(words::CAUTION, "").trim_end().to_owned(),
             };
             // A sweep in the trace answers what the audit's own verdict could not: the least precision.
             if let Some(sentence) = super::sweep::verdict_sentence(trace) {
                 view.least_precision_bits = trace.sweep.as_ref().and_then(|s| s.least_bits);
-                view.line = format!("{} {sentence}", words::verdict_line(Some((v.status, v.until_step, None))));
+                view.line = format!(
+                    "{} {sentence}",
+                    words::verdict_line(Some((v.status, v.until_step, None)), &trace.header.float)
+                );
                 view.explanation = view.explanation.replace(words::NO_SWEEP, &sentence);
             }
             super::certificate::mark_verdict(&mut view, basis);
@@ -367,6 +370,13 @@ impl<'a> Analysis<'a> {
         analysis.headline = words::headline(analysis.worst(), &analysis.early_bounds(), analysis.basis);
         analysis.sections = analysis.lay_out();
         analysis
+    }
+
+    /// The verdict in one sentence, naming the program's float from the header; for a trace without a verdict,
+    /// why there is none.
+    #[must_use]
+    pub fn verdict_line(&self) -> String {
+        self.verdict.as_ref().map_or_else(|| words::verdict_line(None, &self.trace.header.float), |v| v.line.clone())
     }
 
     /// The outcomes that judge.
@@ -505,7 +515,7 @@ impl<'a> Analysis<'a> {
                 };
                 (v.label.clone(), v.line.clone(), tone, v.explanation.clone())
             }
-            None => ("none".to_owned(), words::verdict_line(None), Tone::Warn, String::new()),
+            None => ("none".to_owned(), self.verdict_line(), Tone::Warn, String::new()),
         };
         Section::new(
             SectionKind::Verdict,

@@ -17,10 +17,6 @@ apply locally, and licensed review.";
 pub const NO_SWEEP: &str = "The least precision that would meet the tolerance is not computed: that needs a sweep \
 over emulated formats, which this version does not run.";
 
-/// The float the verdict's sentences name: binary64, the float of the kernels twinstep audits but for `f32`
-/// programs (`Scenario<f32>`), whose reports still say `f64` (a limitation `docs/audit.md` states).
-pub const FLOAT: &str = "f64";
-
 fn basis(b: Basis) -> &'static str {
     match b {
         Basis::Estimate => "error estimate",
@@ -42,8 +38,9 @@ fn against_allowed(err: f64, allowed: f64) -> String {
 
 /// The verdict's explanation: the finding, the least-precision note, the notes of the run, the caution. A primal
 /// mismatch is said first: every number after it describes the twin's computation, not the original program's.
+/// `float` is the program's float as the trace's header names it (`f64`, `f32`).
 #[must_use]
-pub fn verdict_text(d: &Decision, tolerance: &Tolerance, notes: &[Note]) -> String {
+pub fn verdict_text(d: &Decision, tolerance: &Tolerance, notes: &[Note], float: &str) -> String {
     let tolerance = tolerance.describe();
     let horizon = d.horizon;
     let finding = match &d.finding {
@@ -55,8 +52,8 @@ pub fn verdict_text(d: &Decision, tolerance: &Tolerance, notes: &[Note]) -> Stri
                 format!("extrapolated to step {step} by the fitted growth {}", growth_text(*growth))
             };
             let lead = match d.status {
-                Status::NotEnough => format!("{FLOAT} is not enough"),
-                _ => format!("{FLOAT} is enough until step {} of {horizon}", step.saturating_sub(1)),
+                Status::NotEnough => format!("{float} is not enough"),
+                _ => format!("{float} is enough until step {} of {horizon}", step.saturating_sub(1)),
             };
             let last = if final_max_err.is_finite() {
                 format!("it is {}", against_allowed(*final_max_err, *allowed_at_end))
@@ -80,7 +77,7 @@ last audited step {last}.",
                 None => String::new(),
             };
             format!(
-                "{FLOAT} is enough for the planned {horizon} steps: the largest {} (lens {lens}, field {field}) is {} \
+                "{float} is enough for the planned {horizon} steps: the largest {} (lens {lens}, field {field}) is {} \
 after {} steps, {} of the {} the tolerance ({tolerance}) allows there{horizon_part}.",
                 basis(d.basis),
                 format::error(*final_max_err),
@@ -95,21 +92,21 @@ after {} steps, {} of the {} the tolerance ({tolerance}) allows there{horizon_pa
     let mut after = Vec::new();
     for note in notes {
         match note {
-            Note::PrimalMismatch { .. } => warnings.push_str(&format!("{} ", note_text(note))),
+            Note::PrimalMismatch { .. } => warnings.push_str(&format!("{} ", note_text(note, float))),
             // Beside a certificate that holds, a lost per-operation bound does not make the verdict an estimate.
             Note::BoundLost { lens, field, step, .. } if d.basis == Basis::Guarantee => {
                 after.push(super::certificate::bound_lost_beside_guarantee(lens, field, *step));
             }
-            _ => after.push(note_text(note)),
+            _ => after.push(note_text(note, float)),
         }
     }
     let after = if after.is_empty() { String::new() } else { format!(" {}", after.join(" ")) };
     format!("{warnings}{finding} {precision}{after} {CAUTION}")
 }
 
-/// One note of the verdict, as a sentence.
+/// One note of the verdict, as a sentence; `float` is the program's.
 #[must_use]
-pub fn note_text(note: &Note) -> String {
+pub fn note_text(note: &Note, float: &str) -> String {
     match note {
         // Never hide it: an `enough` resting on an estimate is not a guarantee.
         Note::BoundLost { lens, field, step, bound, estimate } => format!(
@@ -121,11 +118,11 @@ estimate of {}), so this verdict rests on the estimate, not on a guarantee.",
         Note::UndecidedPaths { sites, first_step, first_site } => format!(
             "Comparisons or index conversions undecided by rounding at {sites} source site(s), first at step \
 {first_step} ({}): exact arithmetic could have taken another path there, while the figures follow the path the \
-{FLOAT} program took.",
+{float} program took.",
             first_site.as_deref().unwrap_or("no site")
         ),
         Note::PrimalMismatch { lens, field, step } => format!(
-            "Warning: the primal of lens {lens} differs from the plain {FLOAT} original (field {field}, from step \
+            "Warning: the primal of lens {lens} differs from the plain {float} original (field {field}, from step \
 {step}), so these figures describe the twin's computation, not the original program's."
         ),
         Note::Certificate(certificate) => super::certificate::note_text(certificate),
@@ -147,17 +144,17 @@ pub fn status_label(status: Status, until_step: Option<u64>) -> String {
     }
 }
 
-/// The verdict in one sentence, or why there is none.
+/// The verdict in one sentence, or why there is none; `float` is the program's.
 #[must_use]
-pub fn verdict_line(verdict: Option<(Status, Option<u64>, Option<u32>)>) -> String {
+pub fn verdict_line(verdict: Option<(Status, Option<u64>, Option<u32>)>, float: &str) -> String {
     let Some((status, until, bits)) = verdict else {
-        return format!("none yet: the run is incomplete, so whether {FLOAT} is enough is not known.");
+        return format!("none yet: the run is incomplete, so whether {float} is enough is not known.");
     };
     let mut line = match (status, until) {
-        (Status::Enough, _) => format!("{FLOAT} is enough for this run."),
-        (Status::EnoughUntil, Some(step)) => format!("{FLOAT} is enough until step {step}, not beyond."),
-        (Status::EnoughUntil, None) => format!("{FLOAT} is enough only for part of this run."),
-        (Status::NotEnough, _) => format!("{FLOAT} is not enough for this run."),
+        (Status::Enough, _) => format!("{float} is enough for this run."),
+        (Status::EnoughUntil, Some(step)) => format!("{float} is enough until step {step}, not beyond."),
+        (Status::EnoughUntil, None) => format!("{float} is enough only for part of this run."),
+        (Status::NotEnough, _) => format!("{float} is not enough for this run."),
     };
     if let Some(bits) = bits {
         line.push_str(&format!(" Least precision meeting the tolerance: {bits} bits."));
@@ -191,11 +188,11 @@ pub fn occurrences_detail(count: u64) -> String {
     format!("{count} time(s) at this step")
 }
 
-/// The trace detail of a `primal_mismatch` event.
+/// The trace detail of a `primal_mismatch` event; `float` is the program's, the original's float.
 #[must_use]
-pub fn mismatch_detail(cell: &[usize], lens_primal: f64, original: f64) -> String {
+pub fn mismatch_detail(cell: &[usize], lens_primal: f64, original: f64, float: &str) -> String {
     format!(
-        "cell {cell:?}: the lens's primal {lens_primal:e} differs from the plain {FLOAT} original {original:e}; the \
+        "cell {cell:?}: the lens's primal {lens_primal:e} differs from the plain {float} original {original:e}; the \
 twin does not reproduce the original kernel, so its error figures describe another computation"
     )
 }

@@ -142,10 +142,23 @@ pub struct Header {
     /// lens with a non-null bound for a guaranteed one).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub guaranteed_lenses: Option<Vec<String>>,
+    /// The float the audited program computes in, `f64` or `f32`: the reports name it in every sentence about the
+    /// program. Traces written before it was added lack it and were all of `f64` programs, hence the default.
+    #[serde(default = "default_float")]
+    pub float: String,
     pub machine: Machine,
     pub build: Build,
     pub started_unix_s: u64,
 }
+
+/// The float of a header that does not name one: every trace written before the field was added audited an `f64`
+/// program.
+fn default_float() -> String {
+    DEFAULT_FLOAT.to_owned()
+}
+
+/// The program's float when nothing says otherwise (a header without `float`, a recorder of the user's own loop).
+pub const DEFAULT_FLOAT: &str = <f64 as crate::audit::ProgramFloat>::NAME;
 
 /// A field's name and shape (row-major: the last index varies fastest).
 #[derive(Clone, Debug, PartialEq, Eq, Serialize, Deserialize)]

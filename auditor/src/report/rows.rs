@@ -5,7 +5,7 @@
 //! its certificate guarantees (the section's sentences and table rows); for a trace with an attribution, the top
 //! source lines of each ranked field; for a precision sweep, every format's run.
 
-use crate::analysis::{Analysis, Block, Row, Section, SectionKind, VerdictView, CAUTION, FLOAT, ROW_COLUMNS};
+use crate::analysis::{Analysis, Block, Row, Section, SectionKind, VerdictView, CAUTION, ROW_COLUMNS};
 use serde::Serialize;
 use twinstep::report::attribution::AttributionFacts;
 
@@ -89,16 +89,13 @@ pub fn json(analysis: &Analysis<'_>) -> String {
         report: "twinstep-report",
         kernel: &trace.header.kernel,
         scenario: &trace.header.scenario,
-        float: FLOAT,
+        float: &trace.header.float,
         complete: trace.is_complete(),
         notice: analysis.notice.as_deref(),
         tolerance: &trace.header.tolerance,
         verdict: trace.summary.as_ref().map(|s| &s.verdict),
         verdict_view: analysis.verdict.as_ref(),
-        verdict_line: analysis
-            .verdict
-            .as_ref()
-            .map_or_else(|| twinstep::report::words::verdict_line(None), |v| v.line.clone()),
+        verdict_line: analysis.verdict_line(),
         outcomes: &analysis.outcomes,
         events: &trace.events,
         sections: &analysis.sections,
@@ -155,8 +152,7 @@ fn sweep_comments(analysis: &Analysis<'_>, out: &mut String) {
 /// [`ROW_COLUMNS`], then one line per row. Readers that do not skip comments can drop the lines before the header.
 #[must_use]
 pub fn csv(analysis: &Analysis<'_>) -> String {
-    let verdict =
-        analysis.verdict.as_ref().map_or_else(|| twinstep::report::words::verdict_line(None), |v| v.line.clone());
+    let verdict = analysis.verdict_line();
     let mut out = format!(
         "# twinstep per-step rounding error rows of {} (one row per recorded step, lens and field; docs/cli.md)\n\
          # verdict: {verdict}\n# {CAUTION}\n",

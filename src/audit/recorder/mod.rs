@@ -147,6 +147,7 @@ impl Recorder {
             steps_audited: (plan.steps != plan.horizon).then_some(plan.steps),
             record_policy: plan.policy,
             guaranteed_lenses: Some(lenses.iter().filter(|l| l.guaranteed).map(|l| l.name.to_string()).collect()),
+            float: plan.float.to_owned(),
             machine: Machine::current(),
             build: Build::current(),
             started_unix_s: SystemTime::now().duration_since(UNIX_EPOCH).map_or(0, |d| d.as_secs()),
@@ -272,7 +273,8 @@ impl Recorder {
             let track = &mut self.tracks[lens][mismatch.field];
             if !std::mem::replace(&mut track.mismatch, true) {
                 let cell = multi_index(mismatch.flat, &self.plan.fields[mismatch.field].shape);
-                let detail = words::mismatch_detail(&cell, mismatch.lens_primal, mismatch.original);
+                let detail =
+                    words::mismatch_detail(&cell, mismatch.lens_primal, mismatch.original, &self.trace.header.float);
                 events.push(self.event(lens, EventName::PrimalMismatch, Some(mismatch.field), None, 1, detail));
             }
         }

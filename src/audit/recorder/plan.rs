@@ -30,6 +30,9 @@ pub struct Plan {
     pub profiles: bool,
     /// The choices of a certified lens's certificate (its route, anchors, colouring), when the audit has one.
     pub certificate: crate::certificate::CertificateOptions,
+    /// The float the program computes in (`f64`, `f32`: [`crate::audit::ProgramFloat::NAME`]), for the header and
+    /// every sentence that names it. [`Plan::new`] says `f64`; [`crate::audit::Audit`] sets its program's own.
+    pub float: &'static str,
 }
 
 impl Plan {
@@ -48,6 +51,7 @@ impl Plan {
             split_representation: false,
             profiles: true,
             certificate: crate::certificate::CertificateOptions::default(),
+            float: crate::trace::DEFAULT_FLOAT,
         }
     }
 

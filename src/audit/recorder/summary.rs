@@ -61,7 +61,7 @@ pub(super) fn summarize(recorder: &Recorder) -> Summary {
         status: decision.status,
         until_step: decision.until_step,
         least_precision_bits: None,
-        text: words::verdict_text(&decision, &tolerance, &notes),
+        text: words::verdict_text(&decision, &tolerance, &notes, &recorder.trace.header.float),
     };
     Summary {
         steps_done,
