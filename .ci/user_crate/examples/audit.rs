@@ -39,7 +39,7 @@ impl Scenario for Plant {
 
 fn main() -> Result<(), Box<dyn std::error::Error>> {
     let path = std::env::args().nth(1).ok_or("usage: audit TRACE")?;
-    let trace = Audit::new(&Plant, Tolerance::absolute(1e-9)?, 20)
+    let trace = Audit::new(&Plant, Tolerance::absolute(1e-9), 20)
         .kernel("fold_step")
         .trace(&path)
         .lens::<Bound>()
