@@ -9,7 +9,11 @@
 //!
 //! Each format's run is an ordinary audit through the public builder ([`Audit`]) with one lens: [`Shadow`] for
 //! binary64 (the program's own arithmetic), [`Binary32`], [`Bfloat16`], [`Binary16`], or [`Bits`] for a p-bit
-//! format — each the program's primal in that format beside the same double-double reference. Every run writes
+//! format — each the program's primal in that format beside the same double-double reference. A format of at most
+//! [`NARROW_REFERENCE_BITS`] bits run beside binary64 takes the same primal with a binary64 reference instead
+//! ([`crate::lens::narrow`]: [`Binary32B64`], …), about a third of the cost, and keeps it only when binary64's own
+//! error, as the binary64 run measured it, stays below [`REFERENCE_MARGIN`] times the format's error at every step
+//! both runs recorded; otherwise the format runs again with the double-double lens. Every run writes
 //! its own trace; the sweep then appends one `format_run` record per run and one `sweep` record to the main trace
 //! (the binary64 run's, else the first run's), so a reader of that one file has every format's curve and the
 //! outcome (`docs/trace.md`).
@@ -33,7 +37,10 @@ use std::path::{Path, PathBuf};
 use serde::{Deserialize, Serialize};
 
 use crate::audit::{Audit, AuditLens, Error as AuditError, Levels, Plan, Scenario, Tolerance};
-use crate::lens::{bits_format_scope, Bfloat16, Binary16, Binary32, Bits, Format, FormatError, Shadow};
+use crate::lens::{
+    bits_format_scope, Bfloat16, Bfloat16B64, Binary16, Binary16B64, Binary32, Binary32B64, Bits, BitsB64, Format,
+    FormatError, Shadow,
+};
 use crate::trace::{Record, Status, Trace};
 
 /// The precision of binary64, which a sweep runs natively (IEEE 754-2019 Table 3.5, p = 53).
@@ -41,6 +48,13 @@ pub const BINARY64_BITS: u32 = 53;
 /// The precision of a double-double (two binary64 significands; common practice, no source): what the sweep
 /// suggests for a field that needs more than binary64 and at most this many bits.
 pub const DOUBLE_DOUBLE_BITS: f64 = 106.0;
+/// The widest format a binary64 reference serves in a sweep: 53 − 24 = 29 bits more than the primal, so the
+/// reference's own rounding is about 2^-29 of the primal's at each operation (see [`crate::lens::narrow`]).
+pub const NARROW_REFERENCE_BITS: u32 = 24;
+/// How small binary64's own error must stay against a format's error, at every step both runs recorded, for the
+/// format's binary64-referenced run to stand: 2^-10, so the format's error is right to about three digits
+/// (the estimate is off by at most binary64's error; common practice, no source).
+pub const REFERENCE_MARGIN: f64 = 1.0 / 1024.0;
 
 /// A format a sweep runs.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -483,10 +497,23 @@ impl<'s, S: Scenario> Sweep<'s, S> {
         // to a trace that exists, and every run goes beside it.
         let main =
             (!self.attached).then(|| self.plan.formats.iter().position(|f| *f == SweepFormat::Binary64).unwrap_or(0));
+        // binary64 first, so that the narrow formats can take its run as the measure of their reference.
+        let path_of =
+            |i: usize, format: SweepFormat| if Some(i) == main { self.trace.clone() } else { self.side_trace(format) };
+        let binary64 = match self.plan.formats.iter().position(|f| *f == SweepFormat::Binary64) {
+            Some(i) => Some((
+                i,
+                self.run_format(SweepFormat::Binary64, RunRole::Asked, path_of(i, SweepFormat::Binary64), None)?,
+            )),
+            None => None,
+        };
+        let measure = binary64.as_ref().map(|(_, run)| run);
         let mut runs = Vec::new();
         for (i, format) in self.plan.formats.iter().enumerate() {
-            let path = if Some(i) == main { self.trace.clone() } else { self.side_trace(*format) };
-            runs.push(self.run_format(*format, RunRole::Asked, path)?);
+            match &binary64 {
+                Some((b, run)) if *b == i => runs.push(run.clone()),
+                _ => runs.push(self.run_format(*format, RunRole::Asked, path_of(i, *format), measure)?),
+            }
         }
         if self.plan.bisect {
             // Between the least precision that meets and the greatest below it that does not (or p = 1).
@@ -495,7 +522,7 @@ impl<'s, S: Scenario> Sweep<'s, S> {
                 while hi - lo > 1 {
                     let mid = lo + (hi - lo) / 2;
                     let format = bisection_format(mid)?;
-                    let run = self.run_format(format, RunRole::Bisection, self.side_trace(format))?;
+                    let run = self.run_format(format, RunRole::Bisection, self.side_trace(format), measure)?;
                     if run.meets {
                         hi = mid;
                     } else {
@@ -552,21 +579,36 @@ impl<'s, S: Scenario> Sweep<'s, S> {
         self.trace.with_file_name(format!("{stem}.{}.jsonl", format.name()))
     }
 
-    /// One format's audit, and what the sweep keeps of it.
-    fn run_format(&self, format: SweepFormat, role: RunRole, path: PathBuf) -> Result<FormatRun, SweepError> {
+    /// One format's audit, and what the sweep keeps of it. With `binary64`, the binary64 run, a format of at most
+    /// [`NARROW_REFERENCE_BITS`] bits runs with a binary64 reference first, and again with the double-double one
+    /// when binary64's error is not small against the format's (see the module paragraph).
+    fn run_format(
+        &self,
+        format: SweepFormat,
+        role: RunRole,
+        path: PathBuf,
+        binary64: Option<&FormatRun>,
+    ) -> Result<FormatRun, SweepError> {
+        let narrow = binary64.is_some() && format.bits_of() <= NARROW_REFERENCE_BITS;
         let trace = match format {
             SweepFormat::Binary64 => self.audit::<Shadow>(&path),
-            SweepFormat::Emulated(Format::BINARY32) => self.audit::<Binary32>(&path),
-            SweepFormat::Emulated(Format::BFLOAT16) => self.audit::<Bfloat16>(&path),
-            SweepFormat::Emulated(Format::BINARY16) => self.audit::<Binary16>(&path),
-            SweepFormat::Emulated(other) => {
-                let _scope = bits_format_scope(other);
-                self.audit::<Bits>(&path)
+            SweepFormat::Emulated(f) if narrow => {
+                self.audit_in::<Binary32B64, Bfloat16B64, Binary16B64, BitsB64>(f, &path)
             }
+            SweepFormat::Emulated(f) => self.audit_in::<Binary32, Bfloat16, Binary16, Bits>(f, &path),
         }
         .map_err(|source| SweepError::Audit { format: format.name(), source })?;
+        let run = self.format_run(format, role, path.clone(), &trace);
+        match binary64 {
+            Some(measure) if narrow && !reference_stands(&run, measure) => self.run_format(format, role, path, None),
+            _ => Ok(run),
+        }
+    }
+
+    /// What the sweep keeps of a format's trace.
+    fn format_run(&self, format: SweepFormat, role: RunRole, path: PathBuf, trace: &Trace) -> FormatRun {
         let (emin, emax) = format.exponents();
-        Ok(FormatRun {
+        FormatRun {
             format: format.name(),
             lens: trace.header.lenses.first().cloned().unwrap_or_default(),
             bits: format.bits_of(),
@@ -575,8 +617,26 @@ impl<'s, S: Scenario> Sweep<'s, S> {
             role,
             meets: trace.summary.as_ref().is_some_and(|s| s.verdict.status == Status::Enough),
             trace: path,
-            fields: fields_of(&trace, &self.tolerance),
-        })
+            fields: fields_of(trace, &self.tolerance),
+        }
+    }
+
+    /// The audit of an emulated format with the lens of its kind: binary32, bfloat16, binary16 or p bits (of one
+    /// reference, the double-double or binary64).
+    fn audit_in<B32: AuditLens, BF16: AuditLens, B16: AuditLens, PBits: AuditLens>(
+        &self,
+        format: Format,
+        path: &Path,
+    ) -> Result<Trace, AuditError> {
+        match format {
+            Format::BINARY32 => self.audit::<B32>(path),
+            Format::BFLOAT16 => self.audit::<BF16>(path),
+            Format::BINARY16 => self.audit::<B16>(path),
+            other => {
+                let _scope = bits_format_scope(other);
+                self.audit::<PBits>(path)
+            }
+        }
     }
 
     fn audit<L: AuditLens>(&self, path: &Path) -> Result<Trace, AuditError> {
@@ -590,6 +650,26 @@ impl<'s, S: Scenario> Sweep<'s, S> {
         }
         audit.lens::<L>().run()
     }
+}
+
+/// Whether a run with a binary64 reference stands: at every step both runs recorded, for every field, binary64's
+/// own error (the `measure` run's, against its double-double shadow) is at most [`REFERENCE_MARGIN`] times the
+/// run's error. The binary64 reference of the run is the binary64 computation along the run's path, so where the
+/// two paths agree its error is exactly what the measure run found; a step where the run found no error while
+/// binary64 did fails the test too (the estimate would be binary64's error alone).
+fn reference_stands(run: &FormatRun, measure: &FormatRun) -> bool {
+    run.fields.iter().all(|field| {
+        let Some(reference) = measure.fields.iter().find(|f| f.name == field.name) else { return false };
+        field.history.iter().all(|&(step, err)| {
+            // A run whose error is not finite has a primal that is not (any reference says so); a NaN error of
+            // binary64's own fails the comparison.
+            reference
+                .history
+                .iter()
+                .find(|(s, _)| *s == step)
+                .is_none_or(|&(_, e64)| e64 == 0.0 || !err.is_finite() || e64 <= REFERENCE_MARGIN * err)
+        })
+    })
 }
 
 /// Each field's figures from a run's trace (one lens).

@@ -5,6 +5,7 @@
 //! input is a clear error; and the records the sweep appends to its trace read back.
 
 use twinstep::audit::{FieldSpec, Levels, Scenario, Tolerance};
+use twinstep::lens::narrow::has_binary64_reference;
 use twinstep::lens::FormatError;
 use twinstep::sweep::{Remedy, RunRole, Sweep, SweepError, SweepFormat};
 
@@ -76,6 +77,12 @@ fn bisection_finds_the_least_precision_that_meets_the_tolerance() {
     assert_eq!(trace.format_runs, outcome.runs);
     assert_eq!(trace.sweep.as_ref(), Some(&outcome.summary));
     assert!(trace.is_complete());
+    // Formats of at most 24 bits ran with the binary64 reference (binary64's error on this contractive scheme is
+    // about 2^-29 of theirs, far inside the margin), wider ones with the double-double.
+    for run in &outcome.runs {
+        let narrow = run.bits <= twinstep::sweep::NARROW_REFERENCE_BITS;
+        assert_eq!(has_binary64_reference(&run.lens), narrow, "{} ran with {}", run.format, run.lens);
+    }
     // Each run's own trace is a complete audit of its one lens; an emulated primal is not reported as a mismatch
     // with the f64 original (it differs by design).
     for run in &outcome.runs {
@@ -103,6 +110,50 @@ fn bisection_finds_the_least_precision_that_meets_the_tolerance() {
     let cut = lines[..lines.len() - 1].join("\n") + "\n";
     let partial = twinstep::trace::parse(&cut).unwrap();
     assert!(partial.sweep.is_none() && partial.format_runs.len() == outcome.runs.len());
+}
+
+/// Muller's recurrence (`examples/muller.rs`): binary64 itself leaves the exact sequence within the run, so a
+/// binary64 reference would carry binary64's error into binary32's estimate.
+#[allow(dead_code)]
+#[path = "../examples/muller.rs"]
+mod muller;
+
+#[test]
+fn a_binary64_reference_that_drifts_gives_way_to_the_double_double() {
+    use dashu_ratio::RBig;
+    const STEPS: u64 = 25;
+    let path = scratch("muller");
+    let formats = [SweepFormat::Binary64, SweepFormat::BINARY32];
+    let outcome = Sweep::new(&muller::Recurrence, Tolerance::relative(1e-6), STEPS)
+        .kernel("next_term")
+        .trace(&path)
+        .formats(&formats)
+        .without_bisection()
+        .run()
+        .unwrap();
+    let binary32 = outcome.run("binary32").unwrap();
+    assert!(!has_binary64_reference(&binary32.lens), "binary32 ran again with the double-double: {}", binary32.lens);
+    // The oracle: the exact terms in dashu-ratio rationals, against the same recurrence in hardware f32 (IEEE
+    // 754-2019 binary32, the same operations in the same order as `next_term`; its constants and u_0 = 2,
+    // u_1 = −4 are exact in binary32). Driver step s leaves u_{s+1}.
+    let (mut exact, mut single) = (vec![RBig::from(2u8), -RBig::from(4u8)], vec![2.0f32, -4.0]);
+    for k in 1..=STEPS as usize {
+        let next =
+            RBig::from(111u8) - RBig::from(1130u16) / &exact[k] + RBig::from(3000u16) / (&exact[k] * &exact[k - 1]);
+        exact.push(next);
+        single.push(111.0 - 1130.0 / single[k] + 3000.0 / (single[k] * single[k - 1]));
+    }
+    let crossing_term = (0..exact.len())
+        .find(|&k| {
+            let relative = (RBig::try_from(f64::from(single[k])).unwrap() - &exact[k]) / &exact[k];
+            relative.to_f64().value().abs() > 1e-6
+        })
+        .expect("binary32 leaves the exact sequence");
+    assert_eq!(binary32.fields[0].first_crossing.map(|s| s + 1), Some(crossing_term as u64));
+    // binary64 leaves it later, inside the run (Handbook of Floating-Point Arithmetic, from memory: it tends to
+    // 100), which is why its reference could not stand.
+    let binary64 = outcome.run("binary64").unwrap();
+    assert!(binary64.fields[0].first_crossing.is_some_and(|s| s + 1 > crossing_term as u64));
 }
 
 #[test]

@@ -16,7 +16,7 @@
 //! `f32`, the binary32 lens.
 
 use super::{Error, FieldSpec, Levels};
-use crate::lens::{Binary32, Binary32Unwatched, Lens};
+use crate::lens::{Binary32, Binary32B64, Binary32B64Unwatched, Binary32Unwatched, Lens};
 use crate::{BaseOps, MixedOps, Real, RefOps};
 
 /// The float an audited program computes in: `f64` (what [`Scenario`] means without a parameter) or `f32`.
@@ -57,10 +57,11 @@ impl ProgramFloat for f32 {
     fn step_plain<S: Scenario<f32> + ?Sized>(scenario: &S, levels: &mut Levels<f32>) {
         scenario.step(levels);
     }
-    /// The binary32 lens (either variant): its primal rounds every operation to binary32 with ties to even, which
-    /// is what the hardware's `f32` does (IEEE 754-2019 §4.3; bit for bit in `tests/format_oracles.rs`).
+    /// The binary32 lenses (either reference, either variant): their primal rounds every operation to binary32
+    /// with ties to even, which is what the hardware's `f32` does (IEEE 754-2019 §4.3; bit for bit in
+    /// `tests/format_oracles.rs`).
     fn reproduced_by<L: Lens>() -> bool {
-        L::NAME == Binary32::NAME || L::NAME == Binary32Unwatched::NAME
+        [Binary32::NAME, Binary32Unwatched::NAME, Binary32B64::NAME, Binary32B64Unwatched::NAME].contains(&L::NAME)
     }
 }
 

@@ -49,6 +49,81 @@ macro_rules! variant_conversions {
 }
 use variant_conversions;
 
+/// The [`scalar::Core`] items a lens `{ primal: f64, … }` whose primal computes in the [`format::PrimalFormat`]
+/// `$p` shares with every such lens: its watch flag `$w`, the format's limits (`EPSILON`, `MAX`, `MIN_POSITIVE`)
+/// and the primal. The shadowed and the binary64-referenced lenses use it.
+macro_rules! primal_format_core {
+    ($p:ident, $w:ident) => {
+        const WATCH: bool = $w;
+
+        #[inline(always)]
+        fn format_epsilon() -> f64 {
+            $p::epsilon()
+        }
+
+        #[inline(always)]
+        fn format_max() -> f64 {
+            $p::max_value()
+        }
+
+        #[inline(always)]
+        fn format_min_positive() -> f64 {
+            $p::min_positive()
+        }
+
+        #[inline(always)]
+        fn primal(self) -> f64 {
+            self.primal
+        }
+    };
+}
+use primal_format_core;
+
+/// The [`Lens`] impl of a lens `$ty<P, const W: bool>` whose primal computes in a [`format::PrimalFormat`] `P`
+/// (bounded by `$bound`) and whose reference is a point estimate: no guarantee, the estimate `|signed_error()|`,
+/// the variants moved by `$ty::of(primal, $other)`. The shadowed and the binary64-referenced lenses share it.
+macro_rules! estimate_lens {
+    ($ty:ident<$bound:ident>, other: $other:ident, name: $name:expr, native: $native:expr,
+        reference: |$x:ident| $reference:expr) => {
+        impl<P: $bound, const W: bool> $crate::lens::Lens for $ty<P, W>
+        where
+            $ty<P, W>: $crate::Real,
+            $ty<P, true>: $crate::Real,
+            $ty<P, false>: $crate::Real,
+        {
+            const NAME: &'static str = $name;
+            const GUARANTEED: bool = false;
+            const NATIVE_PRIMAL: bool = $native;
+            type Unwatched = $ty<P, false>;
+            type Watched = $ty<P, true>;
+
+            #[inline(always)]
+            fn unwatched(self) -> $ty<P, false> {
+                $ty::of(self.primal, self.$other)
+            }
+
+            #[inline(always)]
+            fn watched(self) -> $ty<P, true> {
+                $ty::of(self.primal, self.$other)
+            }
+
+            fn error_estimate(self) -> f64 {
+                self.signed_error().abs()
+            }
+
+            fn error_bound(self) -> Option<f64> {
+                None
+            }
+
+            fn reference_value(self) -> f64 {
+                let $x = self;
+                $reference
+            }
+        }
+    };
+}
+use estimate_lens;
+
 pub mod attributed;
 pub mod bound;
 pub mod certified;
@@ -60,6 +135,7 @@ pub mod emulated;
 pub mod enclosure;
 pub mod format;
 pub mod interval;
+pub mod narrow;
 pub mod num;
 pub mod reference;
 #[macro_use]
@@ -78,6 +154,10 @@ pub use emulated::{
 pub use enclosure::Enclosure;
 pub use format::{bits_format_scope, Format, FormatError};
 pub use interval::{Interval, IntervalOf, IntervalUnwatched};
+pub use narrow::{
+    Bfloat16B64, Bfloat16B64Unwatched, Binary16B64, Binary16B64Unwatched, Binary32B64, Binary32B64Unwatched, BitsB64,
+    BitsB64Unwatched, Narrowed,
+};
 pub use reference::{literal_mode, set_literal_mode, with_literal_mode, LiteralMode, Reference};
 pub use shadow::{Shadow, ShadowOf, ShadowUnwatched, Shadowed};
 

@@ -18,7 +18,6 @@ use crate::lens::eft::{next_down, next_up, DoubleWord};
 use crate::lens::format::{NativeBinary64, PrimalFormat};
 use crate::lens::reference::Reference;
 use crate::lens::scalar::{Core, Orders};
-use crate::lens::Lens;
 use core::marker::PhantomData;
 use core::ops::{Add, Div, Mul, Neg, Sub};
 use dashu_float::round::mode::HalfEven;
@@ -141,27 +140,7 @@ macro_rules! shadow_functions {
 }
 
 impl<P: PrimalFormat, const W: bool> Core for Shadowed<P, W> {
-    const WATCH: bool = W;
-
-    #[inline(always)]
-    fn format_epsilon() -> f64 {
-        P::epsilon()
-    }
-
-    #[inline(always)]
-    fn format_max() -> f64 {
-        P::max_value()
-    }
-
-    #[inline(always)]
-    fn format_min_positive() -> f64 {
-        P::min_positive()
-    }
-
-    #[inline(always)]
-    fn primal(self) -> f64 {
-        self.primal
-    }
+    super::primal_format_core!(P, W);
 
     #[inline(always)]
     fn exact(value: f64) -> Self {
@@ -379,37 +358,6 @@ impl<P: PrimalFormat, const W: bool> core::fmt::Display for Shadowed<P, W> {
     }
 }
 
-impl<P: PrimalFormat, const W: bool> Lens for Shadowed<P, W>
-where
-    Shadowed<P, W>: crate::Real,
-    Shadowed<P, true>: crate::Real,
-    Shadowed<P, false>: crate::Real,
-{
-    const NAME: &'static str = if W { P::LENS_NAME } else { P::UNWATCHED_NAME };
-    const GUARANTEED: bool = false;
-    const NATIVE_PRIMAL: bool = P::NATIVE;
-    type Unwatched = Shadowed<P, false>;
-    type Watched = Shadowed<P, true>;
-
-    #[inline(always)]
-    fn unwatched(self) -> Shadowed<P, false> {
-        Shadowed::of(self.primal, self.shadow)
-    }
-
-    #[inline(always)]
-    fn watched(self) -> Shadowed<P, true> {
-        Shadowed::of(self.primal, self.shadow)
-    }
-
-    fn error_estimate(self) -> f64 {
-        self.signed_error().abs()
-    }
-
-    fn error_bound(self) -> Option<f64> {
-        None
-    }
-
-    fn reference_value(self) -> f64 {
-        self.shadow.to_f64()
-    }
-}
+super::estimate_lens!(Shadowed<PrimalFormat>, other: shadow,
+    name: if W { P::LENS_NAME } else { P::UNWATCHED_NAME }, native: P::NATIVE,
+    reference: |x| x.shadow.to_f64());

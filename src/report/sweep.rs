@@ -10,7 +10,11 @@ use serde::Serialize;
 
 use super::analysis::{Align, Block, Cell, Section, SectionKind, Tone};
 use super::format;
-use crate::sweep::{FormatRun, NeededBits, Remedy, RunRole, SweepSummary, BINARY64_BITS, DOUBLE_DOUBLE_BITS};
+use crate::lens::narrow::has_binary64_reference;
+use crate::sweep::{
+    FormatRun, NeededBits, Remedy, RunRole, SweepSummary, BINARY64_BITS, DOUBLE_DOUBLE_BITS, NARROW_REFERENCE_BITS,
+    REFERENCE_MARGIN,
+};
 use crate::trace::Trace;
 
 /// The name a Rust programmer knows a format by, for the verdict's short sentence: `f64`, `f32`, `bf16`, `f16`
@@ -114,13 +118,15 @@ pub fn section(trace: &Trace) -> Option<Section> {
     let mut blocks = vec![Block::Paragraph {
         text: format!(
             "The same scenario run as if the program computed in each format (its primal rounded to the format at \
-every operation, the double-double reference beside it), against the same tolerance: {audited}. A format meets the \
-tolerance when no field crosses it up to the horizon."
+every operation, a reference beside it: the double-double, or binary64 for a format of at most \
+{NARROW_REFERENCE_BITS} bits while binary64's own error stays below 2^{margin} of the format's), against the same tolerance: {audited}. A format meets the \
+tolerance when no field crosses it up to the horizon.",
+            margin = REFERENCE_MARGIN.log2()
         ),
     }];
     let mut head: Vec<String> =
-        ["format", "bits", "exponents", "run", "meets"].iter().map(|s| (*s).to_owned()).collect();
-    let mut align = vec![Align::Left, Align::Right, Align::Left, Align::Left, Align::Left];
+        ["format", "bits", "exponents", "run", "reference", "meets"].iter().map(|s| (*s).to_owned()).collect();
+    let mut align = vec![Align::Left, Align::Right, Align::Left, Align::Left, Align::Left, Align::Left];
     for field in &fields {
         head.push(format!("{field}: first crossing"));
         head.push(format!("{field}: error at horizon"));
@@ -139,6 +145,10 @@ tolerance when no field crosses it up to the horizon."
                         RunRole::Asked => "asked".to_owned(),
                         RunRole::Bisection => "bisection".to_owned(),
                     },
+                    tone: Tone::Plain,
+                },
+                Cell {
+                    text: if has_binary64_reference(&run.lens) { "binary64" } else { "double-double" }.to_owned(),
                     tone: Tone::Plain,
                 },
                 Cell {
