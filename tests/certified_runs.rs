@@ -13,6 +13,7 @@ use twinstep::certificate::{certify, CertificateOptions, EndReason, Route};
 use twinstep::events::EventKind;
 use twinstep::lens::scalar::Core;
 use twinstep::{BaseOps, MixedOps, Real, RefOps};
+use twinstep_fixtures::plateau::plateau_twin;
 
 /// A linear stencil with arbitrary signed weights on a periodic grid: `out_i = Σ_k w_k u_{i+k−h}`.
 // Only the twin runs here; the rewrite keeps the original beside it.
@@ -100,20 +101,7 @@ fn condensation_sums_signed_coefficients_before_absolute_values() {
     assert!((run.growth - 1.0).abs() < 1e-12, "Σ|c| = 0 + ½ + ½ = 1 per row: {}", run.growth);
 }
 
-/// Initial data computed in the kernel's arithmetic: a plateau at 0.1 + 0.2 (0.30000000000000004 in f64, 0.3 in
-/// exact arithmetic) and a ramp.
-// Only the twin runs here; the rewrite keeps the original beside it.
-#[allow(dead_code)]
-#[twinstep::audit]
-fn plateau(i: usize) -> f64 {
-    if i < 12 {
-        0.1 + 0.2
-    } else {
-        0.3 + 0.01 * (i - 11) as f64
-    }
-}
-
-/// MUSCL with minmod over initial data from [`plateau`], computed through the twin.
+/// MUSCL with minmod over initial data from `twinstep_fixtures::plateau`, computed through the twin.
 struct Plateau;
 
 impl Step for Plateau {

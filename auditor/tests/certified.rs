@@ -16,20 +16,8 @@ use twinstep::trace::{EndCause, EventName, Trace};
 use twinstep_cli::demo::kiln::Wall;
 use twinstep_cli::report::{render, Format};
 use twinstep_fixtures::advection_minmod::minmod_step_twin;
+use twinstep_fixtures::plateau::plateau_twin;
 use twinstep_fixtures::wave_leapfrog::wave_leapfrog_step_twin;
-
-/// Initial data computed in the kernel's arithmetic: a plateau at `0.1 + 0.2` (0.30000000000000004 in f64, 0.3 in
-/// exact arithmetic on the decimals as written, which the lenses' references hold) and a ramp.
-// Only the twin runs here; the rewrite keeps the original beside it.
-#[allow(dead_code)]
-#[twinstep::audit]
-fn plateau(i: usize) -> f64 {
-    if i < 12 {
-        0.1 + 0.2
-    } else {
-        0.3 + 0.01 * (i - 11) as f64
-    }
-}
 
 /// MUSCL advection with the minmod limiter (`fixtures/src/advection_minmod.rs`) over the plateau: the primal's
 /// one-sided differences are exactly 0 there, but the computed initial data carry a radius, so the ball of `a·b`
