@@ -11,9 +11,9 @@
 //! binary64 (the program's own arithmetic), [`Binary32`], [`Bfloat16`], [`Binary16`], or [`Bits`] for a p-bit
 //! format — each the program's primal in that format beside the same double-double reference. A format of at most
 //! [`NARROW_REFERENCE_BITS`] bits run beside binary64 takes the same primal with a binary64 reference instead
-//! ([`crate::lens::narrow`]: [`Binary32B64`], …), about a third of the cost, and keeps it only when binary64's own
-//! error, as the binary64 run measured it, stays below [`REFERENCE_MARGIN`] times the format's error at every step
-//! both runs recorded; otherwise the format runs again with the double-double lens. Every run writes
+//! ([`crate::lens::narrow`]: [`Binary32B64`], …; binary32 then costs about a third), and keeps it only when
+//! binary64's own error, as the binary64 run measured it, stays below [`REFERENCE_MARGIN`] times the format's error
+//! at every step both runs recorded; otherwise the format runs again with the double-double lens. Every run writes
 //! its own trace; the sweep then appends one `format_run` record per run and one `sweep` record to the main trace
 //! (the binary64 run's, else the first run's), so a reader of that one file has every format's curve and the
 //! outcome (`docs/trace.md`).
@@ -495,25 +495,22 @@ impl<'s, S: Scenario> Sweep<'s, S> {
         };
         // A sweep of its own writes its binary64 run (else its first) into the main trace; an attached one appends
         // to a trace that exists, and every run goes beside it.
-        let main =
-            (!self.attached).then(|| self.plan.formats.iter().position(|f| *f == SweepFormat::Binary64).unwrap_or(0));
-        // binary64 first, so that the narrow formats can take its run as the measure of their reference.
+        let binary64_at = self.plan.formats.iter().position(|f| *f == SweepFormat::Binary64);
+        let main = (!self.attached).then(|| binary64_at.unwrap_or(0));
         let path_of =
             |i: usize, format: SweepFormat| if Some(i) == main { self.trace.clone() } else { self.side_trace(format) };
-        let binary64 = match self.plan.formats.iter().position(|f| *f == SweepFormat::Binary64) {
-            Some(i) => Some((
-                i,
-                self.run_format(SweepFormat::Binary64, RunRole::Asked, path_of(i, SweepFormat::Binary64), None)?,
-            )),
-            None => None,
-        };
-        let measure = binary64.as_ref().map(|(_, run)| run);
+        // binary64 first, so that the narrow formats can take its run as the measure of their reference.
+        let binary64 = binary64_at
+            .map(|i| self.run_format(SweepFormat::Binary64, RunRole::Asked, path_of(i, SweepFormat::Binary64), None))
+            .transpose()?;
+        let measure = binary64.as_ref();
         let mut runs = Vec::new();
         for (i, format) in self.plan.formats.iter().enumerate() {
-            match &binary64 {
-                Some((b, run)) if *b == i => runs.push(run.clone()),
-                _ => runs.push(self.run_format(*format, RunRole::Asked, path_of(i, *format), measure)?),
-            }
+            let run = match measure {
+                Some(run) if Some(i) == binary64_at => run.clone(),
+                _ => self.run_format(*format, RunRole::Asked, path_of(i, *format), measure)?,
+            };
+            runs.push(run);
         }
         if self.plan.bisect {
             // Between the least precision that meets and the greatest below it that does not (or p = 1).

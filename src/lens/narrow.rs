@@ -5,9 +5,10 @@
 //!
 //! Why a second reference: for a primal of p ≤ 24 bits, binary64 rounds at least 2^29 times less than the primal
 //! at each operation, so `|primal − reference|` estimates the primal's error to about 29 bits — the quality a
-//! double-double shadow gives a binary64 primal is 53 bits, and a verdict needs two or three digits. It costs
-//! about a third of the double-double shadow (one double operation beside the primal's, not about twenty), which
-//! is what brings the emulated formats near the plain kernel (the benchmark in `docs/lenses.md`).
+//! double-double shadow gives a binary64 primal is 53 bits, and a verdict needs two or three digits. The reference
+//! is one double operation beside the primal's, not about twenty: the binary32 lens costs about a third of its
+//! double-double twin, the bfloat16 and binary16 lenses (whose rounding to the format is most of their cost) about
+//! two thirds (the benchmark in `docs/lenses.md`).
 //!
 //! Its limit: the reference is itself a binary64 run of the program along the primal's path, so where binary64 is
 //! far from exact (an ill-conditioned problem, an unstable recurrence) the estimate carries the binary64 error
@@ -80,12 +81,6 @@ impl<P: NarrowFormat, const W: bool> Narrowed<P, W> {
     #[inline(always)]
     fn of(primal: f64, reference: f64) -> Self {
         Self { primal, reference, format: PhantomData }
-    }
-
-    /// The binary64 reference.
-    #[must_use]
-    pub fn reference(self) -> f64 {
-        self.reference
     }
 
     /// `primal − reference`.
