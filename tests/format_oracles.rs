@@ -12,6 +12,7 @@
 
 use dashu_float::round::mode::HalfEven;
 use dashu_float::{Context, FBig};
+use dashu_ratio::RBig;
 
 use twinstep::lens::format::PrimalFormat;
 use twinstep::lens::{Bfloat16Unwatched, Binary16Unwatched, Binary32Unwatched, Format};
@@ -168,6 +169,130 @@ fn binary16_and_bfloat16_round_as_the_half_crate_converts() {
         // The lenses take an f32 input into their formats the same way.
         assert!(agree(Binary16Unwatched::from_f32(a).primal(), half));
         assert!(agree(Bfloat16Unwatched::from_f32(a).primal(), brain));
+    }
+}
+
+/// Doubles for the roundings to binary16 and bfloat16: the binary32 draws with random low bits (so that most
+/// are not binary32 values), the same draws moved onto a tie of the narrow format and one binary64 ulp to either
+/// side of it, and doubles far outside both formats (beyond binary32's range, binary64 subnormals).
+fn double_near_narrow_formats(rng: &mut Xorshift) -> f64 {
+    let wide = f64::from(rng.binary32());
+    let r = rng.next();
+    let low = r & 0x1fff_ffff; // the 29 bits binary64 has beyond binary32
+    match r >> 61 {
+        0 | 1 => f64::from_bits(wide.to_bits() ^ low),
+        2 => {
+            // The tie halfway between two bfloat16 (7 fraction bits kept) or binary16 (10) numbers, then its
+            // neighbours: the cases a double rounding gets wrong.
+            let kept = if r & (1 << 40) == 0 { 7 } else { 10 };
+            let tie = (wide.to_bits() & !((1u64 << (52 - kept)) - 1)) | (1u64 << (51 - kept));
+            f64::from_bits(tie.wrapping_add((r >> 41) % 3).wrapping_sub(1))
+        }
+        3 => f64::from_bits(r & 0x800f_ffff_ffff_ffff), // binary64 subnormals
+        4 => f64::from_bits((r & 0x800f_ffff_ffff_ffff) | ((1023 + 128 + (r >> 52) % 800) << 52)), // huge
+        _ => f64::from_bits(r),                         // any encoding
+    }
+}
+
+/// `x` rounded to `format` by the definition, in exact rationals (dashu-ratio): the format's grid at `x` is
+/// `2^(max(e, emin) − p + 1)` for `2^e ≤ |x| < 2^(e+1)` (IEEE 754-2019 §3.3), the nearest multiple of it with ties to
+/// the even multiple (roundTiesToEven, §4.3.1), ±∞ past the largest finite value (§7.4), and a zero keeps the sign
+/// of `x` (§6.3). Independent of the emulation's code: the reference for doubles that are not binary32 values,
+/// whose rounding no general-purpose crate here does correctly (half 2.7's `from_f64` drops the low 32 bits of the
+/// double before it rounds, so it misplaces the ties).
+fn nearest_in_format(format: Format, x: f64) -> f64 {
+    if !x.is_finite() || x == 0.0 {
+        return x;
+    }
+    let (p, emin) = (format.precision() as i32, format.emin());
+    let exact = RBig::try_from(x.abs()).expect("finite");
+    let binade = {
+        let field = ((x.to_bits() >> 52) & 0x7ff) as i32;
+        let significand = x.to_bits() & 0x000f_ffff_ffff_ffff;
+        if field == 0 {
+            -1074 + 63 - significand.leading_zeros() as i32
+        } else {
+            field - 1023
+        }
+    };
+    let quantum_exponent = binade.max(emin) - p + 1;
+    let two_to = |k: i32| {
+        let power = RBig::from(dashu_int::UBig::ONE << k.unsigned_abs() as usize);
+        if k >= 0 {
+            power
+        } else {
+            RBig::ONE / power
+        }
+    };
+    let scaled = &exact / two_to(quantum_exponent);
+    let (floor, fraction) = (scaled.floor(), scaled.fract());
+    let half = RBig::ONE / RBig::from(2);
+    let up = fraction > half || (fraction == half && (&floor % dashu_int::IBig::from(2)) != dashu_int::IBig::ZERO);
+    let multiple = if up { floor + dashu_int::IBig::ONE } else { floor };
+    let rounded = RBig::from(multiple) * two_to(quantum_exponent);
+    let magnitude = if rounded > RBig::try_from(format.max_value()).expect("finite") {
+        f64::INFINITY
+    } else {
+        rounded.to_f64().value() // a value of the format, so a double, exactly
+    };
+    magnitude.copysign(x)
+}
+
+#[test]
+fn binary16_and_bfloat16_round_doubles_as_the_definition_says() {
+    let mut rng = Xorshift(0x5eed_0ff6);
+    let mut ties = 0usize;
+    for _ in 0..DRAWS / 4 {
+        let x = double_near_narrow_formats(&mut rng);
+        for format in [Format::BINARY16, Format::BFLOAT16] {
+            let (ours, reference) = (format.round(x), nearest_in_format(format, x));
+            let agree = ours.to_bits() == reference.to_bits() || (ours.is_nan() && x.is_nan());
+            assert!(agree, "{} of {x:e} ({:#x}): ours {ours:e}, exact {reference:e}", format.name(), x.to_bits());
+            // Count the draws exactly halfway between two numbers of the format, so that the check cannot pass
+            // without any: x reflected through itself from the result is then the other neighbour, a format value.
+            let reflected = x - (ours - x);
+            ties += usize::from(x.is_finite() && x != ours && format.round(reflected) == reflected);
+        }
+    }
+    assert!(ties > 100, "{ties} exact ties among the draws");
+}
+
+/// The two ways [`Format::round`] has for formats other than binary32 — the adder's and the encoding's — give the
+/// same doubles on every format both apply to, drawn at random (2 ≤ p ≤ 50, exponent ranges small and large),
+/// and the adder's path is the one bfloat16 and binary16 take. The encoding's path is the one the p-bit formats
+/// take, which `p_bits_match_dashu_at_precision_p` checks against dashu.
+#[test]
+fn the_adder_rounds_as_the_encoding_does() {
+    assert!(Format::BFLOAT16.rounds_by_adder() && Format::BINARY16.rounds_by_adder());
+    assert!(!Format::bits(24).expect("valid").rounds_by_adder()); // binary64's range leaves no room above
+    let mut rng = Xorshift(0x0add_e700);
+    let mut formats = 0;
+    while formats < 400 {
+        let r = rng.next();
+        let p = 2 + (r % 49) as u32;
+        let emax = 1 + ((r >> 8) % 900) as i32;
+        let emin = -1 - ((r >> 20) % 1022) as i32;
+        let Ok(f) = Format::new(p, emin, emax) else { continue };
+        if !f.rounds_by_adder() {
+            continue;
+        }
+        formats += 1;
+        for _ in 0..2_000 {
+            let r = rng.next();
+            // Magnitudes around the format's range: near its least subnormal, its normals, its largest value.
+            let e = emin - p as i32 - 2 + ((r >> 52) as i32 % (emax - emin + p as i32 + 6));
+            let x = f64::from_bits((r & 0x800f_ffff_ffff_ffff) | (((e + 1023).clamp(0, 2046) as u64) << 52));
+            let (adder, encoding) = (f.round_by_adder(x), f.round_by_encoding(x));
+            assert!(
+                adder.to_bits() == encoding.to_bits() || (adder.is_nan() && encoding.is_nan()),
+                "{f:?}: {x:e} ({:#x}) by the adder {adder:e}, by the encoding {encoding:e}",
+                x.to_bits()
+            );
+        }
+        for x in [0.0, -0.0, f64::INFINITY, f64::NEG_INFINITY, f64::NAN, f64::MAX, -f64::MIN_POSITIVE, 5e-324] {
+            let (adder, encoding) = (f.round_by_adder(x), f.round_by_encoding(x));
+            assert!(adder.to_bits() == encoding.to_bits() || (adder.is_nan() && encoding.is_nan()), "{f:?}: {x:e}");
+        }
     }
 }
 
