@@ -237,7 +237,7 @@ impl Format {
     /// Overflow: a rounded magnitude of `2^(emax+1)` or more scaled by `2^(1023 − emax)` passes binary64's
     /// largest value and becomes ±∞, while every value of the format scales up and back exactly. Last, the sign
     /// of `x` goes onto a zero result (−0 stays −0). A NaN stays the quiet NaN the `f64` operations gave, payload
-    /// and all (see the module paragraph). Nine vector operations and no integer comparison (on x86-64 without
+    /// and all (see the module paragraph). Eight vector operations and no integer comparison (on x86-64 without
     /// AVX-512 a 64-bit comparison costs three or more); clearing a NaN's low payload bits as well cost a fifth
     /// of the bfloat16 lens's time on the 1-D heat benchmark.
     #[inline(always)]

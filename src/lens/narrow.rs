@@ -7,8 +7,8 @@
 //! at each operation, so `|primal − reference|` estimates the primal's error to about 29 bits — the quality a
 //! double-double shadow gives a binary64 primal is 53 bits, and a verdict needs two or three digits. The reference
 //! is one double operation beside the primal's, not about twenty: the binary32 lens costs about a third of its
-//! double-double twin, the bfloat16 and binary16 lenses (whose rounding to the format is most of their cost) about
-//! two thirds (the benchmark in `docs/lenses.md`).
+//! double-double twin, the bfloat16 and binary16 lenses (whose rounding to the format is most of their cost) a
+//! little over half (the benchmark in `docs/lenses.md`).
 //!
 //! Its limit: the reference is itself a binary64 run of the program along the primal's path, so where binary64 is
 //! far from exact (an ill-conditioned problem, an unstable recurrence) the estimate carries the binary64 error
