@@ -218,13 +218,13 @@ impl Format {
 
     /// Whether [`Format::round_by_adder`] applies: at least three bits between the format's last place and
     /// binary64's (`p ≤ 50`), and room above the format's largest binade to move it `53 − p` binades up
-    /// (`emax + 1 + 53 − p ≤ 1023`). bfloat16 and binary16 qualify; a p-bit format with binary64's exponent range
+    /// (`emax + 53 − p ≤ 1023`). bfloat16 and binary16 qualify; a p-bit format with binary64's exponent range
     /// does not.
     #[inline(always)]
     #[must_use]
     pub const fn rounds_by_adder(self) -> bool {
         let p = self.precision as i32;
-        p <= 50 && self.emax + 54 - p <= 1023
+        p <= 50 && self.emax + 53 - p <= 1023
     }
 
     /// `x` rounded to the format by the hardware's own rounding of a sum (common practice, no source; derived
@@ -232,14 +232,15 @@ impl Format {
     /// `C = 1.5·2^(max(e, emin) − p + 53)` has q as its last place: `x + C` stays in C's binade
     /// (`|x| < 2^(e+1) ≤ 0.5·2^(e − p + 53)` as `53 − p ≥ 2`), so its round to nearest, ties to even, is
     /// `C + q·RNE(x/q)` (C is an even multiple of q), and `(x + C) − C` is exact (Sterbenz). C comes from `x`'s
-    /// exponent field moved `53 − p` binades up, with the subnormal grid's C as its floor; where that field would
-    /// pass binary64's range (`x` far beyond the format's) the floor is taken too, and `x + C − C = x`.
-    /// Overflow: a rounded magnitude of `2^(emax+1)` or more scaled by `2^(1023 − emax)` passes binary64's
-    /// largest value and becomes ±∞, while every value of the format scales up and back exactly. Last, the sign
-    /// of `x` goes onto a zero result (−0 stays −0). A NaN stays the quiet NaN the `f64` operations gave, payload
-    /// and all (see the module paragraph). Eight vector operations and no integer comparison (on x86-64 without
-    /// AVX-512 a 64-bit comparison costs three or more); clearing a NaN's low payload bits as well cost a fifth
-    /// of the bfloat16 lens's time on the 1-D heat benchmark.
+    /// exponent field moved `53 − p` binades up, with the subnormal grid's C as its floor. Overflow is decided on
+    /// `x` itself, beside the adder rather than after it (which keeps it off the chain of dependent operations
+    /// that bounds the loops' speed): `|x| ≥ (2 − 2^-p)·2^emax`, the midpoint between the largest value and
+    /// `2^(emax+1)`, rounds to ±∞ (to nearest, ties to even, the largest value's last bit being odd; IEEE
+    /// 754-2019 §4.3.1, §7.4), and only such `x` can move C's field past binary64's range. Last, the sign of `x`
+    /// goes onto a zero result (−0 stays −0). A NaN stays the quiet NaN the `f64` operations gave, payload and all
+    /// (see the module paragraph). Nine vector operations and no integer comparison (on x86-64 without AVX-512 a
+    /// 64-bit comparison costs three or more); clearing a NaN's low payload bits as well cost a fifth of the
+    /// bfloat16 lens's time on the 1-D heat benchmark.
     #[inline(always)]
     #[must_use]
     pub fn round_by_adder(self, x: f64) -> f64 {
@@ -248,11 +249,11 @@ impl Format {
         let moved_up = f64::from_bits((bits & INFINITY_BITS) + ((drop << 52) | (1 << 51)));
         let floor = 1.5 * pow2(self.emin - self.precision as i32 + 53);
         // A comparison rather than f64::max, which would add a NaN test: a moved-up field that is NaN or has run
-        // into the sign bit takes the floor.
+        // into the sign bit (x overflows the format, decided below) takes the floor.
         let c = if moved_up > floor { moved_up } else { floor };
         let rounded = (x + c) - c;
-        let headroom = 1023 - self.emax;
-        let rounded = rounded * pow2(headroom) * pow2(-headroom);
+        let threshold = self.max_value() + pow2(self.emax - self.precision as i32);
+        let rounded = if x.abs() >= threshold { f64::INFINITY } else { rounded };
         f64::from_bits(rounded.to_bits() | (bits & SIGN))
     }
 
