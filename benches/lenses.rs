@@ -14,7 +14,8 @@
 //! per-site bookkeeping of the attribution lens (`Attributed`: the shadow plus, per value, the contribution of
 //! every operation site, and per operation the site's slot looked up and its facts updated) reports its cost
 //! against plain f64 and against the Shadow lens, which is the same reference without the bookkeeping.
-//! Run with `cargo bench --bench lenses`.
+//! Every kernel row is the median over four placements of its two buffers relative to each other ([`Buffers`]),
+//! since the placement alone moves some of these loops by a fifth. Run with `cargo bench --bench lenses`.
 
 use std::hint::black_box;
 use std::time::{Duration, Instant};
