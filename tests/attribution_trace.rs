@@ -119,7 +119,9 @@ fn an_accumulation_loop_is_named_a_long_sum() {
     let finding = &record.findings[0];
     assert_eq!((finding.line, finding.remedy), (line, Remedy::CompensatedSum));
     assert!(finding.patterns.iter().any(|h| h.pattern == Pattern::LongSum), "{finding:?}");
-    // 64 terms a row, the first eight of each chain below the run length: 56 of 64 sums continue a long chain.
+    // 64 terms a row, the first eight of each chain below the run length: 56 of 64 sums continue a long chain
+    // (counted from the kernel and the pattern's run length of 8, src/attribution/pattern.rs: our own rule, no
+    // outside source).
     let site = record.sites.iter().find(|s| s.site.as_ref().is_some_and(|x| x.line == line)).expect("the site");
     assert_eq!((site.ops.count, site.ops.chained), (64 * 64, 64 * 56));
 }

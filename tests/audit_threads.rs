@@ -8,7 +8,7 @@
 //! step 10; after it the exact state alternates between 0 (the fold of 0) and 1/10 (the fold of −1/10), so the
 //! exact value compared with zero is 0 again at steps 12, 14, 16, … (and −1/10 between them). A guaranteed
 //! enclosure holds the exact value; where that is 0 and the enclosure has width (rounding happened), the
-//! comparison `v > 0` cannot be decided: a branch instability in every cell at steps 10, 12, …, 20 — six steps
+//! comparison `v > 0` cannot be decided: an undecided comparison in every cell at steps 10, 12, …, 20 — six steps
 //! in twenty — and nowhere else, since every other exact value is 1/10 or more away from zero while the
 //! enclosures are a few 10^-16 wide.
 
@@ -173,7 +173,7 @@ fn audit<L: twinstep::audit::AuditLens>(scenario: &Cells, steps: u64, name: &str
 const CELLS: usize = 10_000;
 
 #[test]
-fn branch_instabilities_on_rayon_workers_reach_the_audit_with_their_line() {
+fn undecided_comparisons_on_rayon_workers_reach_the_audit_with_their_line() {
     // Six undecidable steps (10, 12, …, 20) of 10 000 cells each: 60 000 instabilities (module paragraph).
     let scenario = Cells { kernel: Kernel::ParallelFold, cells: CELLS, start: 1.0 };
     let trace = Audit::new(&scenario, Tolerance::absolute(1e-9), 20)

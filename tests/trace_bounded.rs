@@ -22,7 +22,8 @@ fn a_million_steps_write_a_few_hundred_lines() {
         .unwrap();
     let lines = std::fs::read_to_string(&path).unwrap().lines().count();
     // 20 per decade over six decades is 120 steps (and as many profile lines); events add their context and repeats at powers of two
-    // (log2(10⁶) ≈ 20 per site). 520 lines leaves room for all of it while being far below one line per step.
+    // (log2(10⁶) ≈ 20 per site). 520 lines leaves room for all of it while being far below one line per step. (The
+    // `auto` policy's own numbers, docs/trace.md: a design of this project, no outside source.)
     assert!(lines <= 520, "{lines} lines for {STEPS} steps");
     let read = trace::read(&path).unwrap();
     assert_eq!(read, written);
@@ -44,7 +45,8 @@ fn a_million_steps_write_a_few_hundred_lines() {
             assert!(recorded.contains(&around), "step {around} around the event at step {}", event.step);
         }
     }
-    // Log spacing: every decade from 10 to 10⁶ holds recorded steps, none holds more than 40.
+    // Log spacing: every decade from 10 to 10⁶ holds recorded steps, none holds more than 40 (twice the policy's
+    // 20 per decade, docs/trace.md; our own design, no outside source).
     for decade in 1..6 {
         let (lo, hi) = (10u64.pow(decade), 10u64.pow(decade + 1));
         let in_decade = read.steps.iter().filter(|s| (lo..hi).contains(&s.step)).count();

@@ -41,7 +41,10 @@ fn the_report_names_the_lines_and_the_remedy() {
         let finding = record.findings.iter().find(|f| f.field == "T" && f.line == line).expect("a finding");
         assert_eq!(finding.remedy, Remedy::CarryPerturbation, "line {line}");
         // `+ heat` adds 10⁻⁵ K to about 1300 K: log2(1300 / 10⁻⁵) ≈ 27 bits of the increment fall off (a mean
-        // over the sums of that site, which on the inner line also add the smaller conduction term).
+        // over the sums of that site, which on the inner line also add the smaller conduction term). Source: the
+        // sum of doubles keeps p = 53 bits of the larger operand (IEEE 754-2019 Table 3.5, §4.3.1), so an addend
+        // 2^27 times smaller keeps 26 of its own; the bound 20 leaves room for the mean. The background is the
+        // demo's own wall temperature (auditor/src/demo/kiln.rs), a scenario we invented, not an outside value.
         let absorption = finding.patterns.iter().find(|h| h.pattern == Pattern::Absorption).expect("absorption");
         assert!(absorption.bits > 20.0, "line {line}: {absorption:?}");
         let background = absorption.background.expect("a sum");
@@ -60,6 +63,7 @@ fn the_remedy_carried_as_the_rise_drops_the_error() {
     let error = |name: &str| record.fields.iter().find(|f| f.name == name).expect("field").error.abs();
     let (absolute, rise) = (error("T"), error("rise"));
     // The same physics, carried as the rise above 1300 K: the increments keep about eight more bits
-    // (log2(1300/5) ≈ 8), so the error drops by two decades at least.
+    // (log2(1300/5) ≈ 8: the same rule of p = 53 bits of the larger operand, IEEE 754-2019 Table 3.5, with the
+    // rise of about 5 K as the background), so the error drops by 2^8 ≈ 256, two decades at least.
     assert!(rise * 100.0 < absolute, "T {absolute:e}, rise {rise:e}");
 }

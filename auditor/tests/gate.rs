@@ -23,6 +23,8 @@ fn trace_tolerance_fails_at_first_crossing() {
     assert!(first.contains("field T (shadow lens) crosses the tolerance at step 10435"), "{err}");
     assert!(!err.contains("bound lens"), "{err}");
     assert!(!err.contains("field q"), "q stays within: {err}");
+    // A failing gate still carries the caution: rounding only, local codes and licensed review decide.
+    assert!(err.contains("rounding error only") && err.contains("licensed review"), "{err}");
 }
 
 #[test]
@@ -31,6 +33,8 @@ fn passing_trace_exits_zero() {
     let (code, out, err) = gate(&[path.to_str().unwrap()]);
     assert_eq!(code, Some(0), "{err}");
     assert!(out.contains("pass"), "{out}");
+    // A pass is not an approval: the caution comes with it.
+    assert!(out.contains("rounding error only") && out.contains("licensed review"), "{out}");
 }
 
 #[test]

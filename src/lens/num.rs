@@ -13,7 +13,7 @@
 //! | `asinh`, `acosh`, `atanh` | `ln(x + √(x²+1))`, `ln(x + √(x²−1))`, `½·ln((1+x)/(1−x))` (Abramowitz & Stegun 4.6.20, 4.6.21, 4.6.22, from memory); the primal may differ from the platform's `f64::asinh` by an ulp, and an audit that compares with the original says so |
 //! | `abs_sub` | `if x <= y { 0 } else { x − y }`, as num-traits has it for `f64` |
 //! | `neg_zero`, `classify`, `is_normal`, `is_subnormal`, `integer_decode` | of the primal |
-//! | `to_i64`, `to_u64`, … | the primal's conversion; a lens whose reference could convert to another integer records an index instability, as `x as usize` does |
+//! | `to_i64`, `to_u64`, … | the primal's conversion; a lens whose reference could convert to another integer records an undecided index, as `x as usize` does |
 //! | `NumCast::from`, `FromPrimitive` | an integer is converted as `n as f64` is (rounded in the primal, exact in the reference); a float is an exact input |
 //!
 //! Why `Float` is not in a twin's `where` clause by default: `Real` and `Float` share method names (`sqrt`,

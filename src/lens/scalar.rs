@@ -157,7 +157,7 @@ pub trait Core: Copy + Sized + 'static {
     fn hypot(self, other: Self) -> Self;
 
     /// `max`/`min` (`choose` is `f64::max` or `f64::min`). By default [`select`]: the operand the primal chooses,
-    /// with a branch instability recorded when the reference could choose the other. A lens whose reference can
+    /// with an undecided comparison recorded when the reference could choose the other. A lens whose reference can
     /// follow the exact `max`/`min` without a decision (both are 1-Lipschitz) overrides it.
     #[inline]
     #[track_caller]

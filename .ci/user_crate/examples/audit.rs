@@ -2,7 +2,7 @@
 //! lenses, 20 steps; the trace goes to the path given as the first argument and the report to stdout.
 //!
 //! It checks what a user must be able to rely on without any build flag: the audit runs with every lens
-//! (the interval lens included), and the branch instabilities raised on rayon's worker threads reach the trace
+//! (the interval lens included), and the undecided comparisons raised on rayon's worker threads reach the trace
 //! with the line of the user's own kernel. The count follows from exact arithmetic: from 1, the exact value the
 //! fold compares with zero is `1 − n/10` up to step 10 (0 there), then alternately −1/10 and 0, so it is 0 at
 //! steps 10, 12, …, 20 — six steps — in every cell, where a guaranteed enclosure cannot decide `v > 0`.
@@ -57,7 +57,7 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
         let found = found.map(|t| (t.steps, t.count, t.first_step));
         if found != Some((6, 6 * CELLS as u64, 10)) {
             return Err(format!(
-                "lens {lens}: branch instabilities in src/lib.rs {found:?}, expected 6 steps, 6000, from 10"
+                "lens {lens}: undecided comparisons in src/lib.rs {found:?}, expected 6 steps, 6000, from 10"
             )
             .into());
         }

@@ -44,6 +44,8 @@ mod audit {
         println!("{}", twinstep::report::render_text(&trace));
         let last = trace.steps.iter().find(|s| s.lens == "shadow" && s.step == 2000).expect("step 2000 recorded");
         let estimate = last.fields[0].max_err;
+        // Against mpmath at 300 bits (oracles/fisher_oracle.py); 1e-6 relative is a loose tolerance of our choosing
+        // for a double-double estimate (common practice, no source).
         assert!(((estimate - ORACLE_AT_2000) / ORACLE_AT_2000).abs() < 1e-6, "{estimate:e} against {ORACLE_AT_2000:e}");
     }
 }

@@ -41,7 +41,8 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
         trace.steps.iter().find(|s| s.lens == "shadow" && s.step == 300).ok_or("no shadow record at step 300")?;
     for (field, exact) in ORACLE {
         let estimate = last.fields.iter().find(|f| f.name == field).ok_or("field missing")?.max_err;
-        // The shadow is a double-double computation: it should carry the true error to many digits; 1e-6 is loose.
+        // The shadow is a double-double computation: it should carry the true error to many digits; 1e-6 is loose
+        // (a tolerance of our choosing, common practice, no source: the oracle is mpmath at 300 bits).
         if ((estimate - exact) / exact).abs() > 1e-6 {
             return Err(format!("field {field}: shadow estimate {estimate:e}, mpmath oracle {exact:e}").into());
         }

@@ -21,7 +21,7 @@
 //! Before: `u.par_iter().cloned().reduce(|| 0.0, f64::max)`, `u.iter().map(f64::abs)` (a function passed as a value)
 //! After:  `… .reduce(|| …, |a, b| <_ as ::twinstep::Real>::max(a, b))`, `… .map(|a| <_ as ::twinstep::Real>::abs(a))`
 //!
-//! Why a closure: a lens records an event (a branch instability of `max`) at the caller's location, and the
+//! Why a closure: a lens records an event (an undecided comparison in `max`) at the caller's location, and the
 //! caller of a function passed as a value is the library that calls it (`rayon`'s or the standard library's
 //! `fold`), so the event would name a line inside that library. The closure's call of `max` is spanned at the
 //! user's `f64::max`, so the event names the user's line.
