@@ -12,7 +12,7 @@
 //! | `before: &[f64], now: &[f64], after: &mut [f64]` (twice as many read as written) | field `now`, `Scheme::ThreeLevel` |
 //! | `r: f64` | a parameter of the run, `T::from_f64(self.r)` for the twin |
 //! | `n: usize` (any integer) | a parameter of the run, as it is |
-//! | `&mut self` / `&self` | the solver value, behind a `Mutex` for `&mut self` |
+//! | `&mut self` / `&self` | the solver value, behind a `Mutex` for `&mut self` (a `methods_only` block; a block twinned with its struct is refused, with the reason) |
 //! | returns `f64`, no slices | a one-cell field: the first `f64` parameter is the state |
 //!
 //! Why `examples/twinstep_<kernel>.rs`: `twinstep run --example` builds an example of the user's crate, which

@@ -94,14 +94,21 @@ fn library_kernel_harness_is_written_then_built_and_run() {
         ],
     );
     std::fs::write(&harness_path, harness).unwrap();
+    run_completed_harness(&krate, "twinstep_heat_step", "heat_step");
+}
+
+/// Runs a completed harness with `twinstep run` and checks the report and the trace: one report, with a verdict,
+/// and a trace with its summary and no `primal_mismatch` — the harness's `step_original` calls the original kernel,
+/// whose values are the twin's with `T = f64`, bit for bit.
+fn run_completed_harness(krate: &Path, example: &str, kernel: &str) {
     // The dev profile and the target directory of the run test's root example: dependencies are shared.
     let target = scratch("root-example-target");
-    let trace = scratch("init-rod.jsonl");
+    let trace = scratch(&format!("init-{example}.jsonl"));
     let manifest_path = krate.join("Cargo.toml");
     let args = [
         "run",
         "--example",
-        "twinstep_heat_step",
+        example,
         "--manifest-path",
         manifest_path.to_str().unwrap(),
         "--profile",
@@ -116,11 +123,11 @@ fn library_kernel_harness_is_written_then_built_and_run() {
     let output = twinstep(&args);
     assert_eq!(output.status.code(), Some(0), "{}", stderr(&output));
     let report = stdout(&output);
-    assert!(report.contains("## twinstep audit of heat_step"), "{report}");
+    let title = format!("## twinstep audit of {kernel}");
+    assert!(report.contains(&title), "{report}");
     assert!(report.contains("> **Verdict:"), "{report}");
     // Under `twinstep run` the harness leaves the report to the CLI: it appears once.
-    assert_eq!(report.matches("twinstep audit of heat_step").count(), 1, "{report}");
-    // The harness's step_original calls the original kernel: its values are the twin's with T = f64, bit for bit.
+    assert_eq!(report.matches(&title).count(), 1, "{report}");
     let text = std::fs::read_to_string(&trace).unwrap();
     assert!(text.contains(r#""record":"summary""#) && !text.contains("primal_mismatch"), "{text}");
 }
@@ -142,6 +149,22 @@ fn method_and_module_kernels_of_a_crate_without_library() {
         std::fs::read_to_string(krate.join("examples/twinstep_wave_leapfrog.rs")).unwrap()
     );
     insta::assert_snapshot!("init_fin_bin_manifest", manifest(&krate));
+
+    // The method kernel's harness, completed as a user would, builds and runs: the crate has no library, so the
+    // harness includes the kernel's file as a module, and one solver behind a mutex steps every run.
+    let harness_path = krate.join("examples/twinstep_fin_step.rs");
+    let harness = completed(
+        &std::fs::read_to_string(&harness_path).unwrap(),
+        &[
+            (
+                "todo!(\"the initial `theta`: one f64 per cell, row-major\")",
+                "(0..32).map(|i| 80.0 * (-(i as f64) / 8.0).exp()).collect()",
+            ),
+            ("todo!(\"your Fin as your program builds it\")", "fin::Fin::new(0.3, 1e-3)"),
+        ],
+    );
+    std::fs::write(&harness_path, harness).unwrap();
+    run_completed_harness(&krate, "twinstep_fin_step", "Fin::step");
 }
 
 #[test]
@@ -187,7 +210,9 @@ fn bad_requests_are_input_errors_that_change_nothing() {
 fn signatures_a_harness_cannot_take_are_named() {
     let krate = copy_fixture("rod_lib", "signatures");
     let solver = "#[twinstep::audit]\npub fn mixed(k: &[f64], a: &[f64], b: &[f64], out: &mut [f64]) {}\n\
-                  #[twinstep::audit]\npub fn reads_only(u: &[f64]) {}\n";
+                  #[twinstep::audit]\npub fn reads_only(u: &[f64]) {}\n\
+                  #[twinstep::audit]\npub struct Bar { pub r: f64 }\n\
+                  #[twinstep::audit]\nimpl Bar { pub fn step(&mut self, u: &[f64], out: &mut [f64]) {} }\n";
     std::fs::write(krate.join("src/other.rs"), solver).unwrap();
     let cases = [
         (
@@ -195,6 +220,7 @@ fn signatures_a_harness_cannot_take_are_named() {
             "3 slices read and 1 written: twinstep init cannot tell the fields from the coefficients",
         ),
         ("src/other.rs::reads_only", "the kernel writes no field"),
+        ("src/other.rs::Bar::step", "`impl Bar` is twinned with its struct (the twin is `BarTwin<T>`)"),
     ];
     for (kernel, message) in cases {
         let output = init(&krate, kernel, &[]);

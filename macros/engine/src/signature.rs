@@ -87,6 +87,23 @@ pub fn find_kernel(source: &str, path: &str) -> Result<Kernel, SourceError> {
                 return kernel(&ctx, path, f.sig.ident.to_string(), twin(&f.sig.ident.to_string()), &f.sig);
             }
             (Item::Impl(block), [method]) if self_type(block).as_deref() == Some(*head) => {
+                if !options.methods_only {
+                    // The block is twinned with its struct: the twin method lives on `HeadTwin<T>`, which a harness
+                    // would have to build for every lens from the user's own constructor — not something a
+                    // signature tells.
+                    let start = block.impl_token.span.start();
+                    return Err(SourceError {
+                        line: start.line,
+                        column: start.column + 1,
+                        message: format!(
+                            "`impl {head}` is twinned with its struct (the twin is `{head}Twin<T>`), and a harness for \
+                             it must build `{head}Twin::<T>` for every lens, which only you know how to do: write \
+                             `#[twinstep::audit(methods_only)]` on the block if `{head}` keeps its `f64` fields as \
+                             they are (the twin is then `{head}::{}`), or write the harness by hand (docs/audit.md)",
+                            twin(method)
+                        ),
+                    });
+                }
                 let found = block.items.iter().find_map(|i| match i {
                     ImplItem::Fn(f) if f.sig.ident == method => Some(f),
                     _ => None,
@@ -258,8 +275,15 @@ mod tests {
         pub fn aliased(u: &Vec<Real>, out: &mut Vec<Real>) -> Real { 0.0 }
 
         pub struct Cable;
-        #[twinstep::audit]
+        #[twinstep::audit(methods_only)]
         impl Cable {
+            pub fn step(&mut self, v: &[f64], out: &mut [f64]) {}
+        }
+
+        #[twinstep::audit]
+        pub struct Rod { pub r: f64 }
+        #[twinstep::audit]
+        impl Rod {
             pub fn step(&mut self, v: &[f64], out: &mut [f64]) {}
         }
 
@@ -302,6 +326,7 @@ mod tests {
             ("plain", "no kernel `plain` under #[twinstep::audit]"),
             ("missing", "no kernel `missing`"),
             ("Cable::run", "`impl Cable` has no method `run`"),
+            ("Rod::step", "`impl Rod` is twinned with its struct (the twin is `RodTwin<T>`)"),
             ("string::wave", "module `string` has no function `wave`"),
             ("string::grid", "parameter `g: &mut Grid` is not a field slice"),
         ];
@@ -310,7 +335,7 @@ mod tests {
             assert!(error.message.contains(message), "{path}: {}", error.message);
         }
         let grid = find_kernel(SOURCE, "string::grid").unwrap_err();
-        assert_eq!(grid.line, 20, "the error points at the parameter's type (line 20 of SOURCE)");
+        assert_eq!(grid.line, 27, "the error points at the parameter's type (line 27 of SOURCE)");
         assert!(find_kernel("fn (", "x").is_err());
     }
 }

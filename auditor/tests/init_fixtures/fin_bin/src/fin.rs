@@ -11,7 +11,7 @@ pub struct Fin {
     pub taken: u64,
 }
 
-#[twinstep::audit]
+#[twinstep::audit(methods_only)]
 impl Fin {
     pub fn new(diffusion: f64, loss: f64) -> Self {
         Fin { diffusion, loss, taken: 0 }
