@@ -126,6 +126,67 @@ fn an_accumulation_loop_is_named_a_long_sum() {
     assert_eq!((site.ops.count, site.ops.chained), (64 * 64, 64 * 56));
 }
 
+/// The same row sums with the remedy the report suggests for them, compensated summation: Neumaier's variant of
+/// Kahan's (Neumaier 1974, "Rundungsfehleranalyse einiger Verfahren zur Summation endlicher Summen"; Higham,
+/// Accuracy and Stability of Numerical Algorithms, 2nd ed., §4.3 — both from memory), which carries the low part
+/// that each sum drops.
+#[twinstep::audit]
+pub fn row_sums_compensated(a: &[f64], out: &mut [f64], n: usize) {
+    for i in 0..n {
+        let (mut s, mut c) = (0.0, 0.0);
+        for j in 0..n {
+            let x = a[i * n + j];
+            let t = s + x;
+            c += if s.abs() >= x.abs() { (s - t) + x } else { (x - t) + s };
+            s = t;
+        }
+        out[i] = s + c;
+    }
+}
+
+/// [`Rows`] with the compensated sums.
+struct CompensatedRows;
+#[twinstep::scenario]
+impl Scenario for CompensatedRows {
+    fn fields(&self) -> Vec<FieldSpec> {
+        Rows.fields()
+    }
+
+    fn initial_values(&self) -> Vec<Vec<f64>> {
+        Rows.initial_values()
+    }
+
+    fn step<T>(&self, levels: &mut Levels<T>) {
+        let mut sums = vec![T::zero(); 64];
+        row_sums_compensated_twin::<T>(&levels.current[0], &mut sums, 64);
+        levels.next[0].copy_from_slice(&levels.current[0]);
+        for (i, s) in sums.into_iter().enumerate() {
+            levels.next[0][i * 64] = s;
+        }
+    }
+}
+
+#[test]
+fn the_compensated_sum_the_report_suggests_removes_the_long_sums_error() {
+    // The exact sum of a row is 64 times the double nearest 0.1, itself a double (a power-of-two multiple;
+    // IEEE 754-2019 §3.3), computed here in exact rationals (dashu-ratio).
+    let tenth = dashu_ratio::RBig::try_from(0.1f64).expect("finite");
+    let exact = &tenth * dashu_ratio::RBig::from(64);
+    assert_eq!(dashu_ratio::RBig::try_from(0.1f64 * 64.0).expect("finite"), exact);
+    let (mut plain, mut compensated) = (vec![0.0; 64], vec![0.0; 64]);
+    row_sums(&[0.1; 64 * 64], &mut plain, 64);
+    row_sums_compensated(&[0.1; 64 * 64], &mut compensated, 64);
+    let plain_error = (dashu_ratio::RBig::try_from(plain[0]).expect("finite") - &exact).to_f64().value();
+    assert!(plain_error.abs() > 1e-15, "the plain sum errs: {plain_error:e}");
+    assert_eq!(compensated[0], 0.1 * 64.0, "the compensated sum is the exact one");
+    // What the attribution measures agrees: the plain run's error is the exact one, the remedied run's is zero.
+    let error = |record: &AttributionRecord| record.fields[0].error;
+    let plain_run = Attribution::new(&Rows, 1).run().expect("the attribution runs");
+    let remedied = Attribution::new(&CompensatedRows, 1).run().expect("the attribution runs");
+    assert!((error(&plain_run) - plain_error).abs() <= 1e-12 * plain_error.abs(), "{plain_run:?}");
+    assert_eq!(error(&remedied), 0.0, "{remedied:?}");
+}
+
 #[test]
 fn a_remedy_applied_reads_back_and_must_name_declared_fields() {
     let (text, _) = trace_with_attribution();
