@@ -106,8 +106,7 @@ impl<T: Real> Buffers<T> {
         let size = core::mem::size_of::<T>();
         let field = profile::<T>(len);
         let spare = Self::PAGE; // elements: enough to reach any offset in a page for an element of ≥ 1 byte
-        let mut store = Vec::with_capacity(2 * len + 2 * spare);
-        store.extend(field.iter().copied().cycle().take(2 * len + 2 * spare));
+        let mut store = vec![field[0]; 2 * len + 2 * spare];
         let base = store.as_ptr() as usize;
         let u_at = (0..spare).min_by_key(|&i| (base + i * size) % Self::PAGE).unwrap_or(0);
         let miss = |i: usize| ((i - u_at) * size % Self::PAGE).abs_diff(placement);

@@ -89,8 +89,11 @@ pub fn row_sums(a: &[f64], out: &mut [f64], n: usize) {
 }
 
 /// A field of 64 × 64 cells of one tenth (inexact in binary) whose row sums become the next state's first
-/// column, the rest unchanged.
-struct Rows;
+/// column, the rest unchanged; the rows are summed one term after another, or with compensation
+/// ([`row_sums_compensated`], the remedy the report suggests).
+struct Rows {
+    compensated: bool,
+}
 #[twinstep::scenario]
 impl Scenario for Rows {
     fn fields(&self) -> Vec<FieldSpec> {
@@ -103,7 +106,11 @@ impl Scenario for Rows {
 
     fn step<T>(&self, levels: &mut Levels<T>) {
         let mut sums = vec![T::zero(); 64];
-        row_sums_twin::<T>(&levels.current[0], &mut sums, 64);
+        if self.compensated {
+            row_sums_compensated_twin::<T>(&levels.current[0], &mut sums, 64);
+        } else {
+            row_sums_twin::<T>(&levels.current[0], &mut sums, 64);
+        }
         levels.next[0].copy_from_slice(&levels.current[0]);
         for (i, s) in sums.into_iter().enumerate() {
             levels.next[0][i * 64] = s;
@@ -113,7 +120,7 @@ impl Scenario for Rows {
 
 #[test]
 fn an_accumulation_loop_is_named_a_long_sum() {
-    let record = Attribution::new(&Rows, 1).run().expect("the attribution runs");
+    let record = Attribution::new(&Rows { compensated: false }, 1).run().expect("the attribution runs");
     let source = include_str!("attribution_trace.rs");
     let line = source.lines().position(|l| l.ends_with("// LINE accumulate")).expect("marker") as u32 + 1;
     let finding = &record.findings[0];
@@ -144,28 +151,6 @@ pub fn row_sums_compensated(a: &[f64], out: &mut [f64], n: usize) {
     }
 }
 
-/// [`Rows`] with the compensated sums.
-struct CompensatedRows;
-#[twinstep::scenario]
-impl Scenario for CompensatedRows {
-    fn fields(&self) -> Vec<FieldSpec> {
-        Rows.fields()
-    }
-
-    fn initial_values(&self) -> Vec<Vec<f64>> {
-        Rows.initial_values()
-    }
-
-    fn step<T>(&self, levels: &mut Levels<T>) {
-        let mut sums = vec![T::zero(); 64];
-        row_sums_compensated_twin::<T>(&levels.current[0], &mut sums, 64);
-        levels.next[0].copy_from_slice(&levels.current[0]);
-        for (i, s) in sums.into_iter().enumerate() {
-            levels.next[0][i * 64] = s;
-        }
-    }
-}
-
 #[test]
 fn the_compensated_sum_the_report_suggests_removes_the_long_sums_error() {
     // The exact sum of a row is 64 times the double nearest 0.1, itself a double (a power-of-two multiple;
@@ -181,8 +166,8 @@ fn the_compensated_sum_the_report_suggests_removes_the_long_sums_error() {
     assert_eq!(compensated[0], 0.1 * 64.0, "the compensated sum is the exact one");
     // What the attribution measures agrees: the plain run's error is the exact one, the remedied run's is zero.
     let error = |record: &AttributionRecord| record.fields[0].error;
-    let plain_run = Attribution::new(&Rows, 1).run().expect("the attribution runs");
-    let remedied = Attribution::new(&CompensatedRows, 1).run().expect("the attribution runs");
+    let plain_run = Attribution::new(&Rows { compensated: false }, 1).run().expect("the attribution runs");
+    let remedied = Attribution::new(&Rows { compensated: true }, 1).run().expect("the attribution runs");
     assert!((error(&plain_run) - plain_error).abs() <= 1e-12 * plain_error.abs(), "{plain_run:?}");
     assert_eq!(error(&remedied), 0.0, "{remedied:?}");
 }
