@@ -10,6 +10,8 @@
 //!
 //! The operands come from a fixed xorshift64 sequence (Marsaglia 2003); any fixed sequence would do.
 
+mod format_support;
+
 use dashu_float::round::mode::HalfEven;
 use dashu_float::{Context, FBig};
 use dashu_ratio::RBig;
@@ -204,38 +206,8 @@ fn nearest_in_format(format: Format, x: f64) -> f64 {
     if !x.is_finite() || x == 0.0 {
         return x;
     }
-    let (p, emin) = (format.precision() as i32, format.emin());
-    let exact = RBig::try_from(x.abs()).expect("finite");
-    let binade = {
-        let field = ((x.to_bits() >> 52) & 0x7ff) as i32;
-        let significand = x.to_bits() & 0x000f_ffff_ffff_ffff;
-        if field == 0 {
-            -1074 + 63 - significand.leading_zeros() as i32
-        } else {
-            field - 1023
-        }
-    };
-    let quantum_exponent = binade.max(emin) - p + 1;
-    let two_to = |k: i32| {
-        let power = RBig::from(dashu_int::UBig::ONE << k.unsigned_abs() as usize);
-        if k >= 0 {
-            power
-        } else {
-            RBig::ONE / power
-        }
-    };
-    let scaled = &exact / two_to(quantum_exponent);
-    let (floor, fraction) = (scaled.floor(), scaled.fract());
-    let half = RBig::ONE / RBig::from(2);
-    let up = fraction > half || (fraction == half && (&floor % dashu_int::IBig::from(2)) != dashu_int::IBig::ZERO);
-    let multiple = if up { floor + dashu_int::IBig::ONE } else { floor };
-    let rounded = RBig::from(multiple) * two_to(quantum_exponent);
-    let magnitude = if rounded > RBig::try_from(format.max_value()).expect("finite") {
-        f64::INFINITY
-    } else {
-        rounded.to_f64().value() // a value of the format, so a double, exactly
-    };
-    magnitude.copysign(x)
+    let exact = RBig::try_from(x).expect("finite");
+    format_support::nearest_real(format, &exact, x < 0.0)
 }
 
 #[test]

@@ -259,6 +259,55 @@ impl Format {
         f64::from_bits(rounded.to_bits() | (bits & SIGN))
     }
 
+    /// Whether the format's values and the arithmetic of [`Format::round_in_binary32`] fit binary32: at most 11
+    /// bits (so that `24 ≥ 2p + 2`, Figueroa's condition for rounding a binary32 result of `+ − × √` of two values
+    /// of the format to the format to be the correctly rounded result; Figueroa, "When is double rounding
+    /// innocuous?", 1995, from memory), and either binary32's exponent range or one whose largest binade moved
+    /// `24 − p` binades up stays inside it (the adder's `C`). bfloat16 and binary16.
+    #[must_use]
+    pub const fn fits_binary32(self) -> bool {
+        let p = self.precision as i32;
+        p <= 11 && self.emin >= -126 && (self.shares_binary32_exponents() || self.emax + 24 - p <= 127)
+    }
+
+    /// Whether the exponent range is binary32's own (bfloat16's).
+    const fn shares_binary32_exponents(self) -> bool {
+        self.emin == -126 && self.emax == 127
+    }
+
+    /// `x` rounded to the format, in binary32 (for a format that [`Format::fits_binary32`]): the result of
+    /// [`Format::round`] on `f64::from(x)`, computed on binary32 lanes, which a vectorized loop packs twice as
+    /// densely as binary64. A format with binary32's exponent range (bfloat16) rounds the encoding as an integer
+    /// at a fixed position, `24 − p` bits up — adding `2^(23 − p) − 1` plus the last kept bit and clearing the
+    /// dropped bits is to nearest with ties to even on normal and subnormal numbers alike, since the format's grid
+    /// there is every `2^(24 − p)`-th binary32 encoding, and a carry out of the largest value gives the encoding
+    /// of ∞ (common practice, no source). Any other (binary16) rounds by the adder, as [`Format::round_by_adder`]
+    /// does in binary64: `C = 1.5·2^(max(e, emin) − p + 24)` from the exponent field, `(x + C) − C`, overflow
+    /// decided on `|x| ≥ (2 − 2^-p)·2^emax`, the sign put back on a zero. A NaN stays a quiet NaN with its payload.
+    #[inline(always)]
+    #[must_use]
+    pub fn round_in_binary32(self, x: f32) -> f32 {
+        const SIGN32: u32 = 1 << 31;
+        const INFINITY32: u32 = 0x7f80_0000;
+        let bits = x.to_bits();
+        let drop = 24 - self.precision;
+        if self.shares_binary32_exponents() {
+            let half = (1u32 << (drop - 1)) - 1;
+            let rounded = bits.wrapping_add(half + ((bits >> drop) & 1)) & !((1u32 << drop) - 1);
+            let nan = (bits & !SIGN32) > INFINITY32;
+            return f32::from_bits(if nan { bits | (1 << 22) } else { rounded });
+        }
+        let moved_up = f32::from_bits((bits & INFINITY32) + ((drop << 23) | (1 << 22)));
+        let floor = (1.5 * pow2(self.emin - self.precision as i32 + 24)) as f32;
+        // As in `round_by_adder`: a moved-up field that is NaN or ran into the sign bit (x overflows) takes the
+        // floor, and overflow is decided below.
+        let c = if moved_up > floor { moved_up } else { floor };
+        let rounded = (x + c) - c;
+        let threshold = (self.max_value() + pow2(self.emax - self.precision as i32)) as f32;
+        let rounded = if x.abs() >= threshold { f32::INFINITY } else { rounded };
+        f32::from_bits(rounded.to_bits() | (bits & SIGN32))
+    }
+
     /// `x` rounded to the format by rounding its encoding: at and above `2^emin` the encoding is rounded as an
     /// integer at a fixed position, `53 − p` bits up — adding `2^(52 − p) − 1` plus the last kept bit and
     /// clearing the dropped bits is to nearest with ties to even (common practice, no source) — and below `2^emin`

@@ -155,8 +155,8 @@ pub use enclosure::Enclosure;
 pub use format::{bits_format_scope, Format, FormatError};
 pub use interval::{Interval, IntervalOf, IntervalUnwatched};
 pub use narrow::{
-    Bfloat16B64, Bfloat16B64Unwatched, Binary16B64, Binary16B64Unwatched, Binary32B64, Binary32B64Unwatched, BitsB64,
-    BitsB64Unwatched, Narrowed,
+    Bfloat16B32, Bfloat16B32Unwatched, Bfloat16B64, Bfloat16B64Unwatched, Binary16B32, Binary16B32Unwatched,
+    Binary16B64, Binary16B64Unwatched, Binary32B64, Binary32B64Unwatched, BitsB64, BitsB64Unwatched, Narrowed,
 };
 pub use reference::{literal_mode, set_literal_mode, with_literal_mode, LiteralMode, Reference};
 pub use shadow::{Shadow, ShadowOf, ShadowUnwatched, Shadowed};
