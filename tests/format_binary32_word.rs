@@ -122,6 +122,15 @@ fn rounding_in_binary32_is_the_half_crates_conversion() {
             }
         }
         assert!(ties > 60_000, "{ties} midpoints");
+        // The midpoint between the largest value and 2^(emax+1) rounds to ∞ (ties to even: the largest value's
+        // last bit is odd; IEEE 754-2019 §4.3.1, §7.4); binary32's number below it, to the largest value.
+        let largest = format.max_value();
+        let overflow = (largest + 2f64.powi(format.emax() - format.precision() as i32)) as f32;
+        for sign in [1.0f32, -1.0] {
+            assert_eq!(format.round_in_binary32(sign * overflow), sign * f32::INFINITY, "{}", format.name());
+            let below = f32::from_bits(overflow.to_bits() - 1);
+            assert_eq!(f64::from(format.round_in_binary32(sign * below)), f64::from(sign) * largest, "{}", format.name());
+        }
     }
     // The formats whose exponents do not fit: more than 11 bits, or a top binade the adder cannot move up.
     assert!(!Format::BINARY32.fits_binary32());
