@@ -22,9 +22,10 @@ use std::time::{Duration, Instant};
 use twinstep::audit::{Audit, AuditLens, FieldSpec, Levels, Scenario, Tolerance};
 use twinstep::certificate::{certify, CertificateOptions, Route};
 use twinstep::lens::{
-    bits_format_scope, AttributedUnwatched, Bfloat16B32Unwatched, Bfloat16B64Unwatched, Binary16B32Unwatched, Bfloat16Unwatched, Binary16B64Unwatched,
-    Binary16Unwatched, Binary32B64Unwatched, Binary32Unwatched, BitsUnwatched, Bound, BoundUnwatched,
-    Certified4Unwatched, CertifiedUnwatched, Format, Interval, IntervalUnwatched, Shadow, ShadowUnwatched,
+    bits_format_scope, AttributedUnwatched, Bfloat16B32Unwatched, Bfloat16B64Unwatched, Bfloat16Unwatched,
+    Binary16B32Unwatched, Binary16B64Unwatched, Binary16Unwatched, Binary32B64Unwatched, Binary32Unwatched,
+    BitsUnwatched, Bound, BoundUnwatched, Certified4Unwatched, CertifiedUnwatched, Format, Interval, IntervalUnwatched,
+    Shadow, ShadowUnwatched,
 };
 use twinstep::{BaseOps, MixedOps, Real, RefOps};
 

@@ -9,14 +9,17 @@
 //!
 //! Each format's run is an ordinary audit through the public builder ([`Audit`]) with one lens: [`Shadow`] for
 //! binary64 (the program's own arithmetic), [`Binary32`], [`Bfloat16`], [`Binary16`], or [`Bits`] for a p-bit
-//! format — each the program's primal in that format beside the same double-double reference. A format of at most
-//! [`NARROW_REFERENCE_BITS`] bits run beside binary64 takes the same primal with a binary64 reference instead
-//! ([`crate::lens::narrow`]: [`Binary32B64`], …; binary32 then costs about a third), and keeps it only when
-//! binary64's own error, as the binary64 run measured it, stays below [`REFERENCE_MARGIN`] times the format's error
-//! at every step both runs recorded; otherwise the format runs again with the double-double lens. Every run writes
-//! its own trace; the sweep then appends one `format_run` record per run and one `sweep` record to the main trace
-//! (the binary64 run's, else the first run's), so a reader of that one file has every format's curve and the
-//! outcome (`docs/trace.md`).
+//! format — each the program's primal in that format beside the same double-double reference. Two cheaper
+//! references come first where they can stand. bfloat16 and binary16 beside a binary32 run compute in binary32
+//! words with a binary32 reference ([`crate::lens::narrow::InBinary32`]: [`Bfloat16B32`], [`Binary16B32`], about
+//! a third of the cost of the next), kept only when binary32's own error, as the binary32 run measured it, stays
+//! below [`REFERENCE_MARGIN`] times the format's error at every step both runs recorded. Else a format of at most
+//! [`NARROW_REFERENCE_BITS`] bits beside binary64 takes the same primal with a binary64 reference
+//! ([`crate::lens::narrow`]: [`Binary32B64`], …; binary32 then costs about a third), kept on the same test
+//! against binary64's error. Otherwise the format runs with the double-double lens. binary64 runs first and
+//! binary32 second, so that their runs can measure the others. Every run writes its own trace; the sweep then
+//! appends one `format_run` record per run and one `sweep` record to the main trace (the binary64 run's, else the
+//! first run's), so a reader of that one file has every format's curve and the outcome (`docs/trace.md`).
 //!
 //! **Assumptions.** The bisection assumes that the error at the horizon does not grow with the precision (more bits,
 //! no more error), which holds for the schemes twinstep audits as long as no run takes another branch; a run that
@@ -38,8 +41,8 @@ use serde::{Deserialize, Serialize};
 
 use crate::audit::{Audit, AuditLens, Error as AuditError, Levels, Plan, Scenario, Tolerance};
 use crate::lens::{
-    bits_format_scope, Bfloat16, Bfloat16B64, Binary16, Binary16B64, Binary32, Binary32B64, Bits, BitsB64, Format,
-    FormatError, Shadow,
+    bits_format_scope, Bfloat16, Bfloat16B32, Bfloat16B64, Binary16, Binary16B32, Binary16B64, Binary32, Binary32B64,
+    Bits, BitsB64, Format, FormatError, Shadow,
 };
 use crate::trace::{Record, Status, Trace};
 
@@ -51,10 +54,31 @@ pub const DOUBLE_DOUBLE_BITS: f64 = 106.0;
 /// The widest format a binary64 reference serves in a sweep: 53 − 24 = 29 bits more than the primal, so the
 /// reference's own rounding is about 2^-29 of the primal's at each operation (see [`crate::lens::narrow`]).
 pub const NARROW_REFERENCE_BITS: u32 = 24;
-/// How small binary64's own error must stay against a format's error, at every step both runs recorded, for the
-/// format's binary64-referenced run to stand: 2^-10, so the format's error is right to about three digits
-/// (the estimate is off by at most binary64's error; common practice, no source).
+/// How small binary64's (binary32's) own error must stay against a format's error, at every step both runs
+/// recorded, for the format's binary64-referenced (binary32-word) run to stand: 2^-10, so the format's error is
+/// right to about three digits (the estimate is off by at most the reference's own error; common practice, no
+/// source).
 pub const REFERENCE_MARGIN: f64 = 1.0 / 1024.0;
+
+/// The runs a sweep measures its cheaper references with: a format's run with a binary64 (binary32) reference
+/// stands only if binary64's (binary32's) own error, as that format's run measured it, is small against the
+/// format's error.
+#[derive(Clone, Copy, Debug, Default)]
+struct Measures<'a> {
+    binary64: Option<&'a FormatRun>,
+    binary32: Option<&'a FormatRun>,
+}
+
+/// The reference of a format's run.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+enum ReferenceWord {
+    /// Binary32 words ([`crate::lens::narrow::InBinary32`]: bfloat16 and binary16).
+    Binary32,
+    /// A binary64 reference ([`crate::lens::narrow`]).
+    Binary64,
+    /// The double-double shadow.
+    DoubleDouble,
+}
 
 /// A format a sweep runs.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -101,6 +125,12 @@ impl SweepFormat {
             SweepFormat::Binary64 => Format::BINARY64_EXPONENTS,
             SweepFormat::Emulated(f) => (f.emin(), f.emax()),
         }
+    }
+
+    /// Whether the format has a lens in binary32 words (bfloat16 and binary16; [`Format::fits_binary32`]).
+    #[must_use]
+    pub fn fits_binary32_words(self) -> bool {
+        matches!(self, SweepFormat::Emulated(Format::BFLOAT16 | Format::BINARY16))
     }
 
     /// The format's name: `binary64`, `binary32`, `bfloat16`, `binary16`, `p38` (see [`Format::name`]).
@@ -499,16 +529,28 @@ impl<'s, S: Scenario> Sweep<'s, S> {
         let main = (!self.attached).then(|| binary64_at.unwrap_or(0));
         let path_of =
             |i: usize, format: SweepFormat| if Some(i) == main { self.trace.clone() } else { self.side_trace(format) };
-        // binary64 first, so that the narrow formats can take its run as the measure of their reference.
+        // binary64 first, then binary32 (measured with binary64's help), so that the narrower formats can take
+        // their runs as the measures of their references.
         let binary64 = binary64_at
-            .map(|i| self.run_format(SweepFormat::Binary64, RunRole::Asked, path_of(i, SweepFormat::Binary64), None))
+            .map(|i| {
+                let path = path_of(i, SweepFormat::Binary64);
+                self.run_format(SweepFormat::Binary64, RunRole::Asked, path, Measures::default())
+            })
             .transpose()?;
-        let measure = binary64.as_ref();
+        let binary32_at = self.plan.formats.iter().position(|f| *f == SweepFormat::BINARY32);
+        let binary32 = binary32_at
+            .map(|i| {
+                let measures = Measures { binary64: binary64.as_ref(), binary32: None };
+                self.run_format(SweepFormat::BINARY32, RunRole::Asked, path_of(i, SweepFormat::BINARY32), measures)
+            })
+            .transpose()?;
+        let measures = Measures { binary64: binary64.as_ref(), binary32: binary32.as_ref() };
         let mut runs = Vec::new();
         for (i, format) in self.plan.formats.iter().enumerate() {
-            let run = match measure {
-                Some(run) if Some(i) == binary64_at => run.clone(),
-                _ => self.run_format(*format, RunRole::Asked, path_of(i, *format), measure)?,
+            let run = match (&binary64, &binary32) {
+                (Some(run), _) if Some(i) == binary64_at => run.clone(),
+                (_, Some(run)) if Some(i) == binary32_at => run.clone(),
+                _ => self.run_format(*format, RunRole::Asked, path_of(i, *format), measures)?,
             };
             runs.push(run);
         }
@@ -519,7 +561,7 @@ impl<'s, S: Scenario> Sweep<'s, S> {
                 while hi - lo > 1 {
                     let mid = lo + (hi - lo) / 2;
                     let format = bisection_format(mid)?;
-                    let run = self.run_format(format, RunRole::Bisection, self.side_trace(format), measure)?;
+                    let run = self.run_format(format, RunRole::Bisection, self.side_trace(format), measures)?;
                     if run.meets {
                         hi = mid;
                     } else {
@@ -576,30 +618,53 @@ impl<'s, S: Scenario> Sweep<'s, S> {
         self.trace.with_file_name(format!("{stem}.{}.jsonl", format.name()))
     }
 
-    /// One format's audit, and what the sweep keeps of it. With `binary64`, the binary64 run, a format of at most
-    /// [`NARROW_REFERENCE_BITS`] bits runs with a binary64 reference first, and again with the double-double one
-    /// when binary64's error is not small against the format's (see the module paragraph).
+    /// One format's audit, and what the sweep keeps of it, with the cheapest reference that stands (see the
+    /// module paragraph): binary32 words for bfloat16 and binary16 when the binary32 run is in `measures`, kept
+    /// when binary32's error is small against the format's; else a binary64 reference for a format of at most
+    /// [`NARROW_REFERENCE_BITS`] bits when the binary64 run is in `measures`, kept when binary64's error is small
+    /// against the format's; else the double-double. Each try writes the same trace.
     fn run_format(
         &self,
         format: SweepFormat,
         role: RunRole,
         path: PathBuf,
-        binary64: Option<&FormatRun>,
+        measures: Measures<'_>,
     ) -> Result<FormatRun, SweepError> {
-        let narrow = binary64.is_some() && format.bits_of() <= NARROW_REFERENCE_BITS;
-        let trace = match format {
-            SweepFormat::Binary64 => self.audit::<Shadow>(&path),
-            SweepFormat::Emulated(f) if narrow => {
-                self.audit_in::<Binary32B64, Bfloat16B64, Binary16B64, BitsB64>(f, &path)
+        let tiers = [
+            (ReferenceWord::Binary32, measures.binary32.filter(|_| format.fits_binary32_words())),
+            (ReferenceWord::Binary64, measures.binary64.filter(|_| format.bits_of() <= NARROW_REFERENCE_BITS)),
+        ];
+        for (word, measure) in tiers {
+            let Some(measure) = measure else { continue };
+            let run = self.run_with(format, role, &path, word)?;
+            if reference_stands(&run, measure) {
+                return Ok(run);
             }
-            SweepFormat::Emulated(f) => self.audit_in::<Binary32, Bfloat16, Binary16, Bits>(f, &path),
+        }
+        self.run_with(format, role, &path, ReferenceWord::DoubleDouble)
+    }
+
+    /// One format's audit with the lens of `word`'s reference.
+    fn run_with(
+        &self,
+        format: SweepFormat,
+        role: RunRole,
+        path: &Path,
+        word: ReferenceWord,
+    ) -> Result<FormatRun, SweepError> {
+        let trace = match (format, word) {
+            (SweepFormat::Binary64, _) => self.audit::<Shadow>(path),
+            (SweepFormat::Emulated(Format::BFLOAT16), ReferenceWord::Binary32) => self.audit::<Bfloat16B32>(path),
+            (SweepFormat::Emulated(Format::BINARY16), ReferenceWord::Binary32) => self.audit::<Binary16B32>(path),
+            (SweepFormat::Emulated(f), ReferenceWord::Binary64 | ReferenceWord::Binary32) => {
+                self.audit_in::<Binary32B64, Bfloat16B64, Binary16B64, BitsB64>(f, path)
+            }
+            (SweepFormat::Emulated(f), ReferenceWord::DoubleDouble) => {
+                self.audit_in::<Binary32, Bfloat16, Binary16, Bits>(f, path)
+            }
         }
         .map_err(|source| SweepError::Audit { format: format.name(), source })?;
-        let run = self.format_run(format, role, path.clone(), &trace);
-        match binary64 {
-            Some(measure) if narrow && !reference_stands(&run, measure) => self.run_format(format, role, path, None),
-            _ => Ok(run),
-        }
+        Ok(self.format_run(format, role, path.to_path_buf(), &trace))
     }
 
     /// What the sweep keeps of a format's trace.

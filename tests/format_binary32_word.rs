@@ -19,9 +19,9 @@ mod format_support;
 use dashu_float::round::mode::HalfEven;
 use dashu_float::FBig;
 use dashu_ratio::RBig;
+use twinstep::lens::format::{EmulatedBfloat16, EmulatedBinary16};
 use twinstep::lens::narrow::{InBinary32, NarrowFormat};
 use twinstep::lens::{Bfloat16B32Unwatched, Binary16B32Unwatched, Format};
-use twinstep::lens::format::{EmulatedBfloat16, EmulatedBinary16, PrimalFormat};
 use twinstep::Real;
 
 struct Xorshift(u64);
@@ -54,9 +54,9 @@ fn draw(format: Format, rng: &mut Xorshift) -> f32 {
     let top = ((format.emax() - format.emin() + 1) as u16) << fraction_bits; // the biased exponent of the top binade
     let bits = match r % 6 {
         0 => (r >> 32) as u16,
-        1 => sign | fraction,                                            // subnormal
-        2 => sign | top | fraction,                                      // largest binade
-        3 => sign | ((format.emax() as u16) << fraction_bits) | fraction, // [1, 2)
+        1 => sign | fraction,                                                  // subnormal
+        2 => sign | top | fraction,                                            // largest binade
+        3 => sign | ((format.emax() as u16) << fraction_bits) | fraction,      // [1, 2)
         4 => sign | (((r >> 40) as u16 % 12 + 1) << fraction_bits) | fraction, // small normals
         _ => sign | (((r >> 40) as u16 % (top >> fraction_bits)) << fraction_bits) | fraction,
     };
@@ -103,7 +103,12 @@ fn rounding_in_binary32_is_the_half_crates_conversion() {
         for _ in 0..200_000 {
             let x = binary32(&mut rng);
             let (ours, theirs) = (format.round_in_binary32(x), half_rounding(format, x));
-            assert!(agree(ours, theirs), "{} of {x:e} ({:#x}): ours {ours:e}, half {theirs:e}", format.name(), x.to_bits());
+            assert!(
+                agree(ours, theirs),
+                "{} of {x:e} ({:#x}): ours {ours:e}, half {theirs:e}",
+                format.name(),
+                x.to_bits()
+            );
         }
         // Every midpoint between two neighbouring values of the format, and its binary32 neighbours.
         let mut ties = 0;
@@ -129,7 +134,12 @@ fn rounding_in_binary32_is_the_half_crates_conversion() {
         for sign in [1.0f32, -1.0] {
             assert_eq!(format.round_in_binary32(sign * overflow), sign * f32::INFINITY, "{}", format.name());
             let below = f32::from_bits(overflow.to_bits() - 1);
-            assert_eq!(f64::from(format.round_in_binary32(sign * below)), f64::from(sign) * largest, "{}", format.name());
+            assert_eq!(
+                f64::from(format.round_in_binary32(sign * below)),
+                f64::from(sign) * largest,
+                "{}",
+                format.name()
+            );
         }
     }
     // The formats whose exponents do not fit: more than 11 bits, or a top binade the adder cannot move up.
@@ -137,8 +147,11 @@ fn rounding_in_binary32_is_the_half_crates_conversion() {
     assert!(!Format::new(8, -100, 127).expect("a format").fits_binary32());
 }
 
+/// An operation of two binary32 words.
+type BinaryOp = fn(f32, f32) -> f32;
+
 /// The lens's primal operations (binary32 words) for one format.
-fn operations<F: twinstep::lens::narrow::FitsBinary32>() -> [(&'static str, fn(f32, f32) -> f32); 3] {
+fn operations<F: twinstep::lens::narrow::FitsBinary32>() -> [(&'static str, BinaryOp); 3] {
     [
         ("+", <InBinary32<F> as NarrowFormat>::add),
         ("−", <InBinary32<F> as NarrowFormat>::sub),
@@ -164,7 +177,11 @@ fn check_pairs<F: twinstep::lens::narrow::FitsBinary32>(seed: u64, exact_pairs: 
         ];
         for ((name, op), route) in operations::<F>().into_iter().zip(binary64_route) {
             let ours = op(a, b);
-            assert!(agree(ours, route as f32), "{} {a:e} {name} {b:e}: ours {ours:e}, binary64 route {route:e}", format.name());
+            assert!(
+                agree(ours, route as f32),
+                "{} {a:e} {name} {b:e}: ours {ours:e}, binary64 route {route:e}",
+                format.name()
+            );
             if n < exact_pairs {
                 let value = match name {
                     "+" => exact(a) + exact(b),
@@ -223,7 +240,12 @@ fn roots_of_every_value_are_correctly_rounded() {
             let root = FBig::<HalfEven>::try_from(f64::from(x)).expect("finite").with_precision(200).value().sqrt();
             let root = exact_of(&root);
             let reference = format_support::nearest_real(format, &root, false);
-            assert_eq!(f64::from(ours).to_bits(), reference.to_bits(), "{}: √{x:e} ours {ours:e}, exact {reference:e}", format.name());
+            assert_eq!(
+                f64::from(ours).to_bits(),
+                reference.to_bits(),
+                "{}: √{x:e} ours {ours:e}, exact {reference:e}",
+                format.name()
+            );
         }
         // √−0 = −0 and the root of a negative number is NaN (IEEE 754-2019 §5.4.1, §7.2).
         assert_eq!(sqrt(-0.0).to_bits(), (-0.0f32).to_bits());

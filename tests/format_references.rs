@@ -146,7 +146,9 @@ const R: f64 = 0.25;
 /// as in the closed form (the double `sin(π)` is 1.2·10^-16, which binary16 cannot hold and a dashu run of
 /// unbounded exponents can).
 fn initial() -> Vec<f64> {
-    (0..=CELLS).map(|i| if i % CELLS == 0 { 0.0 } else { (std::f64::consts::PI * i as f64 / CELLS as f64).sin() }).collect()
+    (0..=CELLS)
+        .map(|i| if i % CELLS == 0 { 0.0 } else { (std::f64::consts::PI * i as f64 / CELLS as f64).sin() })
+        .collect()
 }
 
 /// The heat scheme in any scalar, zero ends held.

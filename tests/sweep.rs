@@ -5,7 +5,7 @@
 //! input is a clear error; and the records the sweep appends to its trace read back.
 
 use twinstep::audit::{FieldSpec, Levels, Scenario, Tolerance};
-use twinstep::lens::narrow::has_binary64_reference;
+use twinstep::lens::narrow::{has_binary64_reference, narrow_reference};
 use twinstep::lens::FormatError;
 use twinstep::sweep::{Remedy, RunRole, Sweep, SweepError, SweepFormat};
 
@@ -77,11 +77,17 @@ fn bisection_finds_the_least_precision_that_meets_the_tolerance() {
     assert_eq!(trace.format_runs, outcome.runs);
     assert_eq!(trace.sweep.as_ref(), Some(&outcome.summary));
     assert!(trace.is_complete());
-    // Formats of at most 24 bits ran with the binary64 reference (binary64's error on this contractive scheme is
-    // about 2^-29 of theirs, far inside the margin), wider ones with the double-double.
+    // bfloat16 and binary16 ran in binary32 words (binary32's error on this contractive scheme is about 2^-16
+    // and 2^-13 of theirs, inside the margin of 2^-10), binary32 and the other formats of at most 24 bits with the
+    // binary64 reference (binary64's error about 2^-29 of theirs), wider ones with the double-double.
     for run in &outcome.runs {
-        let narrow = run.bits <= twinstep::sweep::NARROW_REFERENCE_BITS;
-        assert_eq!(has_binary64_reference(&run.lens), narrow, "{} ran with {}", run.format, run.lens);
+        let expected = match run.format.as_str() {
+            "bfloat16" | "binary16" => Some("binary32"),
+            _ if run.bits <= twinstep::sweep::NARROW_REFERENCE_BITS => Some("binary64"),
+            _ => None,
+        };
+        assert_eq!(narrow_reference(&run.lens), expected, "{} ran with {}", run.format, run.lens);
+        assert_eq!(has_binary64_reference(&run.lens), expected == Some("binary64"));
     }
     // Each run's own trace is a complete audit of its one lens; an emulated primal is not reported as a mismatch
     // with the f64 original (it differs by design).
@@ -154,6 +160,57 @@ fn a_binary64_reference_that_drifts_gives_way_to_the_double_double() {
     // 100), which is why its reference could not stand.
     let binary64 = outcome.run("binary64").unwrap();
     assert!(binary64.fields[0].first_crossing.is_some_and(|s| s + 1 > crossing_term as u64));
+}
+
+/// The same for the binary32 words of bfloat16: on Muller's recurrence binary32 leaves the exact sequence within
+/// the run as bfloat16 does, so its error is not small against bfloat16's and the run gives way — to the binary64
+/// reference, which drifts too (see above), and then to the double-double.
+#[test]
+fn a_binary32_reference_that_drifts_gives_way_too() {
+    const STEPS: u64 = 25;
+    let formats = [SweepFormat::Binary64, SweepFormat::BINARY32, SweepFormat::BFLOAT16];
+    let outcome = Sweep::new(&muller::Recurrence, Tolerance::relative(1e-6), STEPS)
+        .kernel("next_term")
+        .trace(scratch("muller-bfloat16"))
+        .formats(&formats)
+        .without_bisection()
+        .run()
+        .unwrap();
+    let bfloat16 = outcome.run("bfloat16").unwrap();
+    assert_eq!(narrow_reference(&bfloat16.lens), None, "bfloat16 ran with {}", bfloat16.lens);
+    let report = twinstep::report::render_text(&twinstep::trace::read(&outcome.trace).unwrap());
+    assert!(report.contains("double-double"), "{report}");
+}
+
+/// Where binary32's error is small against the format's, the binary32 words stand; their estimate is off the
+/// double-double lens's by about binary32's own error, within the sweep's margin.
+#[test]
+fn binary32_words_estimate_as_the_double_double_does() {
+    let rod = Rod { cells: 16, offset: 1.0 };
+    let formats = [SweepFormat::Binary64, SweepFormat::BINARY32, SweepFormat::BINARY16];
+    let run = |formats: &[SweepFormat], name: &str| {
+        Sweep::new(&rod, Tolerance::absolute(1e-3), 200)
+            .trace(scratch(name))
+            .formats(formats)
+            .without_bisection()
+            .run()
+            .unwrap()
+    };
+    let words = run(&formats, "words");
+    let alone = run(&[SweepFormat::BINARY16], "alone"); // no binary32 run to measure with: the double-double
+    let (h32, hdd) = (words.run("binary16").unwrap(), alone.run("binary16").unwrap());
+    assert_eq!(narrow_reference(&h32.lens), Some("binary32"));
+    assert_eq!(narrow_reference(&hdd.lens), None);
+    for (a, b) in h32.fields[0].history.iter().zip(&hdd.fields[0].history) {
+        assert_eq!(a.0, b.0);
+        assert!(
+            (a.1 - b.1).abs() <= twinstep::sweep::REFERENCE_MARGIN * b.1 + 1e-300,
+            "step {}: {} vs {}",
+            a.0,
+            a.1,
+            b.1
+        );
+    }
 }
 
 #[test]

@@ -10,7 +10,7 @@ use serde::Serialize;
 
 use super::analysis::{Align, Block, Cell, Section, SectionKind, Tone};
 use super::format;
-use crate::lens::narrow::has_binary64_reference;
+use crate::lens::narrow::narrow_reference;
 use crate::sweep::{
     FormatRun, NeededBits, Remedy, RunRole, SweepSummary, BINARY64_BITS, DOUBLE_DOUBLE_BITS, NARROW_REFERENCE_BITS,
     REFERENCE_MARGIN,
@@ -118,8 +118,9 @@ pub fn section(trace: &Trace) -> Option<Section> {
     let mut blocks = vec![Block::Paragraph {
         text: format!(
             "The same scenario run as if the program computed in each format (its primal rounded to the format at \
-every operation, a reference beside it: the double-double, or binary64 for a format of at most \
-{NARROW_REFERENCE_BITS} bits while binary64's own error stays below 2^{margin} of the format's), against the same tolerance: {audited}. A format meets the \
+every operation, a reference beside it: the double-double; binary64 for a format of at most \
+{NARROW_REFERENCE_BITS} bits while binary64's own error stays below 2^{margin} of the format's; binary32 for bfloat16 and binary16 while binary32's own error \
+stays below 2^{margin} of theirs), against the same tolerance: {audited}. A format meets the \
 tolerance when no field crosses it up to the horizon.",
             margin = REFERENCE_MARGIN.log2()
         ),
@@ -147,10 +148,7 @@ tolerance when no field crosses it up to the horizon.",
                     },
                     tone: Tone::Plain,
                 },
-                Cell {
-                    text: if has_binary64_reference(&run.lens) { "binary64" } else { "double-double" }.to_owned(),
-                    tone: Tone::Plain,
-                },
+                Cell { text: narrow_reference(&run.lens).unwrap_or("double-double").to_owned(), tone: Tone::Plain },
                 Cell {
                     text: if run.meets { "yes" } else { "no" }.to_owned(),
                     tone: if run.meets { Tone::Good } else { Tone::Bad },
