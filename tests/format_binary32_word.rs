@@ -281,7 +281,7 @@ fn the_lenses_take_their_inputs_as_the_formats_would() {
 /// front (`exp`, `powf`, `clamp`, `max`, a fused multiply-add) and the minmod limiter (`abs`, `min`, sign tests).
 mod whole_kernels {
     use twinstep::lens::{Bfloat16B32, Bfloat16B64, Binary16B32, Binary16B64, Lens};
-    use twinstep::{BaseOps, MixedOps, Real, RefOps};
+    use twinstep::{BaseOps, MixedOps, RefOps};
     use twinstep_fixtures::advection_minmod::minmod_step_twin;
     use twinstep_fixtures::reaction_diffusion::arrhenius_step_twin;
     use twinstep_fixtures::shallow_water::shallow_water_step_twin;
