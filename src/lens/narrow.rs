@@ -1,25 +1,31 @@
-//! Lenses for formats of at most 24 bits with a binary64 reference: the primal rounds every operation to
-//! binary32, bfloat16, binary16 or p bits exactly as the lenses of [`super::emulated`] do (the same
-//! [`PrimalFormat`] arithmetic, so the same bits), and the reference runs the same operations in the hardware's
-//! binary64 instead of a double-double.
+//! Lenses for formats of at most 24 bits with a cheaper reference than the double-double: the primal rounds every
+//! operation to binary32, bfloat16, binary16 or p bits exactly as the lenses of [`super::emulated`] do (the same
+//! bits), and the reference runs the same operations in a hardware format — binary64 (`Binary32B64`,
+//! `Bfloat16B64`, `Binary16B64`, `BitsB64`), or binary32 for bfloat16 and binary16 (`Bfloat16B32`, `Binary16B32`),
+//! whose primal then computes in binary32 too. One implementation, [`Narrowed`], over a [`NarrowFormat`]: the
+//! format of the primal and the *word* both numbers are kept in.
 //!
-//! Why a second reference: for a primal of p ≤ 24 bits, binary64 rounds at least 2^29 times less than the primal
-//! at each operation, so `|primal − reference|` estimates the primal's error to about 29 bits — the quality a
-//! double-double shadow gives a binary64 primal is 53 bits, and a verdict needs two or three digits. The reference
-//! is one double operation beside the primal's, not about twenty: the binary32 lens costs about a third of its
-//! double-double twin, the bfloat16 and binary16 lenses (whose rounding to the format is most of their cost) a
-//! little over half (the benchmark in `docs/lenses.md`).
+//! Why a second and a third reference: for a primal of p ≤ 24 bits, binary64 rounds at least 2^29 times less than
+//! the primal at each operation, so `|primal − reference|` estimates the primal's error to about 29 bits — the
+//! quality a double-double shadow gives a binary64 primal is 53 bits, and a verdict needs two or three digits. The
+//! reference is one double operation beside the primal's, not about twenty: the binary32 lens costs about a third
+//! of its double-double twin. For bfloat16 and binary16, whose rounding to the format is most of what remains,
+//! binary32 words halve the value to 8 bytes, so a vectorized loop carries twice the cells per instruction: about
+//! a third again (the benchmark in `docs/lenses.md`). binary32 still rounds 2^16 (bfloat16) and 2^13 (binary16)
+//! times less than the primal. In binary32 words `+ − × √` are binary32's operations rounded to the format, the
+//! correctly rounded result (see [`InBinary32`]); ÷, the fused multiply-add, `powi` and the functions are the
+//! format's own in binary64.
 //!
-//! Its limit: the reference is itself a binary64 run of the program along the primal's path, so where binary64 is
-//! far from exact (an ill-conditioned problem, an unstable recurrence) the estimate carries the binary64 error
-//! too. The precision sweep uses these lenses only beside a binary64 run, measured with the double-double
-//! shadow, and reruns a format with the double-double lens when binary64's own error is not small against the
-//! format's ([`crate::sweep`], `docs/sweep.md`). Formats of more than 24 bits always take the double-double lens.
+//! Their limit: the reference is itself a binary64 (binary32) run of the program along the primal's path, so
+//! where that format is far from exact (an ill-conditioned problem, an unstable recurrence) the estimate carries
+//! its error too. The precision sweep uses these lenses only beside a binary64 (binary32) run, which measures that
+//! error, and reruns a format with the next reference when the measured error is not small against the format's
+//! ([`crate::sweep`], `docs/sweep.md`). Formats of more than 24 bits always take the double-double lens.
 //!
-//! Branches, `max`/`min` and index casts follow the emulated primal, and the reference records where binary64
+//! Branches, `max`/`min` and index casts follow the emulated primal, and the reference records where its format
 //! could go otherwise, as in every lens. The elementary functions of the primal are the correctly rounded result
 //! of the `f64` function (the assumption of [`super::emulated`]); the reference's are the platform's `f64`
-//! functions, within an ulp or so of binary64.
+//! functions, within an ulp or so of binary64, rounded to the word.
 
 use crate::events::{record, EventKind};
 use crate::lens::format::{EmulatedBfloat16, EmulatedBinary16, EmulatedBinary32, EmulatedBits, Format, PrimalFormat};
