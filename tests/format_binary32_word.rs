@@ -24,16 +24,7 @@ use twinstep::lens::narrow::{InBinary32, NarrowFormat};
 use twinstep::lens::{Bfloat16B32Unwatched, Binary16B32Unwatched, Format};
 use twinstep::Real;
 
-struct Xorshift(u64);
-
-impl Xorshift {
-    fn next(&mut self) -> u64 {
-        self.0 ^= self.0 << 13;
-        self.0 ^= self.0 >> 7;
-        self.0 ^= self.0 << 17;
-        self.0
-    }
-}
+use format_support::Xorshift;
 
 /// The value of a 16-bit encoding of the format, as binary32 (`half`'s decoding).
 fn decode(format: Format, bits: u16) -> f32 {
@@ -72,21 +63,6 @@ fn agree(ours: f32, theirs: f32) -> bool {
     ours.to_bits() == theirs.to_bits() || (ours.is_nan() && theirs.is_nan())
 }
 
-/// A random binary32 encoding of any class.
-fn binary32(rng: &mut Xorshift) -> f32 {
-    let r = rng.next();
-    let bits = (r >> 32) as u32;
-    let sign = bits & 0x8000_0000;
-    match r % 6 {
-        0 => f32::from_bits(bits),
-        1 => f32::from_bits(sign | (bits & 0x007f_ffff)),
-        2 => f32::from_bits(sign | 0x7f00_0000 | (bits & 0x007f_ffff)),
-        3 => f32::from_bits(sign | (0x3000_0000 + (bits & 0x1fff_ffff))),
-        4 => [0.0, -0.0, f32::INFINITY, f32::NEG_INFINITY, f32::NAN, f32::MAX][(bits % 6) as usize],
-        _ => f32::from_bits(sign | (0x3800_0000 + (bits & 0x07ff_ffff))), // around binary16's range
-    }
-}
-
 fn half_rounding(format: Format, x: f32) -> f32 {
     if format == Format::BFLOAT16 {
         half::bf16::from_f32(x).to_f32()
@@ -101,7 +77,7 @@ fn rounding_in_binary32_is_the_half_crates_conversion() {
     for format in [Format::BFLOAT16, Format::BINARY16] {
         assert!(format.fits_binary32());
         for _ in 0..200_000 {
-            let x = binary32(&mut rng);
+            let x = rng.binary32();
             let (ours, theirs) = (format.round_in_binary32(x), half_rounding(format, x));
             assert!(
                 agree(ours, theirs),

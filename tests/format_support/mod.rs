@@ -1,5 +1,5 @@
 //! Shared by the format tests: rounding a real number to an emulated format by the definition, in exact
-//! rationals (dashu-ratio), independent of the emulation's code.
+//! rationals (dashu-ratio), independent of the emulation's code, and the operands the tests draw.
 
 use dashu_int::{IBig, UBig};
 use dashu_ratio::RBig;
@@ -56,5 +56,35 @@ pub fn nearest_real(format: Format, x: &RBig, negative: bool) -> f64 {
         -magnitude
     } else {
         magnitude
+    }
+}
+
+/// xorshift64 (Marsaglia 2003): a fixed sequence of operands; any fixed sequence would do.
+pub struct Xorshift(pub u64);
+
+impl Xorshift {
+    pub fn next(&mut self) -> u64 {
+        self.0 ^= self.0 << 13;
+        self.0 ^= self.0 >> 7;
+        self.0 ^= self.0 << 17;
+        self.0
+    }
+
+    /// A binary32 encoding drawn so that every class is frequent: random bits, subnormals, values near the
+    /// overflow threshold, near 1, zeros, infinities and NaNs.
+    pub fn binary32(&mut self) -> f32 {
+        let r = self.next();
+        let bits = (r >> 32) as u32;
+        let sign = bits & 0x8000_0000;
+        match r % 8 {
+            0 => f32::from_bits(bits),
+            1 => f32::from_bits(sign | (bits & 0x007f_ffff)), // subnormal
+            2 => f32::from_bits(sign | 0x7f00_0000 | (bits & 0x007f_ffff)), // near overflow
+            3 => f32::from_bits(sign | 0x3f80_0000 | (bits & 0x007f_ffff)), // [1, 2)
+            4 => f32::from_bits(sign | 0x0080_0000 | (bits & 0x00ff_ffff)), // smallest normals
+            5 => [0.0, -0.0, f32::INFINITY, f32::NEG_INFINITY, f32::NAN, f32::MAX, f32::MIN_POSITIVE]
+                [(bits % 7) as usize],
+            _ => f32::from_bits(sign | (0x3000_0000 + (bits & 0x1fff_ffff))), // moderate magnitudes
+        }
     }
 }
