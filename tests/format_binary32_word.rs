@@ -241,6 +241,33 @@ fn exact_of(x: &FBig<HalfEven>) -> RBig {
 }
 
 #[test]
+fn remainders_agree_with_the_binary64_words() {
+    use twinstep::lens::{Bfloat16B64Unwatched, Binary16B64Unwatched, Lens};
+    // x % y (truncating, as C's fmod) is exact in every binary format (common practice, no source), so
+    // both words give the same primal, and the binary32 reference is the binary32 computation x − q·y.
+    let mut rng = Xorshift(0x7e11);
+    for _ in 0..20_000 {
+        let (x, y) = (draw(Format::BFLOAT16, &mut rng), draw(Format::BFLOAT16, &mut rng));
+        let (a, b) = (
+            Bfloat16B32Unwatched::from_f32(x) % Bfloat16B32Unwatched::from_f32(y),
+            Bfloat16B64Unwatched::from_f32(x) % Bfloat16B64Unwatched::from_f32(y),
+        );
+        assert!(agree(a.primal() as f32, b.primal() as f32), "{x:e} % {y:e}");
+        assert!(agree(a.primal() as f32, x % y), "{x:e} % {y:e}: the hardware's remainder");
+        let (x, y) = (draw(Format::BINARY16, &mut rng), draw(Format::BINARY16, &mut rng));
+        let (a, b) = (
+            Binary16B32Unwatched::from_f32(x) % Binary16B32Unwatched::from_f32(y),
+            Binary16B64Unwatched::from_f32(x) % Binary16B64Unwatched::from_f32(y),
+        );
+        assert!(agree(a.primal() as f32, b.primal() as f32), "{x:e} % {y:e}");
+        if y != 0.0 && x.is_finite() {
+            let q = ((f64::from(x) - f64::from(x % y)) / f64::from(y)).round();
+            assert!(agree(a.reference_value() as f32, (-(q as f32)).mul_add(y, x)), "{x:e} % {y:e}: reference");
+        }
+    }
+}
+
+#[test]
 fn the_lenses_take_their_inputs_as_the_formats_would() {
     // An f64 input rounds to the format for the primal and to binary32 for the reference (`as f32`, to nearest).
     let third = 1.0f64 / 3.0;

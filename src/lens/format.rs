@@ -287,6 +287,7 @@ impl Format {
     #[inline(always)]
     #[must_use]
     pub fn round_in_binary32(self, x: f32) -> f32 {
+        debug_assert!(self.fits_binary32(), "{} does not fit binary32 words", self.name());
         const SIGN32: u32 = 1 << 31;
         const INFINITY32: u32 = 0x7f80_0000;
         let bits = x.to_bits();

@@ -423,10 +423,12 @@ impl<P: NarrowFormat, const W: bool> Core for Narrowed<P, W> {
     #[track_caller]
     fn rem(self, rhs: Self) -> Self {
         let c = self.primal % rhs.primal; // exact: c = x − q·y with q = trunc(x/y), a value of the format
-        let q = ((self.primal - c) / rhs.primal).round();
+                                          // The quotient in binary64, where x − c = q·y is exact while q < 2^29 (q·y then has at most 29 + 24 bits).
+        let (x, y) = (self.primal.to_f64(), rhs.primal.to_f64());
+        let q = ((x - c.to_f64()) / y).round();
         // Along the primal's path: X − q·Y with one rounding in the word.
-        let reference = (-q).mul_add(rhs.reference, self.reference);
-        let truncated = (self.reference / rhs.reference).trunc();
+        let reference = P::Word::from_f64(-q).mul_add(rhs.reference, self.reference);
+        let truncated = (self.reference.to_f64() / rhs.reference.to_f64()).trunc();
         if q.is_finite() && truncated.is_finite() && truncated != q {
             record::<Self>(EventKind::UndecidedComparison);
         }
