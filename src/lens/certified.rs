@@ -78,6 +78,29 @@ fn up(total: f64, ingredients: f64) -> f64 {
     }
 }
 
+/// The next double above a non-negative `x` that is not NaN (`next_up` without its branches for NaN, zero and
+/// negative numbers: one step up the encoding, IEEE 754-2019 §3.4; +∞ stays +∞).
+#[inline(always)]
+fn next_up_nonnegative(x: f64) -> f64 {
+    debug_assert!(x >= 0.0, "{x}");
+    if x < f64::INFINITY {
+        f64::from_bits(x.to_bits() + 1)
+    } else {
+        x
+    }
+}
+
+/// The next double below `x` when `x > 0`, else 0: `max(next_down(x), 0)` for an `x` that is not NaN.
+#[inline(always)]
+fn next_down_to_nonnegative(x: f64) -> f64 {
+    if x > 0.0 {
+        // x = +∞ steps to the largest double, as nextDown does.
+        f64::from_bits(x.to_bits() - 1)
+    } else {
+        0.0
+    }
+}
+
 /// A NaN bound (∞ − ∞, 0·∞) is a lost one.
 #[inline(always)]
 fn lost_if_nan(bound: f64) -> f64 {
@@ -190,8 +213,10 @@ impl<const K: usize, const W: bool> CertifiedOf<K, W> {
         let r = self.linear + self.remainder;
         if r == 0.0 {
             0.0
+        } else if r.is_nan() {
+            f64::INFINITY
         } else {
-            lost_if_nan(next_up(r))
+            next_up_nonnegative(r)
         }
     }
 
@@ -217,9 +242,10 @@ impl<const K: usize, const W: bool> CertifiedOf<K, W> {
             // then e = RN(s) = s: p = ṽ, the exact value is the shadow, so the error is exactly zero.
             return (0.0, 0.0);
         }
-        let slack = (U * (w.abs() + e.abs())).mul_add(INFLATION, FLOOR) + radius;
-        let upper = next_up(e.abs() + next_up(slack));
-        let lower = next_down(e.abs() - next_up(slack)).max(0.0);
+        // Both ends from non-negative finite terms (`radius` is finite here): the branch-free steps suffice.
+        let slack = next_up_nonnegative((U * (w.abs() + e.abs())).mul_add(INFLATION, FLOOR) + radius);
+        let upper = next_up_nonnegative(e.abs() + slack);
+        let lower = next_down_to_nonnegative(e.abs() - slack);
         (lower, upper)
     }
 
