@@ -1,10 +1,10 @@
 //! twinstep measures how far floating-point rounding moves the fields of a time-stepping stencil solver.
 //!
-//! One attribute, [`audit`], on an existing kernel makes the macro emit a generic *twin* of it: the same code with
-//! a type parameter `T: Real` in place of the float type. With `T = f64` the twin computes bit for bit what the
-//! original computes; with a *lens* (an error-tracking scalar) it tells how far rounding has moved each value.
-//! This crate holds the [`Real`] trait the twins are written against, its `f64` and `f32` implementations and the
-//! conversion helpers the rewrite emits ([`twin`]).
+//! One attribute, [`macro@audit`], on an existing kernel makes the macro emit a generic *twin* of it: the same code
+//! with a type parameter `T: Real` in place of the float type. With `T = f64` the twin computes bit for bit what the
+//! original computes; with a *lens* (an error-tracking scalar) it tells how far rounding has moved each value. This
+//! crate holds the [`Real`] trait the twins are written against, its `f64` and `f32` implementations and the conversion
+//! helpers the rewrite emits ([`twin`]).
 //!
 //! twinstep judges rounding error only, not discretization or modelling error.
 

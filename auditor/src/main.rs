@@ -142,10 +142,14 @@ Exit codes: 0 the harness ran and its report was written, 2 usage or input error
         /// The cargo profile to build the harness with.
         #[arg(long, value_name = "PROFILE", default_value = "release")]
         profile: String,
+        // The next two doc comments are clap's `--help` text (pinned by tests/snapshots), where backticks would
+        // show: the `<…>` are placeholders in clap's `[default: …]` style, not HTML tags.
         /// Cargo target directory for the audit build [default: <workspace>/target/twinstep].
+        #[allow(rustdoc::invalid_html_tags)]
         #[arg(long, value_name = "DIR")]
         target_dir: Option<PathBuf>,
         /// Where the harness writes its trace [default: <target dir>/traces/<name>.jsonl].
+        #[allow(rustdoc::invalid_html_tags)]
         #[arg(long, value_name = "FILE")]
         trace: Option<PathBuf>,
         /// Format of the report printed at the end.

@@ -1,13 +1,12 @@
 //! Where the rounding error comes from: per source line and operation site, which operations create the error
 //! of each field and which amplify it, and the remedy where the pattern is known (`docs/attribution.md`).
 //!
-//! [`Attribution`] runs a [`Scenario`] on the calling thread with the [`Attributed`] lens, which carries per
-//! site the propagated part of every value's error (forward mode, first order: the *propagated* shares). It then
-//! reruns the scenario once per line of the largest shares with that line's operations computed exactly in the
-//! primal (the *ablated* shares: how far the field's error drops without that line's rounding), and once with
-//! everything exact, which must leave zero error. The two methods check each other: to first order they agree.
-//! The result is an [`AttributionRecord`], the trace record itself: numbers, sites and pattern tags, ready to
-//! render.
+//! [`Attribution`] runs a [`Scenario`] on the calling thread with the [`Attributed`](crate::lens::Attributed) lens,
+//! which carries per site the propagated part of every value's error (forward mode, first order: the *propagated*
+//! shares). It then reruns the scenario once per line of the largest shares with that line's operations computed
+//! exactly in the primal (the *ablated* shares: how far the field's error drops without that line's rounding), and once
+//! with everything exact, which must leave zero error. The two methods check each other: to first order they agree. The
+//! result is an [`AttributionRecord`], the trace record itself: numbers, sites and pattern tags, ready to render.
 //!
 //! Ordinary audits pay nothing for this: the bookkeeping lives in its own lens and its own runner. The runner is
 //! single-threaded; a kernel that computes on rayon workers attributes the operations of those threads to no
@@ -34,7 +33,7 @@ pub const DEFAULT_ABLATED_LINES: usize = 8;
 
 /// An attribution of a scenario's error after `steps` steps.
 ///
-/// ```ignore
+/// ```text
 /// let record = Attribution::new(&wall, 5_000).run()?;
 /// for (line, share) in record.ranked_lines("T") { … }
 /// ```

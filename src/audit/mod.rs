@@ -3,8 +3,8 @@
 //! file).
 //!
 //! Two ways in. A [`Scenario`] describes the fields and gives the initial data and the step, generic over the
-//! scalar ([`scenario`](mod@scenario), written under `#[twinstep::scenario]`); [`Audit`] runs it with every lens on
-//! its own thread ([`lens_thread`]) and the f64 original alongside each ([`driver`]), and [`Audit::report`] ends a
+//! scalar (`scenario`, written under `#[twinstep::scenario]`); [`Audit`] runs it with every lens on
+//! its own thread (`lens_thread`) and the f64 original alongside each (`driver`), and [`Audit::report`] ends a
 //! harness's `main`. A [`Recorder`] is for a loop the user keeps as it is: call [`Recorder::record_step`] after
 //! each step.
 

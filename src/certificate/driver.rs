@@ -4,7 +4,7 @@
 //!
 //! [`DriverCertificate`] wraps a [`Certificate`] with what the recorder needs besides the step's facts: the
 //! route, the end at the step it happens, the mean growth where the report words it, and the run's totals at the
-//! last step. The colouring trial of the first step ([`choose_colouring`]) is shared with [`super::certify`].
+//! last step. The colouring trial of the first step (`choose_colouring`) is shared with [`super::certify`].
 
 use std::any::Any;
 
@@ -138,7 +138,7 @@ impl DriverCertificate {
         CertificateFacts { step, route: c.route(), ended, mean_growth, totals }
     }
 
-    /// Chooses the colouring by trying the first step, see [`choose_colouring`].
+    /// Chooses the colouring by trying the first step, see `choose_colouring`.
     pub fn choose_colouring<T: Clone + 'static, E>(
         &mut self,
         levels: &mut Levels<T>,

@@ -1,5 +1,6 @@
-//! The certificate: a guarantee on the f64 run that lasts the whole time loop, built from the [`Certified`] lens
-//! by seeding every step's inputs and condensing every value at its end (docs/lenses.md, "Certified").
+//! The certificate: a guarantee on the f64 run that lasts the whole time loop, built from the
+//! [`Certified`](crate::lens::Certified) lens by seeding every step's inputs and condensing every value at its end
+//! (docs/lenses.md, "Certified").
 //!
 //! Per cell, the certificate keeps a rigorous radius `D` with `|shadow − exact| ≤ D`, where *exact* is the same
 //! scheme run in exact arithmetic from the same inputs, along the primal's path; the guaranteed error of the f64

@@ -27,7 +27,7 @@
 //! costless in tightness unless the dropped input meets its own coefficient again later.
 //!
 //! **Rounding of the bounds.** `M` and `A` are formulas of non-negative doubles evaluated in round-to-nearest and
-//! finished by [`up`], which inflates them to upper bounds (the style of `Bound`'s `radius_of`, see
+//! finished by `up`, which inflates them to upper bounds (the style of `Bound`'s `radius_of`, see
 //! docs/lenses.md). The shadow's errors: sum and difference a posteriori (`eft::DoubleWord::add_bounded`), product
 //! ≤ 6u² and quotient ≤ 24u² relative (Joldes, Muller, Popescu 2017 prove 4u² for DWTimesDW3 and 15u² + 56u³ for
 //! DWDivDW2 — from memory, so with a margin, and checked on random and adversarial operands in exact rationals in

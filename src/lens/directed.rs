@@ -92,7 +92,7 @@ fn signed_infinity(a: f64, b: f64) -> f64 {
 /// `a + b` rounded both ways; `a`, `b` are not opposite infinities.
 ///
 /// TwoSum gives `a + b = s + e` exactly whenever nothing overflows (Knuth, TAOCP vol. 2, §4.2.2); the rest is
-/// the `#[cold]` [`sum_beyond`].
+/// the `#[cold]` `sum_beyond`.
 #[inline(always)]
 #[must_use]
 pub fn sum(a: f64, b: f64) -> Rounded {

@@ -160,7 +160,7 @@ impl core::ops::Neg for DoubleWord {
 
 impl core::ops::Add for DoubleWord {
     type Output = DoubleWord;
-    /// `x + y`: see [`dw_sum`].
+    /// `x + y`: see `dw_sum`.
     #[inline(always)]
     fn add(self, y: DoubleWord) -> DoubleWord {
         dw_sum(two_sum(self.hi, y.hi), self.lo + y.lo)
@@ -169,7 +169,7 @@ impl core::ops::Add for DoubleWord {
 
 impl core::ops::Sub for DoubleWord {
     type Output = DoubleWord;
-    /// `x − y`: [`dw_sum`] of `x + (−y)`, same bound; [`two_diff`] and `xl − yl` give the doubles of `x + (−y)`
+    /// `x − y`: `dw_sum` of `x + (−y)`, same bound; [`two_diff`] and `xl − yl` give the doubles of `x + (−y)`
     /// bit for bit, without negating `y` first.
     #[inline(always)]
     fn sub(self, y: DoubleWord) -> DoubleWord {
@@ -213,7 +213,7 @@ fn dw_sum_bounded((sh, sl): (f64, f64), v: f64) -> (DoubleWord, f64) {
 
 impl DoubleWord {
     /// `x + y` exactly as [`core::ops::Add`] computes it, and `e` with `|result − (x + y)| ≤ u·e`
-    /// (see [`dw_sum_bounded`]).
+    /// (see `dw_sum_bounded`).
     #[inline(always)]
     #[must_use]
     pub fn add_bounded(self, y: DoubleWord) -> (DoubleWord, f64) {

@@ -1,7 +1,7 @@
 //! Rigorous enclosures of the elementary functions over an input enclosure, without MPFR, for [`super::Bound`]
 //! and [`super::Interval`].
 //!
-//! The interval core ([`Enclosure`]) has the basic operations only, so these functions evaluate the system libm
+//! The interval core ([`super::Enclosure`]) has the basic operations only, so these functions evaluate the system libm
 //! in `f64` and widen outward. The assumption (stated in `docs/lenses.md`): every libm function used here is
 //! within [`LIBM_ULPS`] units in the last place of the true result for finite arguments (glibc documents ≤ 1–2
 //! ulps for these functions on x86-64; we allow 4). The widening is twice that, plus a few subnormals, computed in

@@ -352,7 +352,7 @@ impl Mul for Enclosure {
 impl Div for Enclosure {
     type Output = Enclosure;
     /// `{x/y : x ∈ X, y ∈ Y, y ≠ 0}`, hulled (IEEE 1788-2015 §9.1): the four quotients for a divisor that
-    /// excludes 0, half-lines or ℝ for one that holds it ([`Enclosure::div_beyond`]).
+    /// excludes 0, half-lines or ℝ for one that holds it (`Enclosure::div_beyond`).
     #[inline(always)]
     fn div(self, rhs: Enclosure) -> Enclosure {
         match quotient_enclosure((self.inf, self.sup), (rhs.inf, rhs.sup)) {

@@ -348,7 +348,7 @@ pub struct HeatMap {
 
 /// The space × time heat map of one 1-D field under one lens: cell along x, recorded step along y (bottom = first),
 /// colour = log10 of the cell's error, with a colour bar. The colour scale stops at `ceiling` (see [`ceiling`])
-/// and spans at most [`MAX_DECADES`] below its top; values beyond are drawn in the end colours and the returned
+/// and spans at most `MAX_DECADES` below its top; values beyond are drawn in the end colours and the returned
 /// `clip` sentence says so.
 pub fn heat_map(field: &str, lens: &str, profiles: &[&Profile], ceiling: f64) -> Result<Option<HeatMap>, String> {
     let mut ordered: Vec<&Profile> = profiles.to_vec();

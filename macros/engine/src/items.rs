@@ -458,7 +458,7 @@ pub(crate) fn collect_module_facts(ctx: &mut Ctx, m: &ItemMod) {
     collect_items_facts(ctx, items);
 }
 
-/// [`collect_module_facts`] for the items of a module, inline or a whole file.
+/// `collect_module_facts` for the items of a module, inline or a whole file.
 pub fn collect_items_facts(ctx: &mut Ctx, items: &[Item]) {
     for item in items {
         match item {
