@@ -141,6 +141,18 @@ fn the_audit_catches_an_f32_program_the_twin_does_not_reproduce() {
         .unwrap();
     assert!(mismatches(&trace).is_empty());
     assert!(trace.steps.iter().any(|s| s.fields[0].max_err > 0.0), "bfloat16 rounds the f32 data");
+    // The same f32 program audited as bfloat16 in binary32 words: the same primal (so the same path), and an
+    // error that is the double-double lens's within binary32's own error, far inside the sweep's margin of 2^-10.
+    let words = Audit::new(&plain, Tolerance::absolute(1.0), 5)
+        .trace(scratch("audit_f32_bf16_words").join("t.jsonl"))
+        .lens::<twinstep::lens::Bfloat16B32>()
+        .run()
+        .unwrap();
+    assert!(mismatches(&words).is_empty());
+    for (a, b) in words.steps.iter().zip(&trace.steps) {
+        let (a, b) = (a.fields[0].max_err, b.fields[0].max_err);
+        assert!((a - b).abs() <= twinstep::sweep::REFERENCE_MARGIN * b, "{a} vs {b}");
+    }
 }
 
 /// The fixture's weighted-Jacobi sweep for `−Δu = f` on `[[f32; NX]; NY]`, one field `u` of shape `[NY, NX]`.
