@@ -30,7 +30,8 @@
 //! value`) and their lengths; every later one must give the same.
 //!
 //! Limits: `record!` must be called on the loop's own thread (one inside a rayon closure finds no sink and does
-//! nothing); every run must record the same steps; fields are 1-D (a flat buffer of a 2-D grid is one field of
+//! nothing; an audit that nothing reached ends with [`Error::NothingRecorded`], which says so); every run must
+//! record the same steps; fields are 1-D (a flat buffer of a 2-D grid is one field of
 //! `nx·ny` cells).
 
 use std::any::Any;
@@ -441,7 +442,7 @@ impl Gather {
                 }
                 return match self.recorder.take() {
                     Some((recorder, _, _)) => recorder.finish(),
-                    None => Err(Error::NoFields),
+                    None => Err(Error::NothingRecorded),
                 };
             }
             if done > 0 {

@@ -44,6 +44,8 @@ pub enum Error {
     BadTolerance { parameter: &'static str, value: f64 },
     /// The audit has no fields.
     NoFields,
+    /// A loop audit's runs ended without one `record!` reaching the audit: nothing was recorded.
+    NothingRecorded,
     /// The audit has no lenses.
     NoLenses,
     /// The audit would run zero steps.
@@ -92,6 +94,13 @@ impl std::fmt::Display for Error {
                 write!(f, "tolerance parameter {parameter} = {value} must be finite and greater than zero")
             }
             Error::NoFields => write!(f, "the audit has no fields"),
+            Error::NothingRecorded => write!(
+                f,
+                "the loop ran to its end but no twinstep::record! call reached the audit: call \
+                 twinstep::record!(step, fields…) once per step on the loop's own thread (a call inside a rayon \
+                 closure or a thread the loop spawns finds no audit and records nothing), in the function the audit \
+                 runs"
+            ),
             Error::NoLenses => write!(f, "the audit has no lenses: add one with .lens::<L>()"),
             Error::ZeroSteps => write!(f, "the audit would run zero steps"),
             Error::HorizonTooShort { steps, horizon } => {
