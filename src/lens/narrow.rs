@@ -69,14 +69,8 @@ pub trait NarrowWord:
     fn sqrt(self) -> Self;
     /// `x·a + b` with one rounding.
     fn mul_add(self, a: Self, b: Self) -> Self;
-    /// `x` rounded to an integer toward zero.
-    fn trunc(self) -> Self;
-    /// `x` rounded to the nearest integer, ties away from zero.
-    fn round(self) -> Self;
     /// `xⁿ` as the word's `powi` computes it.
     fn powi(self, n: i32) -> Self;
-    /// Whether `x` is neither infinite nor NaN.
-    fn is_finite(self) -> bool;
 }
 
 macro_rules! narrow_word {
@@ -108,21 +102,9 @@ macro_rules! narrow_word {
             fn mul_add(self, a: Self, b: Self) -> Self {
                 $word::mul_add(self, a, b)
             }
-            #[inline(always)]
-            fn trunc(self) -> Self {
-                $word::trunc(self)
-            }
-            #[inline(always)]
-            fn round(self) -> Self {
-                $word::round(self)
-            }
             #[inline]
             fn powi(self, n: i32) -> Self {
                 $word::powi(self, n)
-            }
-            #[inline(always)]
-            fn is_finite(self) -> bool {
-                $word::is_finite(self)
             }
         }
     )*};
