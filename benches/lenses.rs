@@ -343,8 +343,8 @@ impl Scenario for Wave {
 
 /// Time per step of a certified run of `scenario` (kernel, condensation and seeding, the forward route), from
 /// the difference of runs of `2·steps` and `steps` steps (best of 3), so that the start (initial data, the
-/// colouring probe) does not count.
-fn time_certified<S: Scenario, const K: usize>(scenario: &S, steps: u64) -> Duration
+/// colouring probe) does not count. `parallel`: whether the pass after each step may use rayon's threads.
+fn time_certified<S: Scenario, const K: usize>(scenario: &S, steps: u64, parallel: bool) -> Duration
 where
     twinstep::lens::CertifiedOf<K, false>: Real + BaseOps<f64> + twinstep::lens::Lens,
     f64: MixedOps<twinstep::lens::CertifiedOf<K, false>>,
@@ -353,7 +353,7 @@ where
     let run = |steps: u64| {
         (0..3)
             .map(|_| {
-                let options = CertificateOptions { route: Route::Forward, ..CertificateOptions::default() };
+                let options = CertificateOptions { route: Route::Forward, parallel, ..CertificateOptions::default() };
                 let start = Instant::now();
                 black_box(certify::<S, K>(scenario, steps, options, |_, _| {}).expect("the run"));
                 start.elapsed()
@@ -441,8 +441,9 @@ fn main() {
                 }),
                 None,
             ),
-            ("K=4 run", time_certified::<_, 4>(&Rod { cells: CELLS }, heat_steps as u64 / 8), Some(40.0)),
-            ("K=8 run", time_certified::<_, 8>(&Rod { cells: CELLS }, heat_steps as u64 / 8), None),
+            ("K=4 run", time_certified::<_, 4>(&Rod { cells: CELLS }, heat_steps as u64 / 8, true), Some(40.0)),
+            ("K=4 1 thread", time_certified::<_, 4>(&Rod { cells: CELLS }, heat_steps as u64 / 8, false), None),
+            ("K=8 run", time_certified::<_, 8>(&Rod { cells: CELLS }, heat_steps as u64 / 8, true), None),
         ];
         report("certified, 1-D heat, 10^5 cells", original, None, &rows);
         let original = time_kernel::<f64>(GRID * GRID, diffusion_steps, |u, out| diffusion_2d(u, out, GRID, 0.2));
@@ -454,9 +455,26 @@ fn main() {
                 }),
                 None,
             ),
-            ("K=8 run", time_certified::<_, 8>(&Plate { n: GRID }, diffusion_steps as u64 / 4), Some(40.0)),
+            ("K=8 run", time_certified::<_, 8>(&Plate { n: GRID }, diffusion_steps as u64 / 4, true), Some(40.0)),
+            ("K=8 1 thread", time_certified::<_, 8>(&Plate { n: GRID }, diffusion_steps as u64 / 4, false), None),
         ];
         report("certified, 2-D diffusion, 512×512", original, None, &rows);
+        // The same kernel on a grid whose certified values fit in the caches (64² values of 136 bytes, 0.6 MB per
+        // level): what the lens's arithmetic costs when memory does not limit the pass.
+        const SMALL: usize = 64;
+        let small_steps = diffusion_steps * (GRID / SMALL) * (GRID / SMALL);
+        let original = time_kernel::<f64>(SMALL * SMALL, small_steps, |u, out| diffusion_2d(u, out, SMALL, 0.2));
+        let rows = [
+            (
+                "K=8 kernel",
+                time_kernel::<CertifiedUnwatched>(SMALL * SMALL, small_steps / 4, |u, out| {
+                    diffusion_2d_twin(u, out, SMALL, CertifiedUnwatched::from_f64(0.2))
+                }),
+                None,
+            ),
+            ("K=8 run", time_certified::<_, 8>(&Plate { n: SMALL }, small_steps as u64 / 4, true), None),
+        ];
+        report("certified, 2-D diffusion, 64×64", original, None, &rows);
     }
 
     // The backward route at 10⁴ steps: a leapfrog string of 32 points (three levels, 96 ids), where ρ(|J|) ≈ 2.4

@@ -175,3 +175,34 @@ fn monotone_schemes_stay_tight_for_100000_steps() {
     certify::<_, 4>(&upwind, steps, CertificateOptions::default(), |_, facts| check("upwind", facts, 301.0))
         .expect("upwind");
 }
+
+/// The pass after each step runs on rayon's threads for grids of `PARALLEL_IDS` ids or more, in runs whose results
+/// are merged in order: every step's facts (worst cell and its interval, radii, estimates) and every value's
+/// guaranteed interval must be those of the pass on one thread, bit for bit. A limiter scheme over data with
+/// repeated values, so that ties for the worst cell fall in different runs, and some cells' radii differ.
+#[test]
+fn the_parallel_pass_gives_the_facts_of_the_one_thread_pass() {
+    use twinstep::certificate::PARALLEL_IDS;
+    let cells = PARALLEL_IDS / 2 + 4099; // two levels: more ids than the threshold, runs of unequal length
+    let start: Vec<f64> = (0..cells).map(|i| 1.0 + 0.25 * ((i % 97) as f64 * 0.13).sin().round()).collect();
+    let case = line(start, MinmodStep(0.4));
+    let run = |parallel: bool| {
+        let mut facts = Vec::new();
+        let mut last = Vec::new();
+        let options = CertificateOptions { route: Route::Forward, parallel, ..Default::default() };
+        let outcome = certify::<_, 4>(&case, 12, options, |levels, step| {
+            facts.push(step.clone());
+            last = levels.current[0].iter().map(|v| (v.guaranteed_error(), v.radius())).collect();
+        })
+        .expect("the run");
+        (facts, last, outcome.end)
+    };
+    let (threads, one) = (run(true), run(false));
+    assert!(threads.0.iter().any(|f| f.fields[0].max_radius > 0.0), "the radii stay zero: nothing is compared");
+    assert_eq!(threads.0, one.0, "the steps' facts differ");
+    let bits = |v: &[((f64, f64), f64)]| {
+        v.iter().map(|((a, b), d)| [a.to_bits(), b.to_bits(), d.to_bits()]).collect::<Vec<_>>()
+    };
+    assert_eq!(bits(&threads.1), bits(&one.1), "the values' guaranteed intervals differ");
+    assert_eq!(threads.2, one.2);
+}

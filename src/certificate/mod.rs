@@ -63,6 +63,7 @@ pub use run::{certify, CertifiedRun};
 
 use backward::Tape;
 use layout::{fields_mut, Layout};
+use rayon::prelude::*;
 
 /// How many steps [`Route::Auto`] watches before it chooses.
 pub const PROBE_STEPS: u64 = 16;
@@ -96,11 +97,20 @@ pub struct CertificateOptions {
     /// The colouring of the inputs; `None`: the first of [`Colouring::candidates`], which the runner may replace
     /// after trying the others on the first step.
     pub colouring: Option<Colouring>,
+    /// Whether the pass after each step may run on rayon's threads when the levels hold [`PARALLEL_IDS`] ids or
+    /// more (the forward route; the facts are the same either way). Off, it runs on the caller's thread only.
+    pub parallel: bool,
 }
 
 impl Default for CertificateOptions {
     fn default() -> Self {
-        CertificateOptions { route: Route::Auto, anchor_growth: 1e6, anchor_steps: Vec::new(), colouring: None }
+        CertificateOptions {
+            route: Route::Auto,
+            anchor_growth: 1e6,
+            anchor_steps: Vec::new(),
+            colouring: None,
+            parallel: true,
+        }
     }
 }
 
@@ -404,51 +414,62 @@ impl Certificate {
     /// Every value's condensed radius into `scratch` (by its id at the next step), the rows onto the tape, and one
     /// step of the power iteration; returns its growth and the largest remainder `M`. With `seed_now`, each value
     /// is also seeded with its new radius and summarized in the same pass (then the summaries come back).
+    ///
+    /// Without a tape, a level structure of at least [`PARALLEL_IDS`] ids is condensed in runs of [`RUN`] values
+    /// on rayon's threads (condensing a value reads only itself and the previous radii); the runs' results are
+    /// merged in order, so the facts are those of the one-thread pass, bit for bit.
     fn condense<const K: usize, const W: bool>(
         &mut self,
         levels: &mut Levels<CertifiedOf<K, W>>,
         seed_now: bool,
     ) -> (f64, f64, Option<Vec<FieldSummary>>) {
-        let mut largest_remainder = 0.0f64;
         let mut fields = vec![FieldSummary::default(); levels.current.len()];
         if let Some(tape) = self.tape.as_mut() {
             tape.open();
         }
-        let (radii, probe) = (&self.radii, &self.probe);
-        // The largest entry of |J̃| v, gathered as the entries are made (a separate pass over them was a twentieth
-        // of a certified run's time: one dependent comparison per id); a NaN counts as ∞, as in `max_of`.
-        let mut top = 0.0f64;
+        let parallel = self.options.parallel && self.tape.is_none() && self.layout.ids >= PARALLEL_IDS;
+        let pass = Pass { radii: &self.radii, probe: &self.probe, slots: &self.slots, seed: seed_now };
+        let mut total = Condensed::default();
         for (block, (role, f, field)) in self.layout.blocks.iter().zip(fields_mut(levels)) {
             let base = block.base as usize;
-            for (cell, value) in field.iter_mut().enumerate() {
-                let id = base + cell;
-                let (d, spread, weight) = value.condensed(radii, probe);
-                self.scratch[id] = d;
-                largest_remainder = largest_remainder.max(value.remainder());
-                self.probe_next[id] = weight;
-                top = if weight.is_nan() { f64::INFINITY } else { top.max(weight) };
-                if let Some(tape) = self.tape.as_mut() {
-                    tape.row(value.entries(), value.remainder(), spread);
-                }
-                if seed_now {
-                    value.seed(id as u32, usize::from(self.slots[id]), d);
-                    if role == Role::Current {
-                        fields[f].add(cell, value);
-                    }
-                }
+            let summarize = seed_now && role == Role::Current;
+            let cells = field.len();
+            let scratch = &mut self.scratch[base..base + cells];
+            let probe_next = &mut self.probe_next[base..base + cells];
+            let done = if parallel {
+                let runs: Vec<Condensed> = field
+                    .par_chunks_mut(RUN)
+                    .zip(scratch.par_chunks_mut(RUN))
+                    .zip(probe_next.par_chunks_mut(RUN))
+                    .enumerate()
+                    .map(|(r, ((values, radii_next), probe_next))| {
+                        let run = Run { values, first_id: base + r * RUN, first_cell: r * RUN, radii_next, probe_next };
+                        pass.condense(run, summarize, None)
+                    })
+                    .collect();
+                runs.into_iter().reduce(Condensed::then).unwrap_or_default()
+            } else {
+                let run = Run { values: field, first_id: base, first_cell: 0, radii_next: scratch, probe_next };
+                pass.condense(run, summarize, self.tape.as_mut())
+            };
+            total.largest_remainder = total.largest_remainder.max(done.largest_remainder);
+            total.top = total.top.max(done.top);
+            if summarize {
+                fields[f] = done.summary;
             }
         }
         if let Some(tape) = self.tape.as_mut() {
-            tape.close(max_of(radii));
+            tape.close(max_of(&self.radii));
         }
         std::mem::swap(&mut self.radii, &mut self.scratch);
         // Power iteration: growth = max(|J̃| v)/max(v), with max(v) = 1; renormalized, with a floor so that a cell
         // nothing depends on keeps a positive entry.
+        let top = total.top;
         let growth = if top > 0.0 && top.is_finite() { top } else { 1.0 };
         for (v, &next) in self.probe.iter_mut().zip(&self.probe_next) {
             *v = (next / growth).max(1e-300);
         }
-        (growth, largest_remainder, seed_now.then_some(fields))
+        (growth, total.largest_remainder, seed_now.then_some(fields))
     }
 
     /// Under [`Route::Auto`], after [`PROBE_STEPS`] steps: forward when the measured growth raised to the horizon
@@ -523,6 +544,86 @@ impl Certificate {
     }
 }
 
+/// From how many ids on the pass after a step runs on rayon's threads (below, the threads' start-up would cost
+/// more than they save: a value takes about 10 ns).
+pub const PARALLEL_IDS: usize = 1 << 15;
+
+/// Values per run of the parallel pass.
+const RUN: usize = 1 << 13;
+
+/// What the pass after a step reads: the radii of the step's inputs, the power iteration's vector, the slots, and
+/// whether to seed the values for the next step.
+#[derive(Clone, Copy)]
+struct Pass<'a> {
+    radii: &'a [f64],
+    probe: &'a [f64],
+    slots: &'a [u8],
+    seed: bool,
+}
+
+/// Consecutive values of one block, where their ids and cells start, and their places in the next radii and the
+/// next vector of the power iteration.
+struct Run<'a, V> {
+    values: &'a mut [V],
+    first_id: usize,
+    first_cell: usize,
+    radii_next: &'a mut [f64],
+    probe_next: &'a mut [f64],
+}
+
+/// What condensing a run gives besides the radii: the largest remainder `M`, the largest entry of `|J̃| v` (∞ for a
+/// NaN), and the run's summary when it was summarized.
+#[derive(Clone, Debug, Default)]
+struct Condensed {
+    largest_remainder: f64,
+    top: f64,
+    summary: FieldSummary,
+}
+
+impl Condensed {
+    /// The results of a run followed by those of the run after it.
+    fn then(self, later: Condensed) -> Condensed {
+        Condensed {
+            largest_remainder: self.largest_remainder.max(later.largest_remainder),
+            top: self.top.max(later.top),
+            summary: self.summary.then(later.summary),
+        }
+    }
+}
+
+impl Pass<'_> {
+    /// Condenses a run of values (and seeds them with [`Pass::seed`]); with `summarize`, also summarizes them;
+    /// with a tape, records their rows.
+    #[inline]
+    fn condense<const K: usize, const W: bool>(
+        &self,
+        run: Run<'_, CertifiedOf<K, W>>,
+        summarize: bool,
+        mut tape: Option<&mut Tape>,
+    ) -> Condensed {
+        let mut out = Condensed::default();
+        let Run { values, first_id, first_cell, radii_next, probe_next } = run;
+        for (offset, ((value, d_next), p_next)) in values.iter_mut().zip(radii_next).zip(probe_next).enumerate() {
+            let id = first_id + offset;
+            let (d, spread, weight) = value.condensed(self.radii, self.probe);
+            *d_next = d;
+            out.largest_remainder = out.largest_remainder.max(value.remainder());
+            *p_next = weight;
+            out.top = if weight.is_nan() { f64::INFINITY } else { out.top.max(weight) };
+            if let Some(tape) = tape.as_mut() {
+                tape.row(value.entries(), value.remainder(), spread);
+            }
+            if self.seed {
+                value.seed(id as u32, usize::from(self.slots[id]), d);
+                if summarize {
+                    out.summary.add(first_cell + offset, value);
+                }
+            }
+        }
+        out
+    }
+}
+
 /// The running summary of one field's cells.
 #[derive(Clone, Debug, Default)]
 struct FieldSummary {
@@ -559,6 +660,25 @@ impl FieldSummary {
         out.max_radius = out.max_radius.max(d);
         out.lost_cells += usize::from(!d.is_finite());
         self.scale = self.scale.max(value.shadow().0.abs());
+    }
+
+    /// The summary of a run of cells followed by that of the run after it (the same as one summary of both: the
+    /// worst cell is the first with the largest upper end).
+    fn then(self, later: FieldSummary) -> FieldSummary {
+        let (a, b) = (self.out, later.out);
+        let (worst_upper, worst_cell) =
+            if b.worst.1 > a.worst.1 { (b.worst.1, b.worst_cell) } else { (a.worst.1, a.worst_cell) };
+        FieldSummary {
+            out: FieldCertificate {
+                worst: (a.worst.0.max(b.worst.0), worst_upper),
+                worst_cell,
+                estimate: a.estimate.max(b.estimate),
+                max_radius: a.max_radius.max(b.max_radius),
+                lost_cells: a.lost_cells + b.lost_cells,
+                useless: false,
+            },
+            scale: self.scale.max(later.scale),
+        }
     }
 
     fn finish(mut self) -> FieldCertificate {
