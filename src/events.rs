@@ -17,6 +17,7 @@
 //! [`Recorder`]: crate::audit::Recorder
 
 use std::any::TypeId;
+use std::cell::Cell;
 use std::collections::{BTreeMap, HashMap};
 use std::panic::Location;
 use std::sync::{Arc, Condvar, Mutex, MutexGuard, OnceLock, PoisonError};
@@ -78,6 +79,8 @@ struct Buffer {
     counts: HashMap<(TypeId, EventKind, Site), u64>,
     /// The lens variants that noted an unseen non-finite value ([`note_unseen_non_finite`]).
     unseen: Vec<TypeId>,
+    /// How many list clashes each lens variant met ([`note_list_clash`]).
+    clashes: HashMap<TypeId, u64>,
 }
 
 type SharedBuffer = Arc<Mutex<Buffer>>;
@@ -146,6 +149,16 @@ pub fn note_unseen_non_finite<L: 'static>() {
     });
 }
 
+/// Counts one list clash of the certified lens variant `L` (two inputs in one slot of its coefficient list: rigorous,
+/// one entry charged to the remainder) on whichever thread computes. Not an event: no trace or report lists it; the
+/// certificate sums the count per step ([`Collector::take_list_clashes`]) to choose its colouring and to report it.
+/// Cold: a good colouring makes clashes rare.
+#[cold]
+#[inline(never)]
+pub fn note_list_clash<L: 'static>() {
+    with_buffer(|buffer| *buffer.clashes.entry(TypeId::of::<L>()).or_insert(0) += 1);
+}
+
 /// Which thread holds the collection of each lens type, and how many times over (a thread may start a second
 /// collector for a lens type it already collects: both then see the same events).
 #[derive(Default)]
@@ -172,6 +185,8 @@ pub struct Collector {
     /// The two variants, whose events this collector takes.
     variants: [TypeId; 2],
     name: &'static str,
+    /// List clashes gathered by [`Collector::take`] since the last [`Collector::take_list_clashes`].
+    clashes: Cell<u64>,
 }
 
 impl Collector {
@@ -198,11 +213,16 @@ impl Collector {
             }
         };
         drop(held);
-        let collector =
-            Collector { lens, variants: [lens, TypeId::of::<L::Unwatched>()], name: <L::Watched as Lens>::NAME };
+        let collector = Collector {
+            lens,
+            variants: [lens, TypeId::of::<L::Unwatched>()],
+            name: <L::Watched as Lens>::NAME,
+            clashes: Cell::new(0),
+        };
         if fresh {
             let _ = collector.take();
             let _ = collector.take_unseen_non_finite();
+            let _ = collector.take_list_clashes();
         }
         collector
     }
@@ -215,10 +235,12 @@ impl Collector {
     }
 
     /// Takes the events of the lens recorded on every thread since the last call: kind, site and how many
-    /// times, ordered by kind and site.
+    /// times, ordered by kind and site. The list clashes recorded with them are kept for
+    /// [`Collector::take_list_clashes`] (one sweep over the threads' buffers for both).
     #[must_use]
     pub fn take(&self) -> Vec<(EventKind, Site, u64)> {
         let mut merged = BTreeMap::new();
+        let mut clashes = 0;
         self.sweep(|buffer| {
             buffer.counts.retain(|&(variant, kind, site), &mut count| {
                 let mine = self.variants.contains(&variant);
@@ -227,7 +249,11 @@ impl Collector {
                 }
                 !mine
             });
+            for variant in &self.variants {
+                clashes += buffer.clashes.remove(variant).unwrap_or(0);
+            }
         });
+        self.clashes.set(self.clashes.get() + clashes);
         merged.into_iter().map(|((kind, site), count)| (kind, site, count)).collect()
     }
 
@@ -246,6 +272,14 @@ impl Collector {
         noted
     }
 
+    /// The list clashes of the lens ([`note_list_clash`]) that the calls of [`Collector::take`] since the last call
+    /// gathered, from every thread; resets the count. Take the events of a run first: what its threads recorded
+    /// after the last `take` waits for the next one.
+    #[must_use]
+    pub fn take_list_clashes(&self) -> u64 {
+        self.clashes.replace(0)
+    }
+
     /// Runs `f` on every thread's buffer, and forgets the buffers of threads that have ended once they are empty.
     fn sweep(&self, mut f: impl FnMut(&mut Buffer)) {
         lock(buffers()).retain(|shared| {
@@ -253,7 +287,7 @@ impl Collector {
             f(&mut buffer);
             // Only this list still refers to the buffer of an ended thread.
             let ended = Arc::strong_count(shared) == 1;
-            !(ended && buffer.counts.is_empty() && buffer.unseen.is_empty())
+            !(ended && buffer.counts.is_empty() && buffer.unseen.is_empty() && buffer.clashes.is_empty())
         });
     }
 }

@@ -8,6 +8,7 @@ use certified_support::{line, HeatStep, MinmodStep, Step, UpwindStep};
 use dashu_base::Abs;
 use dashu_ratio::RBig;
 use proptest::prelude::*;
+use rayon::prelude::*;
 use twinstep::audit::Levels;
 use twinstep::certificate::{certify, CertificateOptions, EndReason, Route};
 use twinstep::events::EventKind;
@@ -31,7 +32,26 @@ fn stencil_step(u: &[f64], out: &mut [f64], weights: &[f64]) {
     }
 }
 
-struct Weights(Vec<f64>);
+/// The same stencil with one rayon task per cell (the loop of many parallel solvers).
+#[allow(dead_code)]
+#[twinstep::audit]
+fn stencil_step_parallel(u: &[f64], out: &mut [f64], weights: &[f64]) {
+    let n = u.len();
+    let half = weights.len() / 2;
+    out.par_iter_mut().enumerate().for_each(|(i, o)| {
+        let mut acc = 0.0;
+        for k in 0..weights.len() {
+            acc += weights[k] * u[(i + n + k - half) % n];
+        }
+        *o = acc;
+    });
+}
+
+/// The weights of [`stencil_step`], and whether to run its rayon twin ([`stencil_step_parallel`]) instead.
+struct Weights {
+    values: Vec<f64>,
+    on_rayon: bool,
+}
 
 impl Step for Weights {
     fn run<T>(&self, levels: &mut Levels<T>)
@@ -40,8 +60,12 @@ impl Step for Weights {
         f64: MixedOps<T>,
         for<'a> &'a T: RefOps<T>,
     {
-        let w: Vec<T> = self.0.iter().map(|&x| T::from_f64(x)).collect();
-        stencil_step_twin::<T>(&levels.current[0], &mut levels.next[0], &w);
+        let w: Vec<T> = self.values.iter().map(|&x| T::from_f64(x)).collect();
+        if self.on_rayon {
+            stencil_step_parallel_twin::<T>(&levels.current[0], &mut levels.next[0], &w);
+        } else {
+            stencil_step_twin::<T>(&levels.current[0], &mut levels.next[0], &w);
+        }
     }
 }
 
@@ -59,7 +83,7 @@ proptest! {
         weights in proptest::collection::vec(-1.5f64..1.5, 1..=5),
         start in proptest::collection::vec(-4.0f64..4.0, 3..=19),
     ) {
-        let line = line(start.clone(), Weights(weights.clone()));
+        let line = line(start.clone(), Weights { values: weights.clone(), on_rayon: false });
         let n = start.len();
         let mut exact: Vec<RBig> = start.iter().map(|&v| rat(v)).collect();
         let w: Vec<RBig> = weights.iter().map(|&v| rat(v)).collect();
@@ -205,4 +229,31 @@ fn the_parallel_pass_gives_the_facts_of_the_one_thread_pass() {
     };
     assert_eq!(bits(&threads.1), bits(&one.1), "the values' guaranteed intervals differ");
     assert_eq!(threads.2, one.2);
+}
+
+/// A seven-point stencil with four list slots: some inputs of every cell share a slot whatever the colouring, so
+/// the lists clash. Run on rayon's workers, the clashes must be counted as on one thread — step by step and in
+/// total — and the colouring trial, which counts them, must choose the same colouring.
+#[test]
+fn clashes_on_rayon_workers_count_as_on_one_thread() {
+    let stencil = vec![0.05, -0.1, 0.2, 0.7, 0.2, -0.1, 0.05];
+    let start: Vec<f64> = (0..64).map(|i| 1.0 + (i as f64 * 0.3).sin()).collect();
+    let sequential = line(start.clone(), Weights { values: stencil.clone(), on_rayon: false });
+    let parallel = line(start, Weights { values: stencil, on_rayon: true });
+    let run = |case: &dyn Fn(&mut Vec<u64>) -> twinstep::certificate::CertifiedRun| {
+        let mut per_step = Vec::new();
+        let outcome = case(&mut per_step);
+        (per_step, outcome.clashes, outcome.colouring, outcome.last)
+    };
+    let one = run(&|steps| {
+        certify::<_, 4>(&sequential, 6, CertificateOptions::default(), |_, f| steps.push(f.clashes)).expect("the run")
+    });
+    let threads = run(&|steps| {
+        certify::<_, 4>(&parallel, 6, CertificateOptions::default(), |_, f| steps.push(f.clashes)).expect("the run")
+    });
+    assert!(one.1 > 0, "no list clashed: the test shows nothing");
+    assert_eq!(threads.0, one.0, "clashes per step");
+    assert_eq!(threads.1, one.1, "clashes in total");
+    assert_eq!(threads.2, one.2, "the colouring chosen");
+    assert_eq!(threads.3, one.3, "the last step's facts");
 }

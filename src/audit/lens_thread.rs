@@ -256,10 +256,11 @@ impl<'s, L: AuditLens<F>, S: Scenario<F>, F: ProgramFloat> LensThread<'s, L, S, 
         let facts = certificate.begin(&mut self.twin);
         if plan.certificate.colouring.is_none() {
             let scenario = self.scenario;
+            let _ = collector.take_list_clashes(); // the initial data's, if any
             certificate.choose_colouring(&mut self.twin, |copy| {
                 L::step_unwatched(scenario, copy);
                 let _ = collect(collector);
-                Ok::<(), Error>(())
+                Ok::<u64, Error>(collector.take_list_clashes())
             })?;
         }
         self.certificate = Some(certificate);
@@ -269,8 +270,11 @@ impl<'s, L: AuditLens<F>, S: Scenario<F>, F: ProgramFloat> LensThread<'s, L, S, 
     /// One step `n → n + 1` of the lens, the original and the compiled-literal run, measured.
     fn advance(&mut self, n: u64, collector: &Collector) -> LensStep {
         (self.twin.step, self.original.step) = (n, n);
+        // Clashes a replay of the last step gathered are not this step's.
+        let _ = collector.take_list_clashes();
         L::step_unwatched(self.scenario, &mut self.twin);
         let (events, noted) = collect(collector);
+        let clashes = collector.take_list_clashes();
         self.scenario.step_original(&mut self.original);
         if let Some(compiled) = self.compiled.as_mut() {
             compiled.step = n;
@@ -281,7 +285,7 @@ impl<'s, L: AuditLens<F>, S: Scenario<F>, F: ProgramFloat> LensThread<'s, L, S, 
         let _ = collect(collector);
         self.twin.rotate();
         self.original.rotate();
-        let facts = self.certificate.as_mut().and_then(|c| c.after_step(&mut self.twin, &events));
+        let facts = self.certificate.as_mut().and_then(|c| c.after_step(&mut self.twin, &events, clashes));
         let mut measured = self.observe(n + 1, events, facts);
         if self.trigger.fires(&measured, noted) {
             if let Some(checkpoint) = &self.checkpoint {

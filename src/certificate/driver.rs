@@ -13,7 +13,6 @@ use super::{
 };
 use crate::audit::Levels;
 use crate::events::{EventKind, Site};
-use crate::lens::certified::take_clashes;
 use crate::lens::CertifiedOf;
 
 /// The levels of the unwatched certified lens, by capacity.
@@ -116,8 +115,9 @@ impl DriverCertificate {
         &mut self,
         levels: &mut Levels<T>,
         events: &[(EventKind, Site, u64)],
+        clashes: u64,
     ) -> Option<CertificateFacts> {
-        let step = on_levels!(CertifiedLevels::of(levels)?, |l| self.certificate.after_step(l, events));
+        let step = on_levels!(CertifiedLevels::of(levels)?, |l| self.certificate.after_step(l, events, clashes));
         self.clashes += step.clashes;
         Some(self.facts(step))
     }
@@ -142,7 +142,7 @@ impl DriverCertificate {
     pub fn choose_colouring<T: Clone + 'static, E>(
         &mut self,
         levels: &mut Levels<T>,
-        step: impl FnMut(&mut Levels<T>) -> Result<(), E>,
+        step: impl FnMut(&mut Levels<T>) -> Result<u64, E>,
     ) -> Result<(), E> {
         choose_colouring(&mut self.certificate, levels, step)
     }
@@ -150,11 +150,12 @@ impl DriverCertificate {
 
 /// Tries the first step on a copy of the seeded levels with the current colouring and, if its lists clash, with
 /// each candidate; keeps the one with the fewest clashes (the first on a tie) and re-seeds `levels` with it. `step`
-/// runs one step of the scenario on a copy (and drops the events it recorded).
+/// runs one step of the scenario on a copy, drops the events it recorded and returns its list clashes (from the
+/// lens's collector, so that those on other threads count).
 pub(crate) fn choose_colouring<T: Clone + 'static, E>(
     certificate: &mut Certificate,
     levels: &mut Levels<T>,
-    mut step: impl FnMut(&mut Levels<T>) -> Result<(), E>,
+    mut step: impl FnMut(&mut Levels<T>) -> Result<u64, E>,
 ) -> Result<(), E> {
     if !is_certified::<T>() {
         return Ok(());
@@ -164,9 +165,7 @@ pub(crate) fn choose_colouring<T: Clone + 'static, E>(
         if let Some(l) = CertifiedLevels::of(&mut copy) {
             let _ = on_levels!(l, |l| certificate.recolour(l, colouring.clone()));
         }
-        let _ = take_clashes();
-        step(&mut copy)?;
-        Ok(take_clashes())
+        step(&mut copy)
     };
     let first = certificate.colouring().clone();
     let mut best = (trial(certificate, &first)?, first);

@@ -37,8 +37,9 @@
 //!     levels.step = n;
 //!     scenario.step(&mut levels);                          // the twin, with the (unwatched) certified lens
 //!     let step_events = events.take();                     // the step's events, as the driver takes them
+//!     let clashes = events.take_list_clashes();            // and the list clashes gathered with them
 //!     levels.rotate();
-//!     let facts = certificate.after_step(&mut levels, &step_events); // condenses, anchors, seeds step n + 1
+//!     let facts = certificate.after_step(&mut levels, &step_events, clashes); // condenses, anchors, seeds n + 1
 //!     // measure `levels.current` now: Lens::error_bound is the upper end of the guaranteed interval
 //! }
 //! ```
@@ -54,7 +55,6 @@ mod run;
 
 use crate::audit::Levels;
 use crate::events::{EventKind, Site};
-use crate::lens::certified::take_clashes;
 use crate::lens::CertifiedOf;
 use std::time::{Duration, Instant};
 
@@ -304,7 +304,6 @@ impl Certificate {
     /// double given as exact; the rigorous bound of the computation for initial data computed through the twin,
     /// where every list is empty), then every value is seeded for step 0.
     pub fn begin<const K: usize, const W: bool>(&mut self, levels: &mut Levels<CertifiedOf<K, W>>) -> StepCertificate {
-        let _ = take_clashes();
         let mut radii = std::mem::take(&mut self.radii);
         for (block, (_, _, field)) in self.layout.blocks.iter().zip(fields_mut(levels)) {
             let base = block.base as usize;
@@ -325,16 +324,17 @@ impl Certificate {
         self.facts(fields, 1.0, false, 0)
     }
 
-    /// Condenses every value after a step (call it after the levels have rotated, with the step's events),
+    /// Condenses every value after a step (call it after the levels have rotated, with the step's events and its
+    /// list clashes, both from the lens's [`crate::events::Collector`]: `take`, then `take_list_clashes`),
     /// re-anchors on the backward route when due, and seeds the values for the next step. Returns the step's
     /// facts.
     pub fn after_step<const K: usize, const W: bool>(
         &mut self,
         levels: &mut Levels<CertifiedOf<K, W>>,
         events: &[(EventKind, Site, u64)],
+        clashes: u64,
     ) -> StepCertificate {
         self.step += 1;
-        let clashes = take_clashes();
         let undecided: Vec<_> = events
             .iter()
             .filter(|(kind, _, _)| matches!(kind, EventKind::UndecidedComparison | EventKind::UndecidedIndex))

@@ -91,6 +91,7 @@ where
     let collector = crate::events::Collector::start::<CertifiedOf<K, false>>();
     catch_unwind(AssertUnwindSafe(|| scenario.init(&mut levels))).map_err(panicked(0))??;
     let _ = collector.take();
+    let _ = collector.take_list_clashes();
     let probe_colouring = options.colouring.is_none();
     let mut certificate = Certificate::new(&mut levels, options, Some(steps)).map_err(|e| match e {
         SetupError::TooManyCells | SetupError::ColouringMismatch => {
@@ -108,8 +109,9 @@ where
         levels.step = n;
         catch_unwind(AssertUnwindSafe(|| scenario.step(&mut levels))).map_err(panicked(n))?;
         let events = collector.take();
+        let step_clashes = collector.take_list_clashes();
         levels.rotate();
-        last = certificate.after_step(&mut levels, &events);
+        last = certificate.after_step(&mut levels, &events, step_clashes);
         clashes += last.clashes;
         observe(&levels, &last);
     }
@@ -143,6 +145,6 @@ where
     super::driver::choose_colouring(certificate, levels, |copy| {
         catch_unwind(AssertUnwindSafe(|| scenario.step(copy)))?;
         let _ = collector.take();
-        Ok(())
+        Ok(collector.take_list_clashes())
     })
 }

@@ -47,7 +47,6 @@ use crate::lens::scalar::{Core, Orders};
 use crate::lens::shadow::{big, double_word, Big, ShadowOf};
 use crate::lens::Lens;
 use crate::Constant;
-use core::cell::Cell;
 
 /// The unit roundoff of binary64, u = 2^-53.
 const U: f64 = f64::EPSILON / 2.0;
@@ -109,24 +108,6 @@ fn lost_if_nan(bound: f64) -> f64 {
     } else {
         bound
     }
-}
-
-thread_local! {
-    static CLASHES: Cell<u64> = const { Cell::new(0) };
-}
-
-#[cold]
-#[inline(never)]
-fn note_clash() {
-    CLASHES.with(|c| c.set(c.get() + 1));
-}
-
-/// How many operations on this thread found two different inputs in one slot since the last call (each charged
-/// the dropped entries to the remainder), and resets the count. The runner reads it after each step, so that a
-/// colouring that makes neighbours share a slot shows.
-#[must_use]
-pub fn take_clashes() -> u64 {
-    CLASHES.with(|c| c.replace(0))
 }
 
 /// A value with its double-word shadow and the affine form that bounds the shadow's distance from exact arithmetic
@@ -354,7 +335,7 @@ impl<const K: usize, const W: bool> CertifiedOf<K, W> {
             coefs[k] = if clashes { alpha * cx } else { both };
         }
         if clash {
-            note_clash();
+            crate::events::note_list_clash::<Self>();
         }
         (ids, coefs, clash)
     }
