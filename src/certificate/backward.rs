@@ -9,11 +9,15 @@
 //!
 //! `|eᴺ_t| ≤ |w̃⁰|·D⁰ + Σₖ |w̃ᵏ⁺¹|·(Mₖ + γₖ Fₖ)`,
 //!
-//! where `γₖ` bounds the relative rounding of the sums `w̃ᵏ_j = Σ_i c̃_ij w̃ᵏ⁺¹_i` (`γ_n = nu/(1 − nu)` for `n`
-//! fused multiply-adds, Higham §3.1, from memory; `n` the largest number of rows that touch one column), so that
+//! where `γₖ` bounds the relative rounding of the sums `w̃ᵏ_j = Σ_i c̃_ij w̃ᵏ⁺¹_i` (`γ_n = nu/(1 − nu)` for a sum
+//! of `n` products, each added by a fused multiply-add or by a product and a sum — `eft::mul_acc`, fused where the
+//! target has an FMA; the first sum, onto 0, is exact, so no term meets more than `n` roundings; Higham §3.1,
+//! from memory; `n` the largest number of rows that touch one column), so that
 //! `|J̃ₖᵀw̃ᵏ⁺¹ − w̃ᵏ|·Dᵏ ≤ γₖ |w̃ᵏ⁺¹|·|J̃ₖ| Dᵏ = γₖ |w̃ᵏ⁺¹|·Fₖ`. No absolute value of a coefficient is taken before
 //! the sums over paths: the bound grows like the products of `J̃`, not of `|J̃|`. All targets are swept at once
 //! (a dense matrix, targets × ids), so one sweep back over `N` steps costs `N × nnz × ids` fused multiply-adds.
+
+use crate::lens::eft::mul_acc;
 
 /// The rows of one step, in compressed sparse row form.
 #[derive(Clone, Debug, Default)]
@@ -91,7 +95,7 @@ impl Tape {
             .iter()
             .zip(&self.spreads)
             .map(|(&m, &f)| {
-                let l = gamma.mul_add(f, m) * (1.0 + 4.0 * U);
+                let l = mul_acc(gamma, f, m) * (1.0 + 4.0 * U);
                 if l.is_nan() {
                     f64::INFINITY
                 } else {
@@ -139,14 +143,14 @@ impl Tape {
                 let local = rows.local[i];
                 if local != 0.0 {
                     for (acc, &x) in accumulated.iter_mut().zip(wi) {
-                        *acc = x.abs().mul_add(local, *acc); // Σ |w̃ᵏ⁺¹_i| (M_i + γF_i)
+                        *acc = mul_acc(x.abs(), local, *acc); // Σ |w̃ᵏ⁺¹_i| (M_i + γF_i)
                     }
                 }
                 let (from, to) = (rows.starts[i] as usize, rows.starts[i + 1] as usize);
                 for (&j, &c) in rows.cols[from..to].iter().zip(&rows.coefs[from..to]) {
                     let Some(target) = back.get_mut(j as usize * n..(j as usize + 1) * n) else { continue };
                     for (b, &x) in target.iter_mut().zip(wi) {
-                        *b = c.mul_add(x, *b); // w̃ᵏ_j += c̃_ij w̃ᵏ⁺¹_i
+                        *b = mul_acc(c, x, *b); // w̃ᵏ_j += c̃_ij w̃ᵏ⁺¹_i
                     }
                 }
                 work += ((to - from) as u64 + 1) * n as u64;
@@ -159,14 +163,16 @@ impl Tape {
             let d = self.initial[j];
             if d != 0.0 {
                 for (acc, &x) in accumulated.iter_mut().zip(wj) {
-                    *acc = x.abs().mul_add(d, *acc); // |w̃⁰|·D⁰
+                    *acc = mul_acc(x.abs(), d, *acc); // |w̃⁰|·D⁰
                 }
             }
         }
         terms += n as f64;
-        // The accumulations are sums of `terms` non-negative products, each rounded (fused: once per term):
-        // relative error ≤ γ_terms ≤ 2·terms·u while terms·u < 1/4 (Higham §3.1, from memory); then what
-        // underflow may have lost, and a normal floor for the last roundings.
+        // The accumulations are sums of `terms` non-negative products, each rounded once (fused) or twice (a
+        // product, then the sum; the first sum, onto 0, is exact): relative error ≤ γ_terms ≤ 2·terms·u while
+        // terms·u < 1/4 either way (Higham §3.1 and §3.4, from memory); then what underflow may have lost (a
+        // product that underflows loses at most η/2, fused or not; a sum whose result is subnormal is exact), and
+        // a normal floor for the last roundings.
         let max_initial = self.initial.iter().copied().fold(0.0, f64::max);
         let inflation = 1.0 + 2.0 * (terms + 2.0) * U;
         let floor =
@@ -174,7 +180,7 @@ impl Tape {
         let bounds = accumulated
             .into_iter()
             .map(|b| {
-                let b = b.mul_add(inflation, floor);
+                let b = mul_acc(b, inflation, floor);
                 if b.is_nan() || terms * U > 0.25 {
                     f64::INFINITY
                 } else {

@@ -41,7 +41,7 @@
 //! keep a rigorous value without coefficients (both are 1-Lipschitz), see [`CertifiedOf::select`].
 
 use crate::events::{record, EventKind};
-use crate::lens::eft::{next_down, next_up, two_prod, DoubleWord};
+use crate::lens::eft::{mul_acc, next_down, next_up, two_prod, DoubleWord};
 use crate::lens::reference::{constant_reference, Reference};
 use crate::lens::scalar::{Core, Orders};
 use crate::lens::shadow::{big, double_word, Big, ShadowOf};
@@ -52,12 +52,17 @@ use crate::Constant;
 const U: f64 = f64::EPSILON / 2.0;
 /// u², the scale of the shadow's errors.
 const U2: f64 = U * U;
-/// 1 + 64u: with the final fused operation of [`up`], an upper bound of any non-negative formula of at most 60
-/// roundings ((1 − u)^61·(1 + 64u) > 1; Higham, *Accuracy and Stability of Numerical Algorithms*, 2nd ed., §3.1,
-/// from memory).
+/// 1 + 64u: with the final multiply-add of [`up`] (one rounding where the target has a hardware FMA, two where
+/// not: `eft::mul_acc`), an upper bound of any non-negative formula of at most 60 roundings
+/// ((1 − u)^62·(1 + 64u) ≥ (1 − 62u)(1 + 64u) > 1; Higham, *Accuracy and Stability of Numerical Algorithms*, 2nd
+/// ed., §3.1, from memory).
+///
+/// Every multiply-add of the bounds and coefficients below is `mul_acc`, whose analysis covers both ways: a build
+/// with no `-C target-cpu` flag has no hardware FMA, and `f64::mul_add` there is a call into a software `fma`
+/// (measured: an eighth of a certified audit of the demo).
 const INFLATION: f64 = 1.0 + 64.0 * U;
 /// The absolute term of every bound with a non-zero ingredient, 2^-1019: covers the η/2 = 2^-1075 an underflowing
-/// product may lose at each of those 60 roundings, and stays normal (subnormal bounds cost a microcode assist, see
+/// product may lose at each of those 62 roundings, and stays normal (subnormal bounds cost a microcode assist, see
 /// `Bound`'s floor).
 const FLOOR: f64 = 8.0 * f64::MIN_POSITIVE;
 /// Relative accuracy allowed for a 160-bit evaluation and its argument's rounding to 160 bits (2^-160 each; the
@@ -69,7 +74,7 @@ const HIGH_PRECISION: f64 = 7.888609052210118e-31; // 2^-100 · 2^-50 = 2^-150
 /// is 0 and so is the bound (an operation on exact values stays exact).
 #[inline(always)]
 fn up(total: f64, ingredients: f64) -> f64 {
-    let bound = total.mul_add(INFLATION, FLOOR);
+    let bound = mul_acc(total, INFLATION, FLOOR);
     if ingredients == 0.0 {
         0.0
     } else {
@@ -224,7 +229,7 @@ impl<const K: usize, const W: bool> CertifiedOf<K, W> {
             return (0.0, 0.0);
         }
         // Both ends from non-negative finite terms (`radius` is finite here): the branch-free steps suffice.
-        let slack = next_up_nonnegative((U * (w.abs() + e.abs())).mul_add(INFLATION, FLOOR) + radius);
+        let slack = next_up_nonnegative(mul_acc(U * (w.abs() + e.abs()), INFLATION, FLOOR) + radius);
         let upper = next_up_nonnegative(e.abs() + slack);
         let lower = next_down_to_nonnegative(e.abs() - slack);
         (lower, upper)
@@ -310,15 +315,17 @@ impl<const K: usize, const W: bool> CertifiedOf<K, W> {
         if radius.is_nan() || !hi.is_finite() {
             return (f64::NEG_INFINITY, f64::INFINITY);
         }
-        // c = RN(hi + lo) is within u|c| of the shadow; R ≤ radius·(1 + u).
+        // c = RN(hi + lo) is within u|c| of the shadow; R ≤ radius·(1 + u); at most three roundings before the
+        // ends step outward: (1 − u)³(1 + 4u) > 1.
         let c = hi + lo;
-        let r = (radius + U * c.abs()).mul_add(1.0 + 4.0 * U, FLOOR);
+        let r = mul_acc(radius + U * c.abs(), 1.0 + 4.0 * U, FLOOR);
         (next_down(c - r), next_up(c + r))
     }
 
     /// The list of `α̃·x + β̃·y`, slot by slot, and whether a slot held two different inputs (then `x`'s entry is
-    /// kept and `y`'s dropped; the caller charges `|β|·A_y`). Each coefficient is `fma(α̃, cx, β̃·cy)`, two
-    /// roundings.
+    /// kept and `y`'s dropped; the caller charges `|β|·A_y`). Each coefficient is `mul_acc(α̃, cx, β̃·cy)`, two
+    /// roundings with a hardware FMA and three without: within `u(2 + u)(|α̃ cx| + |β̃ cy|)` of `α̃ cx + β̃ cy`
+    /// either way, and at most `(1 + u)²(|α̃ cx| + |β̃ cy|)` in size.
     #[inline(always)]
     fn combine(&self, alpha: f64, y: &Self, beta: f64) -> ([u32; K], [f64; K], bool) {
         let mut ids = [0u32; K];
@@ -331,7 +338,7 @@ impl<const K: usize, const W: bool> CertifiedOf<K, W> {
             let clashes = !same & x_has & y_has;
             clash |= clashes;
             ids[k] = if !same & !x_has { y.ids[k] } else { self.ids[k] };
-            let both = alpha.mul_add(cx, beta * cy);
+            let both = mul_acc(alpha, cx, beta * cy);
             coefs[k] = if clashes { alpha * cx } else { both };
         }
         if clash {
@@ -364,14 +371,14 @@ impl<const K: usize, const W: bool> CertifiedOf<K, W> {
     ) -> Self {
         let (ids, coefs, clash) = x.combine(alpha, y, beta);
         let (a, b) = (alpha.abs(), beta.abs());
-        let spread = a.mul_add(x.linear, b * y.linear);
+        let spread = mul_acc(a, x.linear, b * y.linear);
         let linear = up(spread, x.linear + y.linear);
         let dropped = if clash { (b + beta_err) * y.linear } else { 0.0 };
         let total = local
             + (a + alpha_err) * x.remainder
             + (b + beta_err) * y.remainder
-            + (3.0 * U).mul_add(a, alpha_err) * x.linear
-            + (3.0 * U).mul_add(b, beta_err) * y.linear
+            + mul_acc(3.0 * U, a, alpha_err) * x.linear
+            + mul_acc(3.0 * U, b, beta_err) * y.linear
             + dropped;
         let ingredients = local_ingredients + x.remainder + y.remainder + x.linear + y.linear;
         // A NaN bound (∞ − ∞, 0·∞) propagates; the readers (`radius`, `ball`, the condensation) take it as lost.
@@ -446,8 +453,8 @@ impl<const K: usize, const W: bool> CertifiedOf<K, W> {
         // |shadow − f(x̃)|: rounding to double-word (≤ u|lo| ≤ 2u²|hi|) plus the 160-bit evaluation and the
         // argument's rounding (≤ 2^-150(|f| + |f′||x̃|) with room to spare).
         let rounding =
-            (2.0 * U2).mul_add(shadow.hi.abs(), HIGH_PRECISION * (shadow.hi.abs() + alpha.abs() * x.hi.abs()));
-        let alpha_err = (2.0 * U).mul_add(alpha.abs(), HIGH_PRECISION * (alpha.abs() + curvature * x.hi.abs()));
+            mul_acc(2.0 * U2, shadow.hi.abs(), HIGH_PRECISION * (shadow.hi.abs() + alpha.abs() * x.hi.abs()));
+        let alpha_err = mul_acc(2.0 * U, alpha.abs(), HIGH_PRECISION * (alpha.abs() + curvature * x.hi.abs()));
         let second_order = 0.5 * curvature * radius * radius;
         let ingredients = shadow.hi.abs() + x.hi.abs() + radius;
         let none = Self::exact(0.0);
@@ -590,7 +597,7 @@ impl<const K: usize, const W: bool> Core for CertifiedOf<K, W> {
         // x y − x̃ỹ = ỹ(x − x̃) + x̃(y − ỹ) + (x − x̃)(y − ỹ): α = ỹ ≈ yh (error |yl|), β = x̃ ≈ xh (error |xl|),
         // second order ≤ R_x·R_y; the double-word product errs by ≤ 4u² relative (JMP 2017), 6u² allowed.
         let second_order = self.ball_radius() * rhs.ball_radius();
-        let local = (6.0 * U2).mul_add(shadow.hi.abs(), second_order);
+        let local = mul_acc(6.0 * U2, shadow.hi.abs(), second_order);
         let ingredients = x.hi.abs().min(y.hi.abs()) + self.ball_radius().min(rhs.ball_radius());
         Self::affine(
             self.primal * rhs.primal,
@@ -627,8 +634,8 @@ impl<const K: usize, const W: bool> Core for CertifiedOf<K, W> {
         let alpha = 1.0 / y.hi;
         let beta = -(shadow.hi * alpha);
         let q = shadow.hi.abs() * (1.0 + 4.0 * U);
-        let second_order = (q.mul_add(ry, rx) * ry) * (alpha.abs() * (1.0 + 8.0 * U)) / gap;
-        let local = (24.0 * U2).mul_add(shadow.hi.abs(), second_order);
+        let second_order = (mul_acc(q, ry, rx) * ry) * (alpha.abs() * (1.0 + 8.0 * U)) / gap;
+        let local = mul_acc(24.0 * U2, shadow.hi.abs(), second_order);
         let ingredients = x.hi.abs() + ry;
         Self::affine(
             primal,
