@@ -87,64 +87,69 @@ fn with_hint(what: &str, error: syn::Error, hint: &str) -> syn::Error {
 }
 
 impl Parse for Options {
+    /// Every argument is read, so that all the wrong ones are reported in one build: after an error the rest of that
+    /// argument (up to the next comma) is skipped and the next one is read.
     fn parse(input: ParseStream) -> syn::Result<Options> {
         let mut options = Options::default();
+        let mut errors: Option<syn::Error> = None;
         while !input.is_empty() {
-            // `calls` is peeked outside the lookahead so that the "expected one of …" message of a wrong argument
-            // keeps listing the options most kernels need.
-            let listed = if input.peek(kw::calls) {
-                input.parse::<kw::calls>()?;
-                options.calls.extend(parse_list::<Ident>(input)?.iter().map(Ident::to_string));
-                true
-            } else if input.peek(kw::structs) {
-                input.parse::<kw::structs>()?;
-                options.structs.extend(parse_list::<Ident>(input)?.iter().map(Ident::to_string));
-                true
-            } else if input.peek(kw::bounds) {
-                input.parse::<kw::bounds>()?;
-                options.bounds.extend(parse_list::<syn::Path>(input)?);
-                true
-            } else if input.peek(kw::methods_only) {
-                input.parse::<kw::methods_only>()?;
-                options.methods_only = true;
-                true
-            } else {
-                false
-            };
-            if listed {
-                if input.is_empty() {
-                    break;
+            if let Err(error) = parse_argument(input, &mut options) {
+                match errors.as_mut() {
+                    Some(all) => all.combine(error),
+                    None => errors = Some(error),
                 }
-                input.parse::<Token![,]>()?;
-                continue;
-            }
-            let lookahead = input.lookahead1();
-            if lookahead.peek(kw::float) {
-                input.parse::<kw::float>()?;
-                input.parse::<Token![=]>()?;
-                options.base = parse_float(input)?;
-            } else if lookahead.peek(kw::alias) {
-                input.parse::<kw::alias>()?;
-                input.parse::<Token![=]>()?;
-                let name: Ident = input.parse()?;
-                options.aliases.push(name.to_string());
-            } else if lookahead.peek(kw::f64) || lookahead.peek(kw::f32) {
-                options.base = parse_float(input)?;
-            } else {
-                return Err(with_hint(
-                    "unknown `#[twinstep::audit]` argument",
-                    lookahead.error(),
-                    "write `#[twinstep::audit]`, `#[twinstep::audit(float = f32)]` or \
-                     `#[twinstep::audit(alias = Real)]`",
-                ));
+                while !input.is_empty() && !input.peek(Token![,]) {
+                    input.parse::<proc_macro2::TokenTree>()?;
+                }
             }
             if input.is_empty() {
                 break;
             }
             input.parse::<Token![,]>()?;
         }
-        Ok(options)
+        errors.map_or(Ok(options), Err)
     }
+}
+
+/// One argument, up to (not including) the comma after it.
+fn parse_argument(input: ParseStream, options: &mut Options) -> syn::Result<()> {
+    // `calls` and the other list arguments are peeked outside the lookahead so that the "expected one of …"
+    // message of a wrong argument keeps listing the options most kernels need.
+    if input.peek(kw::calls) {
+        input.parse::<kw::calls>()?;
+        options.calls.extend(parse_list::<Ident>(input)?.iter().map(Ident::to_string));
+    } else if input.peek(kw::structs) {
+        input.parse::<kw::structs>()?;
+        options.structs.extend(parse_list::<Ident>(input)?.iter().map(Ident::to_string));
+    } else if input.peek(kw::bounds) {
+        input.parse::<kw::bounds>()?;
+        options.bounds.extend(parse_list::<syn::Path>(input)?);
+    } else if input.peek(kw::methods_only) {
+        input.parse::<kw::methods_only>()?;
+        options.methods_only = true;
+    } else {
+        let lookahead = input.lookahead1();
+        if lookahead.peek(kw::float) {
+            input.parse::<kw::float>()?;
+            input.parse::<Token![=]>()?;
+            options.base = parse_float(input)?;
+        } else if lookahead.peek(kw::alias) {
+            input.parse::<kw::alias>()?;
+            input.parse::<Token![=]>()?;
+            let name: Ident = input.parse()?;
+            options.aliases.push(name.to_string());
+        } else if lookahead.peek(kw::f64) || lookahead.peek(kw::f32) {
+            options.base = parse_float(input)?;
+        } else {
+            return Err(with_hint(
+                "unknown `#[twinstep::audit]` argument",
+                lookahead.error(),
+                "write `#[twinstep::audit]`, `#[twinstep::audit(float = f32)]` or \
+                 `#[twinstep::audit(alias = Real)]`",
+            ));
+        }
+    }
+    Ok(())
 }
 
 #[cfg(test)]
@@ -181,6 +186,16 @@ mod tests {
         assert!(options.methods_only);
         assert!(parse("bounds = Float").is_err());
         assert!(parse("methods_only = true").is_err());
+    }
+
+    #[test]
+    fn every_wrong_argument_is_reported_at_once() {
+        let error = parse("tolerance = 1e-12, float = f16, calls = [flux], precision").expect_err("three wrong");
+        let messages: Vec<String> = error.into_iter().map(|e| e.to_string()).collect();
+        assert_eq!(messages.len(), 3, "{messages:?}");
+        assert!(messages[0].starts_with("unknown `#[twinstep::audit]` argument"), "{messages:?}");
+        assert!(messages[1].starts_with("unsupported float type"), "{messages:?}");
+        assert!(messages[2].starts_with("unknown `#[twinstep::audit]` argument"), "{messages:?}");
     }
 
     #[test]
