@@ -365,6 +365,25 @@ where
     twice.saturating_sub(once) / steps as u32
 }
 
+/// The certified rows of the 2-D diffusion kernel on an `n × n` grid, `steps` steps for the f64 original: the
+/// kernel alone at K = 8, a certified run (against `target`), and, where the levels reach
+/// [`twinstep::certificate::PARALLEL_IDS`] ids, the same run with the pass on one thread.
+fn report_certified_diffusion(n: usize, steps: usize, target: Option<f64>) {
+    let original = time_kernel::<f64>(n * n, steps, |u, out| diffusion_2d(u, out, n, 0.2));
+    let kernel = time_kernel::<CertifiedUnwatched>(n * n, steps / 4, |u, out| {
+        diffusion_2d_twin(u, out, n, CertifiedUnwatched::from_f64(0.2))
+    });
+    let mut rows = vec![
+        ("K=8 kernel", kernel, None),
+        ("K=8 run", time_certified::<_, 8>(&Plate { n }, steps as u64 / 4, true), target),
+    ];
+    // Two levels of n² ids each.
+    if 2 * n * n >= twinstep::certificate::PARALLEL_IDS {
+        rows.push(("K=8 1 thread", time_certified::<_, 8>(&Plate { n }, steps as u64 / 4, false), None));
+    }
+    report(&format!("certified, 2-D diffusion, {n}×{n}"), original, None, &rows);
+}
+
 fn main() {
     const CELLS: usize = 100_000;
     const GRID: usize = 512;
@@ -446,35 +465,11 @@ fn main() {
             ("K=8 run", time_certified::<_, 8>(&Rod { cells: CELLS }, heat_steps as u64 / 8, true), None),
         ];
         report("certified, 1-D heat, 10^5 cells", original, None, &rows);
-        let original = time_kernel::<f64>(GRID * GRID, diffusion_steps, |u, out| diffusion_2d(u, out, GRID, 0.2));
-        let rows = [
-            (
-                "K=8 kernel",
-                time_kernel::<CertifiedUnwatched>(GRID * GRID, diffusion_steps / 4, |u, out| {
-                    diffusion_2d_twin(u, out, GRID, CertifiedUnwatched::from_f64(0.2))
-                }),
-                None,
-            ),
-            ("K=8 run", time_certified::<_, 8>(&Plate { n: GRID }, diffusion_steps as u64 / 4, true), Some(40.0)),
-            ("K=8 1 thread", time_certified::<_, 8>(&Plate { n: GRID }, diffusion_steps as u64 / 4, false), None),
-        ];
-        report("certified, 2-D diffusion, 512×512", original, None, &rows);
+        report_certified_diffusion(GRID, diffusion_steps, Some(40.0));
         // The same kernel on a grid whose certified values fit in the caches (64² values of 136 bytes, 0.6 MB per
         // level): what the lens's arithmetic costs when memory does not limit the pass.
         const SMALL: usize = 64;
-        let small_steps = diffusion_steps * (GRID / SMALL) * (GRID / SMALL);
-        let original = time_kernel::<f64>(SMALL * SMALL, small_steps, |u, out| diffusion_2d(u, out, SMALL, 0.2));
-        let rows = [
-            (
-                "K=8 kernel",
-                time_kernel::<CertifiedUnwatched>(SMALL * SMALL, small_steps / 4, |u, out| {
-                    diffusion_2d_twin(u, out, SMALL, CertifiedUnwatched::from_f64(0.2))
-                }),
-                None,
-            ),
-            ("K=8 run", time_certified::<_, 8>(&Plate { n: SMALL }, small_steps as u64 / 4, true), None),
-        ];
-        report("certified, 2-D diffusion, 64×64", original, None, &rows);
+        report_certified_diffusion(SMALL, diffusion_steps * (GRID / SMALL) * (GRID / SMALL), None);
     }
 
     // The backward route at 10⁴ steps: a leapfrog string of 32 points (three levels, 96 ids), where ρ(|J|) ≈ 2.4

@@ -270,7 +270,8 @@ impl<'s, L: AuditLens<F>, S: Scenario<F>, F: ProgramFloat> LensThread<'s, L, S, 
     /// One step `n → n + 1` of the lens, the original and the compiled-literal run, measured.
     fn advance(&mut self, n: u64, collector: &Collector) -> LensStep {
         (self.twin.step, self.original.step) = (n, n);
-        // Clashes a replay of the last step gathered are not this step's.
+        // The list clashes that the last step's compiled-literal run and replay gathered (the same lens type) are
+        // not this step's.
         let _ = collector.take_list_clashes();
         L::step_unwatched(self.scenario, &mut self.twin);
         let (events, noted) = collect(collector);

@@ -592,7 +592,7 @@ impl Condensed {
 }
 
 impl Pass<'_> {
-    /// Condenses a run of values (and seeds them with [`Pass::seed`]); with `summarize`, also summarizes them;
+    /// Condenses a run of values and, when the pass seeds, seeds them and (with `summarize`) summarizes them;
     /// with a tape, records their rows.
     #[inline]
     fn condense<const K: usize, const W: bool>(
